@@ -1,0 +1,1115 @@
+//! Formulas for H(q, p, t; parameters): parsed with meval, compiled to a flat
+//! tape of slot-indexed operations, evaluated in plain `f64` or in dual numbers
+//! that carry exact first and second derivatives.
+//!
+//! Slots: 0 = q, 1 = p, 2 = t, 3.. = parameters in order of first appearance.
+//! No string is looked up while evaluating.
+
+use meval::tokenizer::{Operation, ParseError, Token};
+use num_dual::DualNum;
+use std::fmt;
+
+/// Slot index of the coordinate q.
+pub const SLOT_Q: usize = 0;
+/// Slot index of the momentum p.
+pub const SLOT_P: usize = 1;
+/// Slot index of time t.
+pub const SLOT_T: usize = 2;
+/// Slot index of the first parameter.
+pub const FIRST_PARAM_SLOT: usize = 3;
+
+/// Longest formula text accepted, in bytes.
+pub const MAX_SOURCE_BYTES: usize = 64 * 1024;
+/// Longest compiled tape accepted, in operations.
+pub const MAX_TAPE_OPS: usize = 20_000;
+/// Most parameters a formula may name.
+pub const MAX_PARAMS: usize = 64;
+/// Largest integer exponent compiled to repeated multiplication.
+const MAX_FAST_POWER: f64 = 64.0;
+
+/// One-argument functions.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Fun1 {
+    Sin,
+    Cos,
+    Tan,
+    Exp,
+    Ln,
+    Sqrt,
+    Abs,
+    Sinh,
+    Cosh,
+    Tanh,
+    Asin,
+    Acos,
+    Atan,
+    Floor,
+    Ceil,
+    Round,
+    Signum,
+}
+
+/// Two-argument functions (min and max accept more, folded pairwise).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Fun2 {
+    Atan2,
+    Min,
+    Max,
+}
+
+/// One tape operation. The tape is postfix: operands are on a stack.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Op {
+    Const(f64),
+    Slot(u32),
+    Neg,
+    Add,
+    Sub,
+    Mul,
+    Div,
+    Rem,
+    /// Real power, both sides may vary.
+    Pow,
+    /// Integer power with a constant exponent (repeated multiplication).
+    PowI(i32),
+    /// Real power with a constant exponent.
+    PowF(f64),
+    F1(Fun1),
+    F2(Fun2),
+}
+
+#[derive(Clone, Copy)]
+enum FnKind {
+    One(Fun1),
+    Two(Fun2),
+    Many(Fun2),
+}
+
+/// The functions a formula may call: name, kind, and whether derivatives are
+/// zero or undefined (these raise a warning).
+const FUNCTIONS: &[(&str, FnKind, bool)] = &[
+    ("sin", FnKind::One(Fun1::Sin), false),
+    ("cos", FnKind::One(Fun1::Cos), false),
+    ("tan", FnKind::One(Fun1::Tan), false),
+    ("exp", FnKind::One(Fun1::Exp), false),
+    ("ln", FnKind::One(Fun1::Ln), false),
+    ("sqrt", FnKind::One(Fun1::Sqrt), false),
+    ("abs", FnKind::One(Fun1::Abs), false),
+    ("sinh", FnKind::One(Fun1::Sinh), false),
+    ("cosh", FnKind::One(Fun1::Cosh), false),
+    ("tanh", FnKind::One(Fun1::Tanh), false),
+    ("asin", FnKind::One(Fun1::Asin), false),
+    ("acos", FnKind::One(Fun1::Acos), false),
+    ("atan", FnKind::One(Fun1::Atan), false),
+    ("atan2", FnKind::Two(Fun2::Atan2), false),
+    ("min", FnKind::Many(Fun2::Min), false),
+    ("max", FnKind::Many(Fun2::Max), false),
+    ("floor", FnKind::One(Fun1::Floor), true),
+    ("ceil", FnKind::One(Fun1::Ceil), true),
+    ("round", FnKind::One(Fun1::Round), true),
+    ("signum", FnKind::One(Fun1::Signum), true),
+];
+
+/// The names of all functions a formula may call, comma separated.
+pub fn function_names() -> String {
+    FUNCTIONS.iter().map(|f| f.0).collect::<Vec<_>>().join(", ")
+}
+
+/// What went wrong while compiling a formula.
+#[derive(Clone, Debug, PartialEq)]
+pub enum FormulaErrorKind {
+    Empty,
+    TooLong,
+    Syntax,
+    UnknownFunction(String),
+    WrongArgumentCount { function: String, expected: String, found: usize },
+    VariableCalled(String),
+    BadNumber,
+    TooManyParameters,
+}
+
+/// A formula that does not compile: what, and where (1-based line and column,
+/// counted in characters).
+#[derive(Clone, Debug, PartialEq)]
+pub struct FormulaError {
+    pub kind: FormulaErrorKind,
+    pub message: String,
+    pub line: usize,
+    pub column: Option<usize>,
+}
+
+impl FormulaError {
+    fn new(kind: FormulaErrorKind, message: String, pos: Option<Pos>) -> Self {
+        let (line, column) = match pos {
+            Some(p) => (p.line, Some(p.column)),
+            None => (1, None),
+        };
+        FormulaError { kind, message, line, column }
+    }
+}
+
+impl fmt::Display for FormulaError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.column {
+            Some(c) if self.line > 1 => write!(f, "{} at line {}, column {}", self.message, self.line, c),
+            Some(c) => write!(f, "{} at column {}", self.message, c),
+            None => f.write_str(&self.message),
+        }
+    }
+}
+
+impl std::error::Error for FormulaError {}
+
+/// Something that compiles but deserves the user's attention.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FormulaWarning {
+    pub message: String,
+    pub line: usize,
+    pub column: Option<usize>,
+}
+
+impl fmt::Display for FormulaWarning {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.column {
+            Some(c) => write!(f, "{} (line {}, column {})", self.message, self.line, c),
+            None => f.write_str(&self.message),
+        }
+    }
+}
+
+#[derive(Clone, Copy, Debug, PartialEq)]
+struct Pos {
+    line: usize,
+    column: usize,
+}
+
+/// A compiled formula.
+#[derive(Clone, Debug)]
+pub struct Formula {
+    source: String,
+    ops: Vec<Op>,
+    params: Vec<String>,
+    warnings: Vec<FormulaWarning>,
+    max_depth: usize,
+    uses: [bool; 3],
+    separable: bool,
+}
+
+impl Formula {
+    /// Parse and compile `source`. Never panics; every rejection says what and where.
+    pub fn compile(source: &str) -> Result<Formula, FormulaError> {
+        if source.len() > MAX_SOURCE_BYTES {
+            return Err(FormulaError::new(
+                FormulaErrorKind::TooLong,
+                format!(
+                    "the formula is {} bytes long; at most {} are accepted",
+                    source.len(),
+                    MAX_SOURCE_BYTES
+                ),
+                None,
+            ));
+        }
+        if let Some((i, ch)) = source.char_indices().find(|(_, c)| !c.is_ascii()) {
+            return Err(FormulaError::new(
+                FormulaErrorKind::Syntax,
+                format!("the character '{ch}' is not part of the formula language"),
+                Some(pos_of(source, i)),
+            ));
+        }
+        if source.trim().is_empty() {
+            return Err(FormulaError::new(
+                FormulaErrorKind::Empty,
+                "the formula is empty; write H in terms of q and p, e.g. p^2/2 + q^2/2".into(),
+                None,
+            ));
+        }
+        let tokens = meval::tokenizer::tokenize(source).map_err(|e| tokenizer_error(source, e))?;
+        let spans = token_spans(source);
+        let spans = if spans.len() == tokens.len() { Some(spans) } else { None };
+        let token_pos = |i: usize| spans.as_ref().and_then(|s| s.get(i)).map(|&b| pos_of(source, b));
+        let rpn = meval::shunting_yard::to_rpn(&tokens).map_err(|e| {
+            use meval::RPNError::*;
+            let (msg, at) = match e {
+                MismatchedLParen(i) => ("this '(' is never closed".to_string(), Some(i)),
+                MismatchedRParen(i) => ("this ')' has no matching '('".to_string(), Some(i)),
+                UnexpectedComma(i) => ("a ',' may only separate a function's arguments".to_string(), Some(i)),
+                NotEnoughOperands(i) => ("an operator is missing a value".to_string(), Some(i)),
+                TooManyOperands => ("two values stand side by side without an operator".to_string(), None),
+            };
+            FormulaError::new(FormulaErrorKind::Syntax, msg, at.and_then(token_pos))
+        })?;
+        // Where each function call sits, in the order the postfix form emits
+        // calls: the order in which their closing parentheses arrive.
+        let mut open: Vec<Option<usize>> = Vec::new();
+        let mut func_positions: Vec<Option<Pos>> = Vec::new();
+        for (i, t) in tokens.iter().enumerate() {
+            match t {
+                Token::Func(..) => open.push(Some(i)),
+                Token::LParen => open.push(None),
+                Token::RParen => {
+                    if let Some(Some(f)) = open.pop() {
+                        func_positions.push(token_pos(f));
+                    }
+                }
+                _ => {}
+            }
+        }
+        Compiler::new(source, func_positions).run(&rpn)
+    }
+
+    /// The text the formula was compiled from.
+    pub fn source(&self) -> &str {
+        &self.source
+    }
+
+    /// Parameter names in order of first appearance.
+    pub fn params(&self) -> &[String] {
+        &self.params
+    }
+
+    /// The index of a parameter by name.
+    pub fn param_index(&self, name: &str) -> Option<usize> {
+        self.params.iter().position(|p| p == name)
+    }
+
+    /// Warnings raised while compiling (functions without useful derivatives).
+    pub fn warnings(&self) -> &[FormulaWarning] {
+        &self.warnings
+    }
+
+    /// The compiled tape.
+    pub fn ops(&self) -> &[Op] {
+        &self.ops
+    }
+
+    /// Number of slots an evaluation needs: q, p, t and the parameters.
+    pub fn slot_count(&self) -> usize {
+        FIRST_PARAM_SLOT + self.params.len()
+    }
+
+    pub fn uses_q(&self) -> bool {
+        self.uses[SLOT_Q]
+    }
+
+    pub fn uses_p(&self) -> bool {
+        self.uses[SLOT_P]
+    }
+
+    pub fn uses_t(&self) -> bool {
+        self.uses[SLOT_T]
+    }
+
+    /// True when H = T(p) + V(q): no additive term mixes q and p.
+    pub fn is_separable(&self) -> bool {
+        self.separable
+    }
+
+    /// Evaluate with slot values `slots` (q, p, t, parameters...). Generic over
+    /// `f64` and num-dual's dual numbers; the same tape serves both.
+    pub fn eval<D: DualNum<Primitive = f64> + Copy>(&self, slots: &[D]) -> D {
+        if self.max_depth <= 8 {
+            self.eval_in::<D, 8>(slots)
+        } else if self.max_depth <= 32 {
+            self.eval_in::<D, 32>(slots)
+        } else {
+            let mut stack = vec![D::zero(); self.max_depth];
+            run_tape(&self.ops, slots, &mut stack)
+        }
+    }
+
+    fn eval_in<D: DualNum<Primitive = f64> + Copy, const N: usize>(&self, slots: &[D]) -> D {
+        let mut stack = [D::zero(); N];
+        run_tape(&self.ops, slots, &mut stack)
+    }
+
+    /// Evaluate in plain `f64`.
+    pub fn eval_f64(&self, slots: &[f64]) -> f64 {
+        self.eval::<f64>(slots)
+    }
+
+    /// A program for fast evaluation over many points at fixed t and
+    /// parameter values, with everything that does not depend on q or p folded.
+    pub fn specialize(&self, t: f64, params: &[f64]) -> RowProgram {
+        RowProgram::build(self, t, params)
+    }
+}
+
+/// Run the tape on a caller-provided stack (at least `max_depth` long).
+fn run_tape<D: DualNum<Primitive = f64> + Copy>(ops: &[Op], slots: &[D], stack: &mut [D]) -> D {
+    let mut sp = 0usize;
+    for op in ops {
+        match *op {
+            Op::Const(c) => {
+                stack[sp] = D::from(c);
+                sp += 1;
+            }
+            Op::Slot(s) => {
+                stack[sp] = slots[s as usize];
+                sp += 1;
+            }
+            Op::Neg => stack[sp - 1] = -stack[sp - 1],
+            Op::PowI(n) => stack[sp - 1] = stack[sp - 1].powi(n),
+            Op::PowF(c) => stack[sp - 1] = powf(stack[sp - 1], c),
+            Op::F1(f) => stack[sp - 1] = apply1(f, stack[sp - 1]),
+            Op::Add | Op::Sub | Op::Mul | Op::Div | Op::Rem | Op::Pow | Op::F2(_) => {
+                let b = stack[sp - 1];
+                let a = stack[sp - 2];
+                sp -= 1;
+                stack[sp - 1] = apply2(op, a, b);
+            }
+        }
+    }
+    stack[0]
+}
+
+#[inline]
+fn powf<D: DualNum<Primitive = f64> + Copy>(x: D, c: f64) -> D {
+    if c == 0.5 { x.sqrt() } else { x.powf(c) }
+}
+
+#[inline]
+fn apply1<D: DualNum<Primitive = f64> + Copy>(f: Fun1, x: D) -> D {
+    match f {
+        Fun1::Sin => x.sin(),
+        Fun1::Cos => x.cos(),
+        Fun1::Tan => x.tan(),
+        Fun1::Exp => x.exp(),
+        Fun1::Ln => x.ln(),
+        Fun1::Sqrt => x.sqrt(),
+        Fun1::Abs => x.abs(),
+        Fun1::Sinh => x.sinh(),
+        Fun1::Cosh => x.cosh(),
+        Fun1::Tanh => x.tanh(),
+        Fun1::Asin => x.asin(),
+        Fun1::Acos => x.acos(),
+        Fun1::Atan => x.atan(),
+        Fun1::Floor => D::from(x.re().floor()),
+        Fun1::Ceil => D::from(x.re().ceil()),
+        Fun1::Round => D::from(x.re().round()),
+        Fun1::Signum => {
+            let r = x.re();
+            D::from(if r > 0.0 {
+                1.0
+            } else if r < 0.0 {
+                -1.0
+            } else if r == 0.0 {
+                0.0
+            } else {
+                f64::NAN
+            })
+        }
+    }
+}
+
+#[inline]
+fn apply2<D: DualNum<Primitive = f64> + Copy>(op: &Op, a: D, b: D) -> D {
+    match *op {
+        Op::Add => a + b,
+        Op::Sub => a - b,
+        Op::Mul => a * b,
+        Op::Div => a / b,
+        // a − b·trunc(a/b): derivative 1 in a and −trunc(a/b) in b between jumps.
+        Op::Rem => a - b * D::from((a.re() / b.re()).trunc()),
+        Op::Pow => a.powd(b),
+        Op::F2(Fun2::Atan2) => a.atan2(b),
+        Op::F2(Fun2::Min) => pick(a, b, |x, y| x <= y),
+        Op::F2(Fun2::Max) => pick(a, b, |x, y| x >= y),
+        _ => D::from(f64::NAN),
+    }
+}
+
+#[inline]
+fn pick<D: DualNum<Primitive = f64> + Copy>(a: D, b: D, first: impl Fn(f64, f64) -> bool) -> D {
+    let (x, y) = (a.re(), b.re());
+    if x.is_nan() || y.is_nan() {
+        D::from(f64::NAN)
+    } else if first(x, y) {
+        a
+    } else {
+        b
+    }
+}
+
+fn pos_of(source: &str, byte: usize) -> Pos {
+    let byte = byte.min(source.len());
+    let before = &source.as_bytes()[..byte];
+    let line = 1 + before.iter().filter(|&&b| b == b'\n').count();
+    let line_start = before.iter().rposition(|&b| b == b'\n').map(|i| i + 1).unwrap_or(0);
+    let column = 1 + String::from_utf8_lossy(&before[line_start..]).chars().count();
+    Pos { line, column }
+}
+
+/// Byte offsets at which each meval token starts, by the same lexical rules
+/// meval uses (numbers, identifiers, single-character symbols). Only used to
+/// place messages; if it disagrees with meval's token count it is not used.
+fn token_spans(source: &str) -> Vec<usize> {
+    let b = source.as_bytes();
+    let mut out = Vec::new();
+    let mut i = 0;
+    while i < b.len() {
+        let c = b[i];
+        if c.is_ascii_whitespace() {
+            i += 1;
+        } else if c.is_ascii_digit() {
+            out.push(i);
+            while i < b.len() && b[i].is_ascii_digit() {
+                i += 1;
+            }
+            if i < b.len() && b[i] == b'.' {
+                i += 1;
+                while i < b.len() && b[i].is_ascii_digit() {
+                    i += 1;
+                }
+            }
+            if i < b.len() && (b[i] == b'e' || b[i] == b'E') {
+                let mut j = i + 1;
+                if j < b.len() && (b[j] == b'+' || b[j] == b'-') {
+                    j += 1;
+                }
+                if j < b.len() && b[j].is_ascii_digit() {
+                    while j < b.len() && b[j].is_ascii_digit() {
+                        j += 1;
+                    }
+                    i = j;
+                }
+            }
+        } else if c.is_ascii_alphabetic() || c == b'_' {
+            out.push(i);
+            while i < b.len() && (b[i].is_ascii_alphanumeric() || b[i] == b'_') {
+                i += 1;
+            }
+            // meval folds "name (" into one function token
+            let mut j = i;
+            while j < b.len() && b[j].is_ascii_whitespace() {
+                j += 1;
+            }
+            if j < b.len() && b[j] == b'(' {
+                i = j + 1;
+            }
+        } else {
+            out.push(i);
+            i += 1;
+        }
+    }
+    out
+}
+
+fn describe_char(c: u8) -> String {
+    match c {
+        b'\n' => "a line break".into(),
+        _ => format!("'{}'", c as char),
+    }
+}
+
+fn tokenizer_error(source: &str, e: ParseError) -> FormulaError {
+    let b = source.as_bytes();
+    let last_non_space = |end: usize| b[..end.min(b.len())].iter().rposition(|c| !c.is_ascii_whitespace());
+    match e {
+        ParseError::UnexpectedToken(at) => {
+            let mut at = at.min(b.len());
+            while at < b.len() && b[at].is_ascii_whitespace() {
+                at += 1;
+            }
+            let found = b.get(at).copied();
+            let prev = last_non_space(at).map(|i| b[i]);
+            let found_txt = found.map(describe_char).unwrap_or_else(|| "the end".into());
+            let msg = match prev {
+                None => format!("expected a value at the start, found {found_txt}"),
+                Some(pc) if b"+-*/^%(,".contains(&pc) => {
+                    format!("expected a value after '{}', found {found_txt}", pc as char)
+                }
+                Some(pc) => match found {
+                    Some(fc) if fc.is_ascii_alphanumeric() || fc == b'_' || fc == b'(' || fc == b'.' => {
+                        let prev_word = word_before(source, at);
+                        format!(
+                            "an operator is missing between '{}' and {found_txt} (write * for a product)",
+                            if prev_word.is_empty() { (pc as char).to_string() } else { prev_word }
+                        )
+                    }
+                    Some(b')') => "this ')' has no matching '('".to_string(),
+                    Some(b',') => "a ',' may only separate a function's arguments".to_string(),
+                    _ => format!("{found_txt} is not part of the formula language"),
+                },
+            };
+            FormulaError::new(FormulaErrorKind::Syntax, msg, Some(pos_of(source, at)))
+        }
+        ParseError::MissingRParen(n) => FormulaError::new(
+            FormulaErrorKind::Syntax,
+            if n == 1 {
+                "a ')' is missing at the end".to_string()
+            } else {
+                format!("{n} ')' are missing at the end")
+            },
+            Some(pos_of(source, source.trim_end().len())),
+        ),
+        ParseError::MissingArgument => {
+            let end = source.trim_end().len();
+            let msg = match last_non_space(end).map(|i| b[i]) {
+                Some(pc) => format!("expected a value after '{}'; the formula ends there", pc as char),
+                None => "the formula is empty".to_string(),
+            };
+            FormulaError::new(FormulaErrorKind::Syntax, msg, Some(pos_of(source, end)))
+        }
+    }
+}
+
+fn word_before(source: &str, at: usize) -> String {
+    let b = source.as_bytes();
+    let mut end = at;
+    while end > 0 && b[end - 1].is_ascii_whitespace() {
+        end -= 1;
+    }
+    let mut start = end;
+    while start > 0 && (b[start - 1].is_ascii_alphanumeric() || b[start - 1] == b'_' || b[start - 1] == b'.') {
+        start -= 1;
+    }
+    source[start..end].to_string()
+}
+
+/// Turns meval's postfix tokens into our tape, folding constants as it goes.
+struct Compiler<'a> {
+    source: &'a str,
+    func_positions: Vec<Option<Pos>>,
+    next_func: usize,
+    ops: Vec<Op>,
+    /// Per stack entry: its constant value when it is a single folded constant.
+    consts: Vec<Option<f64>>,
+    /// Per stack entry: bit 0 = depends on q, bit 1 = depends on p.
+    deps: Vec<u8>,
+    /// Per stack entry: whether it is a sum of terms none of which mixes q and p.
+    sep: Vec<bool>,
+    params: Vec<String>,
+    warnings: Vec<FormulaWarning>,
+    depth: usize,
+    max_depth: usize,
+    uses: [bool; 3],
+}
+
+impl<'a> Compiler<'a> {
+    fn new(source: &'a str, func_positions: Vec<Option<Pos>>) -> Self {
+        Compiler {
+            source,
+            func_positions,
+            next_func: 0,
+            ops: Vec::new(),
+            consts: Vec::new(),
+            deps: Vec::new(),
+            sep: Vec::new(),
+            params: Vec::new(),
+            warnings: Vec::new(),
+            depth: 0,
+            max_depth: 0,
+            uses: [false; 3],
+        }
+    }
+
+    /// Position of the next call in postfix order.
+    fn next_func_pos(&mut self) -> Option<Pos> {
+        let p = self.func_positions.get(self.next_func).copied().flatten();
+        self.next_func += 1;
+        p
+    }
+
+    fn push(&mut self, op: Op, konst: Option<f64>, deps: u8) {
+        self.ops.push(op);
+        self.consts.push(konst);
+        self.deps.push(deps);
+        self.sep.push(deps != 3);
+        self.depth += 1;
+        self.max_depth = self.max_depth.max(self.depth);
+    }
+
+    fn too_long(&self) -> Result<(), FormulaError> {
+        if self.ops.len() > MAX_TAPE_OPS {
+            return Err(FormulaError::new(
+                FormulaErrorKind::TooLong,
+                format!("the formula compiles to more than {MAX_TAPE_OPS} operations"),
+                None,
+            ));
+        }
+        Ok(())
+    }
+
+    fn syntax(&self, msg: &str) -> FormulaError {
+        FormulaError::new(FormulaErrorKind::Syntax, msg.to_string(), None)
+    }
+
+    /// Apply an operation to the top `arity` stack entries, folding if all are constant.
+    fn apply(&mut self, op: Op, arity: usize) -> Result<(), FormulaError> {
+        if self.consts.len() < arity {
+            return Err(self.syntax("an operator is missing a value"));
+        }
+        let base = self.consts.len() - arity;
+        let all_const: Option<Vec<f64>> = self.consts[base..].iter().copied().collect();
+        let deps = self.deps[base..].iter().fold(0u8, |a, &d| a | d);
+        let sep_in: Vec<bool> = self.sep[base..].to_vec();
+        let arg_deps: Vec<u8> = self.deps[base..].to_vec();
+        if let Some(vals) = all_const {
+            // every operand is exactly one Const op at the end of the tape
+            let slots: Vec<f64> = Vec::new();
+            let mut tape: Vec<Op> = vals.iter().map(|&v| Op::Const(v)).collect();
+            tape.push(op);
+            let mut stack = vec![0.0; arity.max(1)];
+            let v = run_tape(&tape, &slots, &mut stack);
+            for _ in 0..arity {
+                self.ops.pop();
+                self.consts.pop();
+                self.deps.pop();
+                self.sep.pop();
+                self.depth -= 1;
+            }
+            self.push(Op::Const(v), Some(v), 0);
+            return Ok(());
+        }
+        // integer or constant real exponent
+        if op == Op::Pow {
+            if let Some(c) = self.consts[base + 1] {
+                self.ops.pop();
+                self.consts.pop();
+                self.deps.pop();
+                self.sep.pop();
+                self.depth -= 1;
+                let fast = if c.fract() == 0.0 && c.abs() <= MAX_FAST_POWER {
+                    Op::PowI(c as i32)
+                } else {
+                    Op::PowF(c)
+                };
+                self.ops.push(fast);
+                let last = self.consts.len() - 1;
+                self.consts[last] = None;
+                self.sep[last] = self.deps[last] != 3;
+                return self.too_long();
+            }
+        }
+        self.ops.push(op);
+        for _ in 0..arity {
+            self.consts.pop();
+            self.deps.pop();
+            self.sep.pop();
+        }
+        self.depth = self.depth + 1 - arity;
+        // separability: sums and differences of separable parts stay separable;
+        // so do products with, and quotients by, a q- and p-free factor.
+        let sep = match (op, arity) {
+            (Op::Add | Op::Sub, 2) => sep_in[0] && sep_in[1],
+            (Op::Neg, 1) => sep_in[0],
+            (Op::Mul, 2) => (arg_deps[0] == 0 && sep_in[1]) || (arg_deps[1] == 0 && sep_in[0]),
+            (Op::Div, 2) => arg_deps[1] == 0 && sep_in[0],
+            _ => deps != 3,
+        };
+        self.consts.push(None);
+        self.deps.push(deps);
+        self.sep.push(sep);
+        self.too_long()
+    }
+
+    fn run(mut self, rpn: &[Token]) -> Result<Formula, FormulaError> {
+        for tok in rpn {
+            match tok {
+                Token::Number(x) => {
+                    if !x.is_finite() {
+                        return Err(FormulaError::new(
+                            FormulaErrorKind::BadNumber,
+                            "a number in the formula is too large to represent".into(),
+                            None,
+                        ));
+                    }
+                    self.push(Op::Const(*x), Some(*x), 0);
+                }
+                Token::Var(name) => match name.as_str() {
+                    "q" => {
+                        self.uses[SLOT_Q] = true;
+                        self.push(Op::Slot(SLOT_Q as u32), None, 1);
+                    }
+                    "p" => {
+                        self.uses[SLOT_P] = true;
+                        self.push(Op::Slot(SLOT_P as u32), None, 2);
+                    }
+                    "t" => {
+                        self.uses[SLOT_T] = true;
+                        self.push(Op::Slot(SLOT_T as u32), None, 0);
+                    }
+                    "pi" => self.push(Op::Const(std::f64::consts::PI), Some(std::f64::consts::PI), 0),
+                    "e" => self.push(Op::Const(std::f64::consts::E), Some(std::f64::consts::E), 0),
+                    _ => {
+                        let idx = match self.params.iter().position(|p| p == name) {
+                            Some(i) => i,
+                            None => {
+                                if self.params.len() >= MAX_PARAMS {
+                                    return Err(FormulaError::new(
+                                        FormulaErrorKind::TooManyParameters,
+                                        format!("the formula names more than {MAX_PARAMS} parameters"),
+                                        None,
+                                    ));
+                                }
+                                self.params.push(name.clone());
+                                self.params.len() - 1
+                            }
+                        };
+                        self.push(Op::Slot((FIRST_PARAM_SLOT + idx) as u32), None, 0);
+                    }
+                },
+                Token::Unary(Operation::Minus) => self.apply(Op::Neg, 1)?,
+                Token::Unary(_) => {}
+                Token::Binary(op) => {
+                    let op = match op {
+                        Operation::Plus => Op::Add,
+                        Operation::Minus => Op::Sub,
+                        Operation::Times => Op::Mul,
+                        Operation::Div => Op::Div,
+                        Operation::Pow => Op::Pow,
+                        Operation::Rem => {
+                            let pos = self.source.find('%').map(|b| pos_of(self.source, b));
+                            self.warn_zero_derivative("%", pos);
+                            Op::Rem
+                        }
+                    };
+                    self.apply(op, 2)?;
+                }
+                Token::Func(name, nargs) => self.call(name, nargs.unwrap_or(0))?,
+                Token::LParen | Token::RParen | Token::Comma => {
+                    return Err(self.syntax("unbalanced parentheses"));
+                }
+            }
+            self.too_long()?;
+        }
+        if self.consts.len() != 1 {
+            return Err(self.syntax("two values stand side by side without an operator"));
+        }
+        let separable = self.sep[0];
+        Ok(Formula {
+            source: self.source.to_string(),
+            ops: self.ops,
+            params: self.params,
+            warnings: self.warnings,
+            max_depth: self.max_depth.max(1),
+            uses: self.uses,
+            separable,
+        })
+    }
+
+    fn warn_zero_derivative(&mut self, what: &str, pos: Option<Pos>) {
+        let message = format!(
+            "'{what}' is piecewise constant or jumps: its derivatives are zero or undefined, \
+             so equilibria and orbits near its jumps are unreliable"
+        );
+        if !self.warnings.iter().any(|w| w.message == message) {
+            self.warnings.push(FormulaWarning {
+                message,
+                line: pos.map(|p| p.line).unwrap_or(1),
+                column: pos.map(|p| p.column),
+            });
+        }
+    }
+
+    fn call(&mut self, name: &str, nargs: usize) -> Result<(), FormulaError> {
+        let pos = self.next_func_pos();
+        let entry = FUNCTIONS.iter().find(|f| f.0 == name);
+        let Some(&(_, kind, warn)) = entry else {
+            let kind;
+            let message = if matches!(name, "q" | "p" | "t") || self.params.iter().any(|p| p == name) {
+                kind = FormulaErrorKind::VariableCalled(name.to_string());
+                format!("'{name}' is a variable, not a function; write {name}*(...) for a product")
+            } else {
+                kind = FormulaErrorKind::UnknownFunction(name.to_string());
+                format!("unknown function '{name}'; available: {}", function_names())
+            };
+            return Err(FormulaError::new(kind, message, pos));
+        };
+        if warn {
+            self.warn_zero_derivative(name, pos);
+        }
+        let wrong = |expected: &str| {
+            FormulaError::new(
+                FormulaErrorKind::WrongArgumentCount {
+                    function: name.to_string(),
+                    expected: expected.to_string(),
+                    found: nargs,
+                },
+                format!(
+                    "'{name}' takes {expected} argument{}, but {nargs} {} given",
+                    if expected == "1" { "" } else { "s" },
+                    if nargs == 1 { "was" } else { "were" }
+                ),
+                pos,
+            )
+        };
+        match kind {
+            FnKind::One(f) => {
+                if nargs != 1 {
+                    return Err(wrong("1"));
+                }
+                self.apply(Op::F1(f), 1)
+            }
+            FnKind::Two(f) => {
+                if nargs != 2 {
+                    return Err(wrong("2"));
+                }
+                self.apply(Op::F2(f), 2)
+            }
+            FnKind::Many(f) => {
+                if nargs < 2 {
+                    return Err(wrong("2 or more"));
+                }
+                // arguments are on the stack in order; fold right to left
+                for _ in 1..nargs {
+                    self.apply(Op::F2(f), 2)?;
+                }
+                Ok(())
+            }
+        }
+    }
+}
+
+/// Number of points evaluated together by a [`RowProgram`].
+pub const CHUNK: usize = 256;
+
+#[derive(Clone, Copy, Debug)]
+enum Bin {
+    Add,
+    Sub,
+    Mul,
+    Div,
+    Rem,
+    Pow,
+    F2(Fun2),
+}
+
+#[derive(Clone, Copy, Debug)]
+enum ROp {
+    Q,
+    P,
+    Fill(f64),
+    Neg,
+    PowI(i32),
+    PowF(f64),
+    F1(Fun1),
+    VV(Bin),
+    VC(Bin, f64),
+    CV(Bin, f64),
+}
+
+/// A formula specialised to fixed t and parameters, evaluated over many
+/// (q, p) points at once: one dispatch per operation per chunk of points.
+#[derive(Clone, Debug)]
+pub struct RowProgram {
+    ops: Vec<ROp>,
+    depth: usize,
+    constant: Option<f64>,
+}
+
+impl RowProgram {
+    fn build(f: &Formula, t: f64, params: &[f64]) -> RowProgram {
+        // Each stack entry: Ok(constant) or Err(()) for "varies with q or p".
+        let mut stack: Vec<Result<f64, ()>> = Vec::new();
+        let mut ops = Vec::new();
+        let mut depth = 0usize;
+        let mut vdepth = 0usize;
+        let slot_const = |s: usize| -> Option<f64> {
+            match s {
+                SLOT_Q | SLOT_P => None,
+                SLOT_T => Some(t),
+                k => Some(params.get(k - FIRST_PARAM_SLOT).copied().unwrap_or(f64::NAN)),
+            }
+        };
+        let fold = |op: Op, args: &[f64]| -> f64 {
+            let mut tape: Vec<Op> = args.iter().map(|&v| Op::Const(v)).collect();
+            tape.push(op);
+            let mut st = [0.0; 2];
+            run_tape(&tape, &[], &mut st)
+        };
+        for &op in &f.ops {
+            match op {
+                Op::Const(c) => stack.push(Ok(c)),
+                Op::Slot(s) => match slot_const(s as usize) {
+                    Some(c) => stack.push(Ok(c)),
+                    None => {
+                        ops.push(if s as usize == SLOT_Q { ROp::Q } else { ROp::P });
+                        stack.push(Err(()));
+                        vdepth += 1;
+                    }
+                },
+                Op::Neg | Op::PowI(_) | Op::PowF(_) | Op::F1(_) => {
+                    let a = stack.pop().unwrap_or(Ok(f64::NAN));
+                    match a {
+                        Ok(c) => stack.push(Ok(fold(op, &[c]))),
+                        Err(()) => {
+                            ops.push(match op {
+                                Op::Neg => ROp::Neg,
+                                Op::PowI(n) => ROp::PowI(n),
+                                Op::PowF(c) => ROp::PowF(c),
+                                Op::F1(g) => ROp::F1(g),
+                                _ => unreachable!(),
+                            });
+                            stack.push(Err(()));
+                        }
+                    }
+                }
+                Op::Add | Op::Sub | Op::Mul | Op::Div | Op::Rem | Op::Pow | Op::F2(_) => {
+                    let b = stack.pop().unwrap_or(Ok(f64::NAN));
+                    let a = stack.pop().unwrap_or(Ok(f64::NAN));
+                    let bin = match op {
+                        Op::Add => Bin::Add,
+                        Op::Sub => Bin::Sub,
+                        Op::Mul => Bin::Mul,
+                        Op::Div => Bin::Div,
+                        Op::Rem => Bin::Rem,
+                        Op::Pow => Bin::Pow,
+                        Op::F2(g) => Bin::F2(g),
+                        _ => unreachable!(),
+                    };
+                    match (a, b) {
+                        (Ok(x), Ok(y)) => stack.push(Ok(fold(op, &[x, y]))),
+                        (Err(()), Ok(y)) => {
+                            ops.push(match bin {
+                                Bin::Pow if y.fract() == 0.0 && y.abs() <= MAX_FAST_POWER => ROp::PowI(y as i32),
+                                Bin::Pow => ROp::PowF(y),
+                                _ => ROp::VC(bin, y),
+                            });
+                            stack.push(Err(()));
+                        }
+                        (Ok(x), Err(())) => {
+                            ops.push(ROp::CV(bin, x));
+                            stack.push(Err(()));
+                        }
+                        (Err(()), Err(())) => {
+                            ops.push(ROp::VV(bin));
+                            stack.push(Err(()));
+                            vdepth -= 1;
+                        }
+                    }
+                }
+            }
+            depth = depth.max(vdepth);
+        }
+        let constant = match stack.first() {
+            Some(Ok(c)) => Some(*c),
+            _ => None,
+        };
+        if let Some(c) = constant {
+            ops = vec![ROp::Fill(c)];
+            depth = 1;
+        }
+        RowProgram { ops, depth: depth.max(1), constant }
+    }
+
+    /// The value when H does not depend on q or p at all.
+    pub fn constant(&self) -> Option<f64> {
+        self.constant
+    }
+
+    /// H at the points (q[i], p[i]), written to `out[i]`. All three slices have one length.
+    pub fn eval_points(&self, q: &[f64], p: &[f64], out: &mut [f64]) {
+        let n = q.len().min(p.len()).min(out.len());
+        let mut stack = vec![[0.0f64; CHUNK]; self.depth];
+        let mut start = 0;
+        while start < n {
+            let m = (n - start).min(CHUNK);
+            self.eval_chunk(&q[start..start + m], &p[start..start + m], &mut stack, &mut out[start..start + m]);
+            start += m;
+        }
+    }
+
+    /// H along a row of constant p: q values `q`, written to `out`.
+    pub fn eval_row(&self, q: &[f64], p: f64, out: &mut [f64]) {
+        let n = q.len().min(out.len());
+        let pv = [p; CHUNK];
+        let mut stack = vec![[0.0f64; CHUNK]; self.depth];
+        let mut start = 0;
+        while start < n {
+            let m = (n - start).min(CHUNK);
+            self.eval_chunk(&q[start..start + m], &pv[..m], &mut stack, &mut out[start..start + m]);
+            start += m;
+        }
+    }
+
+    fn eval_chunk(&self, q: &[f64], p: &[f64], stack: &mut [[f64; CHUNK]], out: &mut [f64]) {
+        let m = q.len();
+        let mut sp = 0usize;
+        for op in &self.ops {
+            match *op {
+                ROp::Q => {
+                    stack[sp][..m].copy_from_slice(q);
+                    sp += 1;
+                }
+                ROp::P => {
+                    stack[sp][..m].copy_from_slice(&p[..m]);
+                    sp += 1;
+                }
+                ROp::Fill(c) => {
+                    stack[sp][..m].fill(c);
+                    sp += 1;
+                }
+                ROp::Neg => stack[sp - 1][..m].iter_mut().for_each(|x| *x = -*x),
+                ROp::PowI(n) => {
+                    let s = &mut stack[sp - 1][..m];
+                    match n {
+                        2 => s.iter_mut().for_each(|x| *x *= *x),
+                        3 => s.iter_mut().for_each(|x| *x = *x * *x * *x),
+                        4 => s.iter_mut().for_each(|x| {
+                            let y = *x * *x;
+                            *x = y * y
+                        }),
+                        _ => s.iter_mut().for_each(|x| *x = x.powi(n)),
+                    }
+                }
+                ROp::PowF(c) => stack[sp - 1][..m].iter_mut().for_each(|x| *x = powf(*x, c)),
+                ROp::F1(f) => stack[sp - 1][..m].iter_mut().for_each(|x| *x = apply1(f, *x)),
+                ROp::VV(b) => {
+                    let (lo, hi) = stack.split_at_mut(sp - 1);
+                    let a = &mut lo[sp - 2][..m];
+                    let bb = &hi[0][..m];
+                    bin_vv(b, a, bb);
+                    sp -= 1;
+                }
+                ROp::VC(b, c) => bin_vc(b, &mut stack[sp - 1][..m], c),
+                ROp::CV(b, c) => bin_cv(b, c, &mut stack[sp - 1][..m]),
+            }
+        }
+        out[..m].copy_from_slice(&stack[0][..m]);
+    }
+}
+
+fn scalar_bin(b: Bin, x: f64, y: f64) -> f64 {
+    match b {
+        Bin::Add => x + y,
+        Bin::Sub => x - y,
+        Bin::Mul => x * y,
+        Bin::Div => x / y,
+        Bin::Rem => x - y * (x / y).trunc(),
+        Bin::Pow => x.powf(y),
+        Bin::F2(Fun2::Atan2) => x.atan2(y),
+        Bin::F2(Fun2::Min) => pick(x, y, |a, b| a <= b),
+        Bin::F2(Fun2::Max) => pick(x, y, |a, b| a >= b),
+    }
+}
+
+fn bin_vv(b: Bin, a: &mut [f64], c: &[f64]) {
+    match b {
+        Bin::Add => a.iter_mut().zip(c).for_each(|(x, y)| *x += *y),
+        Bin::Sub => a.iter_mut().zip(c).for_each(|(x, y)| *x -= *y),
+        Bin::Mul => a.iter_mut().zip(c).for_each(|(x, y)| *x *= *y),
+        Bin::Div => a.iter_mut().zip(c).for_each(|(x, y)| *x /= *y),
+        _ => a.iter_mut().zip(c).for_each(|(x, y)| *x = scalar_bin(b, *x, *y)),
+    }
+}
+
+fn bin_vc(b: Bin, a: &mut [f64], c: f64) {
+    match b {
+        Bin::Add => a.iter_mut().for_each(|x| *x += c),
+        Bin::Sub => a.iter_mut().for_each(|x| *x -= c),
+        Bin::Mul => a.iter_mut().for_each(|x| *x *= c),
+        Bin::Div => a.iter_mut().for_each(|x| *x /= c),
+        _ => a.iter_mut().for_each(|x| *x = scalar_bin(b, *x, c)),
+    }
+}
+
+fn bin_cv(b: Bin, c: f64, a: &mut [f64]) {
+    match b {
+        Bin::Add => a.iter_mut().for_each(|x| *x += c),
+        Bin::Sub => a.iter_mut().for_each(|x| *x = c - *x),
+        Bin::Mul => a.iter_mut().for_each(|x| *x *= c),
+        Bin::Div => a.iter_mut().for_each(|x| *x = c / *x),
+        _ => a.iter_mut().for_each(|x| *x = scalar_bin(b, c, *x)),
+    }
+}

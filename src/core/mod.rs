@@ -1,0 +1,60 @@
+//! The computational core: pure functions over plain data. Never imports a view
+//! crate (egui, egui_plot, rfd, clap) or touches the file system.
+pub mod analysis;
+pub mod contour;
+pub mod equilibria;
+pub mod formula;
+pub mod system;
+pub mod wells;
+pub mod window;
+
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
+
+/// A shared flag that long computations poll; setting it asks them to stop early.
+#[derive(Clone, Debug, Default)]
+pub struct Cancel(Arc<AtomicBool>);
+
+impl Cancel {
+    pub fn new() -> Self {
+        Cancel::default()
+    }
+
+    /// A flag that is never set (for callers that do not cancel).
+    pub fn never() -> Self {
+        Cancel::default()
+    }
+
+    pub fn cancel(&self) {
+        self.0.store(true, Ordering::Relaxed);
+    }
+
+    pub fn is_cancelled(&self) -> bool {
+        self.0.load(Ordering::Relaxed)
+    }
+}
+
+/// How much a diagnostic matters.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Severity {
+    Info,
+    Warning,
+}
+
+/// A soft problem found while computing: the result is still usable.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct Diagnostic {
+    pub severity: Severity,
+    pub message: String,
+}
+
+impl Diagnostic {
+    pub fn warning(message: impl Into<String>) -> Self {
+        Diagnostic { severity: Severity::Warning, message: message.into() }
+    }
+
+    pub fn info(message: impl Into<String>) -> Self {
+        Diagnostic { severity: Severity::Info, message: message.into() }
+    }
+}

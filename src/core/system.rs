@@ -1,0 +1,297 @@
+//! A Hamiltonian system: a compiled formula H(q, p, t; parameters) with
+//! parameter values. Everything a method needs from H — the energy, the
+//! vector field, its Jacobian, the Hessian, parameter derivatives — comes from
+//! the formula's jet (exact forward-mode derivatives), never from differences.
+
+use super::formula::{FIRST_PARAM_SLOT, Formula, FormulaError, RowProgram, SLOT_P, SLOT_Q, SLOT_T};
+use num_dual::{Dual64, Dual2SVec64, DualNum};
+use std::fmt;
+use std::sync::Arc;
+
+/// H and its first and second derivatives in (q, p) at one point.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Jet {
+    pub h: f64,
+    pub hq: f64,
+    pub hp: f64,
+    pub hqq: f64,
+    pub hqp: f64,
+    pub hpp: f64,
+}
+
+impl Jet {
+    /// det of the Hessian of H (equal to det of the Jacobian of the field).
+    pub fn hessian_det(&self) -> f64 {
+        self.hqq * self.hpp - self.hqp * self.hqp
+    }
+
+    /// The Jacobian of the field (q', p') = (H_p, −H_q): [[H_pq, H_pp], [−H_qq, −H_qp]].
+    pub fn jacobian(&self) -> [[f64; 2]; 2] {
+        [[self.hqp, self.hpp], [-self.hqq, -self.hqp]]
+    }
+
+    /// The field (q', p') = (∂H/∂p, −∂H/∂q).
+    pub fn field(&self) -> [f64; 2] {
+        [self.hp, -self.hq]
+    }
+
+    pub fn is_finite(&self) -> bool {
+        [self.h, self.hq, self.hp, self.hqq, self.hqp, self.hpp].iter().all(|v| v.is_finite())
+    }
+}
+
+/// H and its derivatives in (q, p, μ) where μ is one parameter.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ParamJet {
+    pub h: f64,
+    /// [H_q, H_p, H_μ]
+    pub grad: [f64; 3],
+    /// Hessian in (q, p, μ), symmetric.
+    pub hess: [[f64; 3]; 3],
+}
+
+/// Why a system could not be built.
+#[derive(Clone, Debug, PartialEq)]
+pub enum SystemError {
+    Formula(FormulaError),
+    /// A parameter has no value.
+    MissingParameter(String),
+    /// A parameter value is NaN or infinite.
+    NonFiniteParameter(String, f64),
+}
+
+impl fmt::Display for SystemError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            SystemError::Formula(e) => write!(f, "formula: {e}"),
+            SystemError::MissingParameter(n) => write!(f, "parameter '{n}' has no value"),
+            SystemError::NonFiniteParameter(n, v) => write!(f, "parameter '{n}' is not a finite number ({v})"),
+        }
+    }
+}
+
+impl std::error::Error for SystemError {}
+
+impl From<FormulaError> for SystemError {
+    fn from(e: FormulaError) -> Self {
+        SystemError::Formula(e)
+    }
+}
+
+/// A compiled Hamiltonian with parameter values. Cheap to clone (the formula is shared).
+#[derive(Clone, Debug)]
+pub struct System {
+    formula: Arc<Formula>,
+    params: Vec<f64>,
+}
+
+impl System {
+    /// A system from a compiled formula and one value per parameter, in the formula's order.
+    pub fn new(formula: Arc<Formula>, params: Vec<f64>) -> Result<System, SystemError> {
+        if params.len() < formula.params().len() {
+            return Err(SystemError::MissingParameter(formula.params()[params.len()].clone()));
+        }
+        for (name, &v) in formula.params().iter().zip(&params) {
+            if !v.is_finite() {
+                return Err(SystemError::NonFiniteParameter(name.clone(), v));
+            }
+        }
+        let mut params = params;
+        params.truncate(formula.params().len());
+        Ok(System { formula, params })
+    }
+
+    /// Compile `source` and take parameter values by name; a parameter without
+    /// a value is an error.
+    pub fn from_source(source: &str, values: &[(&str, f64)]) -> Result<System, SystemError> {
+        let formula = Formula::compile(source)?;
+        let mut params = Vec::with_capacity(formula.params().len());
+        for name in formula.params() {
+            match values.iter().find(|(n, _)| n == name) {
+                Some(&(_, v)) => params.push(v),
+                None => return Err(SystemError::MissingParameter(name.clone())),
+            }
+        }
+        System::new(Arc::new(formula), params)
+    }
+
+    pub fn formula(&self) -> &Formula {
+        &self.formula
+    }
+
+    pub fn formula_arc(&self) -> &Arc<Formula> {
+        &self.formula
+    }
+
+    /// Parameter values in the formula's order.
+    pub fn params(&self) -> &[f64] {
+        &self.params
+    }
+
+    /// Value of a parameter by name.
+    pub fn param(&self, name: &str) -> Option<f64> {
+        self.formula.param_index(name).map(|i| self.params[i])
+    }
+
+    /// The same system with parameter `index` set to `value`.
+    pub fn with_param(&self, index: usize, value: f64) -> System {
+        let mut s = self.clone();
+        if let Some(v) = s.params.get_mut(index) {
+            *v = value;
+        }
+        s
+    }
+
+    /// True when H = T(p) + V(q), so explicit splitting methods apply.
+    pub fn is_separable(&self) -> bool {
+        self.formula.is_separable()
+    }
+
+    /// True when H depends on t explicitly (then H is not conserved).
+    pub fn depends_on_time(&self) -> bool {
+        self.formula.uses_t()
+    }
+
+    fn slots<D: DualNum<Primitive = f64> + Copy>(&self, q: D, p: D, t: D) -> SlotBuf<D> {
+        let mut buf = SlotBuf::new(self.params.len());
+        let s = buf.as_mut();
+        s[SLOT_Q] = q;
+        s[SLOT_P] = p;
+        s[SLOT_T] = t;
+        for (i, &v) in self.params.iter().enumerate() {
+            s[FIRST_PARAM_SLOT + i] = D::from(v);
+        }
+        buf
+    }
+
+    /// H(q, p) at t = 0.
+    pub fn energy(&self, q: f64, p: f64) -> f64 {
+        self.energy_t(q, p, 0.0)
+    }
+
+    /// H(q, p, t).
+    pub fn energy_t(&self, q: f64, p: f64, t: f64) -> f64 {
+        let buf = self.slots(q, p, t);
+        self.formula.eval(buf.as_ref())
+    }
+
+    /// (H, ∂H/∂q) at (q, p, t), one forward pass.
+    pub fn dh_dq(&self, q: f64, p: f64, t: f64) -> (f64, f64) {
+        let buf = self.slots(Dual64::new(q, 1.0), Dual64::from(p), Dual64::from(t));
+        let r = self.formula.eval(buf.as_ref());
+        (r.re, r.eps)
+    }
+
+    /// (H, ∂H/∂p) at (q, p, t), one forward pass.
+    pub fn dh_dp(&self, q: f64, p: f64, t: f64) -> (f64, f64) {
+        let buf = self.slots(Dual64::from(q), Dual64::new(p, 1.0), Dual64::from(t));
+        let r = self.formula.eval(buf.as_ref());
+        (r.re, r.eps)
+    }
+
+    /// The vector field (q', p') = (∂H/∂p, −∂H/∂q) at (q, p, t).
+    pub fn field_t(&self, q: f64, p: f64, t: f64) -> [f64; 2] {
+        [self.dh_dp(q, p, t).1, -self.dh_dq(q, p, t).1]
+    }
+
+    /// The vector field at t = 0.
+    pub fn field(&self, q: f64, p: f64) -> [f64; 2] {
+        self.field_t(q, p, 0.0)
+    }
+
+    /// [∂H/∂q, ∂H/∂p] at t = 0.
+    pub fn gradient(&self, q: f64, p: f64) -> [f64; 2] {
+        let j = self.jet(q, p);
+        [j.hq, j.hp]
+    }
+
+    /// H with first and second derivatives at (q, p, t), one forward pass.
+    pub fn jet_t(&self, q: f64, p: f64, t: f64) -> Jet {
+        let buf = self.slots(
+            Dual2SVec64::<2>::from_re(q).derivative(0),
+            Dual2SVec64::<2>::from_re(p).derivative(1),
+            Dual2SVec64::<2>::from(t),
+        );
+        let r = self.formula.eval(buf.as_ref());
+        let g = |i: usize| r.v1.0.as_ref().map(|m| m[i]).unwrap_or(0.0);
+        let hh = |i: usize, j: usize| r.v2.0.as_ref().map(|m| m[(i, j)]).unwrap_or(0.0);
+        Jet { h: r.re, hq: g(0), hp: g(1), hqq: hh(0, 0), hqp: hh(0, 1), hpp: hh(1, 1) }
+    }
+
+    /// H with first and second derivatives at (q, p), t = 0.
+    pub fn jet(&self, q: f64, p: f64) -> Jet {
+        self.jet_t(q, p, 0.0)
+    }
+
+    /// The Hessian of H at (q, p): [[H_qq, H_qp], [H_qp, H_pp]].
+    pub fn hessian(&self, q: f64, p: f64) -> [[f64; 2]; 2] {
+        let j = self.jet(q, p);
+        [[j.hqq, j.hqp], [j.hqp, j.hpp]]
+    }
+
+    /// The Jacobian of the field at (q, p).
+    pub fn jacobian(&self, q: f64, p: f64) -> [[f64; 2]; 2] {
+        self.jet(q, p).jacobian()
+    }
+
+    /// H with derivatives in (q, p, μ) where μ is parameter `param` (t = 0).
+    /// Used by continuation, which needs ∂/∂μ exactly.
+    pub fn param_jet(&self, q: f64, p: f64, param: usize) -> ParamJet {
+        let mut buf = self.slots(
+            Dual2SVec64::<3>::from_re(q).derivative(0),
+            Dual2SVec64::<3>::from_re(p).derivative(1),
+            Dual2SVec64::<3>::from(0.0),
+        );
+        if let Some(v) = self.params.get(param) {
+            buf.as_mut()[FIRST_PARAM_SLOT + param] = Dual2SVec64::<3>::from_re(*v).derivative(2);
+        }
+        let r = self.formula.eval(buf.as_ref());
+        let mut grad = [0.0; 3];
+        let mut hess = [[0.0; 3]; 3];
+        if let Some(m) = r.v1.0.as_ref() {
+            for (i, g) in grad.iter_mut().enumerate() {
+                *g = m[i];
+            }
+        }
+        if let Some(m) = r.v2.0.as_ref() {
+            for (i, row) in hess.iter_mut().enumerate() {
+                for (j, h) in row.iter_mut().enumerate() {
+                    *h = m[(i, j)];
+                }
+            }
+        }
+        ParamJet { h: r.re, grad, hess }
+    }
+
+    /// A fast evaluator of H over many points at t = 0 and the current parameters.
+    pub fn row_program(&self) -> RowProgram {
+        self.formula.specialize(0.0, &self.params)
+    }
+}
+
+/// Slot values on the stack for the usual small parameter counts.
+enum SlotBuf<D> {
+    Small([D; 12], usize),
+    Large(Vec<D>),
+}
+
+impl<D: DualNum<Primitive = f64> + Copy> SlotBuf<D> {
+    fn new(nparams: usize) -> Self {
+        let n = FIRST_PARAM_SLOT + nparams;
+        if n <= 12 { SlotBuf::Small([D::zero(); 12], n) } else { SlotBuf::Large(vec![D::zero(); n]) }
+    }
+
+    fn as_mut(&mut self) -> &mut [D] {
+        match self {
+            SlotBuf::Small(a, n) => &mut a[..*n],
+            SlotBuf::Large(v) => v,
+        }
+    }
+
+    fn as_ref(&self) -> &[D] {
+        match self {
+            SlotBuf::Small(a, n) => &a[..*n],
+            SlotBuf::Large(v) => v,
+        }
+    }
+}
