@@ -2,4 +2,6 @@
 //! systems H(q, p). The core computes; the session module holds the file
 //! format; the command line and the desktop explorer are thin clients.
 pub mod core;
+#[cfg(feature = "gui")]
+pub mod gui;
 pub mod session;
