@@ -55,7 +55,11 @@ pub struct LevelSettings {
 
 impl Default for LevelSettings {
     fn default() -> Self {
-        LevelSettings { count: 24, grid: 256, refine: false }
+        LevelSettings {
+            count: 24,
+            grid: 256,
+            refine: false,
+        }
     }
 }
 

@@ -23,7 +23,12 @@ pub struct AnalysisConfig {
 
 impl Default for AnalysisConfig {
     fn default() -> Self {
-        AnalysisConfig { grid: 256, levels: 24, refine: false, equilibria: EquilibriumConfig::default() }
+        AnalysisConfig {
+            grid: 256,
+            levels: 24,
+            refine: false,
+            equilibria: EquilibriumConfig::default(),
+        }
     }
 }
 

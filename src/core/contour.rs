@@ -39,7 +39,14 @@ pub struct Level {
 /// Sample H over the window on nq × np points (both at least 2).
 pub fn sample_grid(sys: &System, window: &Window, nq: usize, np: usize) -> Grid {
     let _ = sys;
-    Grid { window: *window, nq, np, values: Vec::new(), nonfinite_fraction: 0.0, range: None }
+    Grid {
+        window: *window,
+        nq,
+        np,
+        values: Vec::new(),
+        nonfinite_fraction: 0.0,
+        range: None,
+    }
 }
 
 /// `n` levels evenly spaced strictly inside the grid's range.

@@ -64,7 +64,10 @@ pub struct EquilibriumConfig {
 
 impl Default for EquilibriumConfig {
     fn default() -> Self {
-        EquilibriumConfig { seeds: 48, max_newton: 60 }
+        EquilibriumConfig {
+            seeds: 48,
+            max_newton: 60,
+        }
     }
 }
 
