@@ -122,7 +122,11 @@ pub enum FormulaErrorKind {
     TooLong,
     Syntax,
     UnknownFunction(String),
-    WrongArgumentCount { function: String, expected: String, found: usize },
+    WrongArgumentCount {
+        function: String,
+        expected: String,
+        found: usize,
+    },
     VariableCalled(String),
     BadNumber,
     TooManyParameters,
@@ -144,14 +148,21 @@ impl FormulaError {
             Some(p) => (p.line, Some(p.column)),
             None => (1, None),
         };
-        FormulaError { kind, message, line, column }
+        FormulaError {
+            kind,
+            message,
+            line,
+            column,
+        }
     }
 }
 
 impl fmt::Display for FormulaError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self.column {
-            Some(c) if self.line > 1 => write!(f, "{} at line {}, column {}", self.message, self.line, c),
+            Some(c) if self.line > 1 => {
+                write!(f, "{} at line {}, column {}", self.message, self.line, c)
+            }
             Some(c) => write!(f, "{} at column {}", self.message, c),
             None => f.write_str(&self.message),
         }
@@ -225,16 +236,31 @@ impl Formula {
         }
         let tokens = meval::tokenizer::tokenize(source).map_err(|e| tokenizer_error(source, e))?;
         let spans = token_spans(source);
-        let spans = if spans.len() == tokens.len() { Some(spans) } else { None };
-        let token_pos = |i: usize| spans.as_ref().and_then(|s| s.get(i)).map(|&b| pos_of(source, b));
+        let spans = if spans.len() == tokens.len() {
+            Some(spans)
+        } else {
+            None
+        };
+        let token_pos = |i: usize| {
+            spans
+                .as_ref()
+                .and_then(|s| s.get(i))
+                .map(|&b| pos_of(source, b))
+        };
         let rpn = meval::shunting_yard::to_rpn(&tokens).map_err(|e| {
             use meval::RPNError::*;
             let (msg, at) = match e {
                 MismatchedLParen(i) => ("this '(' is never closed".to_string(), Some(i)),
                 MismatchedRParen(i) => ("this ')' has no matching '('".to_string(), Some(i)),
-                UnexpectedComma(i) => ("a ',' may only separate a function's arguments".to_string(), Some(i)),
+                UnexpectedComma(i) => (
+                    "a ',' may only separate a function's arguments".to_string(),
+                    Some(i),
+                ),
                 NotEnoughOperands(i) => ("an operator is missing a value".to_string(), Some(i)),
-                TooManyOperands => ("two values stand side by side without an operator".to_string(), None),
+                TooManyOperands => (
+                    "two values stand side by side without an operator".to_string(),
+                    None,
+                ),
             };
             FormulaError::new(FormulaErrorKind::Syntax, msg, at.and_then(token_pos))
         })?;
@@ -434,8 +460,14 @@ fn pos_of(source: &str, byte: usize) -> Pos {
     let byte = byte.min(source.len());
     let before = &source.as_bytes()[..byte];
     let line = 1 + before.iter().filter(|&&b| b == b'\n').count();
-    let line_start = before.iter().rposition(|&b| b == b'\n').map(|i| i + 1).unwrap_or(0);
-    let column = 1 + String::from_utf8_lossy(&before[line_start..]).chars().count();
+    let line_start = before
+        .iter()
+        .rposition(|&b| b == b'\n')
+        .map(|i| i + 1)
+        .unwrap_or(0);
+    let column = 1 + String::from_utf8_lossy(&before[line_start..])
+        .chars()
+        .count();
     Pos { line, column }
 }
 
@@ -503,7 +535,11 @@ fn describe_char(c: u8) -> String {
 
 fn tokenizer_error(source: &str, e: ParseError) -> FormulaError {
     let b = source.as_bytes();
-    let last_non_space = |end: usize| b[..end.min(b.len())].iter().rposition(|c| !c.is_ascii_whitespace());
+    let last_non_space = |end: usize| {
+        b[..end.min(b.len())]
+            .iter()
+            .rposition(|c| !c.is_ascii_whitespace())
+    };
     match e {
         ParseError::UnexpectedToken(at) => {
             let mut at = at.min(b.len());
@@ -519,11 +555,17 @@ fn tokenizer_error(source: &str, e: ParseError) -> FormulaError {
                     format!("expected a value after '{}', found {found_txt}", pc as char)
                 }
                 Some(pc) => match found {
-                    Some(fc) if fc.is_ascii_alphanumeric() || fc == b'_' || fc == b'(' || fc == b'.' => {
+                    Some(fc)
+                        if fc.is_ascii_alphanumeric() || fc == b'_' || fc == b'(' || fc == b'.' =>
+                    {
                         let prev_word = word_before(source, at);
                         format!(
                             "an operator is missing between '{}' and {found_txt} (write * for a product)",
-                            if prev_word.is_empty() { (pc as char).to_string() } else { prev_word }
+                            if prev_word.is_empty() {
+                                (pc as char).to_string()
+                            } else {
+                                prev_word
+                            }
                         )
                     }
                     Some(b')') => "this ')' has no matching '('".to_string(),
@@ -545,7 +587,10 @@ fn tokenizer_error(source: &str, e: ParseError) -> FormulaError {
         ParseError::MissingArgument => {
             let end = source.trim_end().len();
             let msg = match last_non_space(end).map(|i| b[i]) {
-                Some(pc) => format!("expected a value after '{}'; the formula ends there", pc as char),
+                Some(pc) => format!(
+                    "expected a value after '{}'; the formula ends there",
+                    pc as char
+                ),
                 None => "the formula is empty".to_string(),
             };
             FormulaError::new(FormulaErrorKind::Syntax, msg, Some(pos_of(source, end)))
@@ -560,7 +605,9 @@ fn word_before(source: &str, at: usize) -> String {
         end -= 1;
     }
     let mut start = end;
-    while start > 0 && (b[start - 1].is_ascii_alphanumeric() || b[start - 1] == b'_' || b[start - 1] == b'.') {
+    while start > 0
+        && (b[start - 1].is_ascii_alphanumeric() || b[start - 1] == b'_' || b[start - 1] == b'.')
+    {
         start -= 1;
     }
     source[start..end].to_string()
@@ -729,7 +776,11 @@ impl<'a> Compiler<'a> {
                         self.uses[SLOT_T] = true;
                         self.push(Op::Slot(SLOT_T as u32), None, 0);
                     }
-                    "pi" => self.push(Op::Const(std::f64::consts::PI), Some(std::f64::consts::PI), 0),
+                    "pi" => self.push(
+                        Op::Const(std::f64::consts::PI),
+                        Some(std::f64::consts::PI),
+                        0,
+                    ),
                     "e" => self.push(Op::Const(std::f64::consts::E), Some(std::f64::consts::E), 0),
                     _ => {
                         let idx = match self.params.iter().position(|p| p == name) {
@@ -738,7 +789,9 @@ impl<'a> Compiler<'a> {
                                 if self.params.len() >= MAX_PARAMS {
                                     return Err(FormulaError::new(
                                         FormulaErrorKind::TooManyParameters,
-                                        format!("the formula names more than {MAX_PARAMS} parameters"),
+                                        format!(
+                                            "the formula names more than {MAX_PARAMS} parameters"
+                                        ),
                                         None,
                                     ));
                                 }
@@ -807,7 +860,9 @@ impl<'a> Compiler<'a> {
         let entry = FUNCTIONS.iter().find(|f| f.0 == name);
         let Some(&(_, kind, warn)) = entry else {
             let kind;
-            let message = if matches!(name, "q" | "p" | "t") || self.params.iter().any(|p| p == name) {
+            let message = if matches!(name, "q" | "p" | "t")
+                || self.params.iter().any(|p| p == name)
+            {
                 kind = FormulaErrorKind::VariableCalled(name.to_string());
                 format!("'{name}' is a variable, not a function; write {name}*(...) for a product")
             } else {
@@ -909,7 +964,12 @@ impl RowProgram {
             match s {
                 SLOT_Q | SLOT_P => None,
                 SLOT_T => Some(t),
-                k => Some(params.get(k - FIRST_PARAM_SLOT).copied().unwrap_or(f64::NAN)),
+                k => Some(
+                    params
+                        .get(k - FIRST_PARAM_SLOT)
+                        .copied()
+                        .unwrap_or(f64::NAN),
+                ),
             }
         };
         let fold = |op: Op, args: &[f64]| -> f64 {
@@ -962,7 +1022,9 @@ impl RowProgram {
                         (Ok(x), Ok(y)) => stack.push(Ok(fold(op, &[x, y]))),
                         (Err(()), Ok(y)) => {
                             ops.push(match bin {
-                                Bin::Pow if y.fract() == 0.0 && y.abs() <= MAX_FAST_POWER => ROp::PowI(y as i32),
+                                Bin::Pow if y.fract() == 0.0 && y.abs() <= MAX_FAST_POWER => {
+                                    ROp::PowI(y as i32)
+                                }
                                 Bin::Pow => ROp::PowF(y),
                                 _ => ROp::VC(bin, y),
                             });
@@ -990,7 +1052,11 @@ impl RowProgram {
             ops = vec![ROp::Fill(c)];
             depth = 1;
         }
-        RowProgram { ops, depth: depth.max(1), constant }
+        RowProgram {
+            ops,
+            depth: depth.max(1),
+            constant,
+        }
     }
 
     /// The value when H does not depend on q or p at all.
@@ -1005,7 +1071,12 @@ impl RowProgram {
         let mut start = 0;
         while start < n {
             let m = (n - start).min(CHUNK);
-            self.eval_chunk(&q[start..start + m], &p[start..start + m], &mut stack, &mut out[start..start + m]);
+            self.eval_chunk(
+                &q[start..start + m],
+                &p[start..start + m],
+                &mut stack,
+                &mut out[start..start + m],
+            );
             start += m;
         }
     }
@@ -1018,7 +1089,12 @@ impl RowProgram {
         let mut start = 0;
         while start < n {
             let m = (n - start).min(CHUNK);
-            self.eval_chunk(&q[start..start + m], &pv[..m], &mut stack, &mut out[start..start + m]);
+            self.eval_chunk(
+                &q[start..start + m],
+                &pv[..m],
+                &mut stack,
+                &mut out[start..start + m],
+            );
             start += m;
         }
     }
@@ -1054,7 +1130,9 @@ impl RowProgram {
                     }
                 }
                 ROp::PowF(c) => stack[sp - 1][..m].iter_mut().for_each(|x| *x = powf(*x, c)),
-                ROp::F1(f) => stack[sp - 1][..m].iter_mut().for_each(|x| *x = apply1(f, *x)),
+                ROp::F1(f) => stack[sp - 1][..m]
+                    .iter_mut()
+                    .for_each(|x| *x = apply1(f, *x)),
                 ROp::VV(b) => {
                     let (lo, hi) = stack.split_at_mut(sp - 1);
                     let a = &mut lo[sp - 2][..m];
@@ -1090,7 +1168,10 @@ fn bin_vv(b: Bin, a: &mut [f64], c: &[f64]) {
         Bin::Sub => a.iter_mut().zip(c).for_each(|(x, y)| *x -= *y),
         Bin::Mul => a.iter_mut().zip(c).for_each(|(x, y)| *x *= *y),
         Bin::Div => a.iter_mut().zip(c).for_each(|(x, y)| *x /= *y),
-        _ => a.iter_mut().zip(c).for_each(|(x, y)| *x = scalar_bin(b, *x, *y)),
+        _ => a
+            .iter_mut()
+            .zip(c)
+            .for_each(|(x, y)| *x = scalar_bin(b, *x, *y)),
     }
 }
 

@@ -51,10 +51,16 @@ pub struct Diagnostic {
 
 impl Diagnostic {
     pub fn warning(message: impl Into<String>) -> Self {
-        Diagnostic { severity: Severity::Warning, message: message.into() }
+        Diagnostic {
+            severity: Severity::Warning,
+            message: message.into(),
+        }
     }
 
     pub fn info(message: impl Into<String>) -> Self {
-        Diagnostic { severity: Severity::Info, message: message.into() }
+        Diagnostic {
+            severity: Severity::Info,
+            message: message.into(),
+        }
     }
 }

@@ -4,7 +4,7 @@
 //! the formula's jet (exact forward-mode derivatives), never from differences.
 
 use super::formula::{FIRST_PARAM_SLOT, Formula, FormulaError, RowProgram, SLOT_P, SLOT_Q, SLOT_T};
-use num_dual::{Dual64, Dual2SVec64, DualNum};
+use num_dual::{Dual2SVec64, Dual64, DualNum};
 use std::fmt;
 use std::sync::Arc;
 
@@ -36,7 +36,9 @@ impl Jet {
     }
 
     pub fn is_finite(&self) -> bool {
-        [self.h, self.hq, self.hp, self.hqq, self.hqp, self.hpp].iter().all(|v| v.is_finite())
+        [self.h, self.hq, self.hp, self.hqq, self.hqp, self.hpp]
+            .iter()
+            .all(|v| v.is_finite())
     }
 }
 
@@ -65,7 +67,9 @@ impl fmt::Display for SystemError {
         match self {
             SystemError::Formula(e) => write!(f, "formula: {e}"),
             SystemError::MissingParameter(n) => write!(f, "parameter '{n}' has no value"),
-            SystemError::NonFiniteParameter(n, v) => write!(f, "parameter '{n}' is not a finite number ({v})"),
+            SystemError::NonFiniteParameter(n, v) => {
+                write!(f, "parameter '{n}' is not a finite number ({v})")
+            }
         }
     }
 }
@@ -89,7 +93,9 @@ impl System {
     /// A system from a compiled formula and one value per parameter, in the formula's order.
     pub fn new(formula: Arc<Formula>, params: Vec<f64>) -> Result<System, SystemError> {
         if params.len() < formula.params().len() {
-            return Err(SystemError::MissingParameter(formula.params()[params.len()].clone()));
+            return Err(SystemError::MissingParameter(
+                formula.params()[params.len()].clone(),
+            ));
         }
         for (name, &v) in formula.params().iter().zip(&params) {
             if !v.is_finite() {
@@ -215,7 +221,14 @@ impl System {
         let r = self.formula.eval(buf.as_ref());
         let g = |i: usize| r.v1.0.as_ref().map(|m| m[i]).unwrap_or(0.0);
         let hh = |i: usize, j: usize| r.v2.0.as_ref().map(|m| m[(i, j)]).unwrap_or(0.0);
-        Jet { h: r.re, hq: g(0), hp: g(1), hqq: hh(0, 0), hqp: hh(0, 1), hpp: hh(1, 1) }
+        Jet {
+            h: r.re,
+            hq: g(0),
+            hp: g(1),
+            hqq: hh(0, 0),
+            hqp: hh(0, 1),
+            hpp: hh(1, 1),
+        }
     }
 
     /// H with first and second derivatives at (q, p), t = 0.
@@ -260,7 +273,11 @@ impl System {
                 }
             }
         }
-        ParamJet { h: r.re, grad, hess }
+        ParamJet {
+            h: r.re,
+            grad,
+            hess,
+        }
     }
 
     /// A fast evaluator of H over many points at t = 0 and the current parameters.
@@ -278,7 +295,11 @@ enum SlotBuf<D> {
 impl<D: DualNum<Primitive = f64> + Copy> SlotBuf<D> {
     fn new(nparams: usize) -> Self {
         let n = FIRST_PARAM_SLOT + nparams;
-        if n <= 12 { SlotBuf::Small([D::zero(); 12], n) } else { SlotBuf::Large(vec![D::zero(); n]) }
+        if n <= 12 {
+            SlotBuf::Small([D::zero(); 12], n)
+        } else {
+            SlotBuf::Large(vec![D::zero(); n])
+        }
     }
 
     fn as_mut(&mut self) -> &mut [D] {

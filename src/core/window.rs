@@ -26,14 +26,24 @@ impl std::error::Error for WindowError {}
 impl Window {
     /// A checked window: all bounds finite and min < max on both axes.
     pub fn new(qmin: f64, qmax: f64, pmin: f64, pmax: f64) -> Result<Self, WindowError> {
-        let w = Window { qmin, qmax, pmin, pmax };
+        let w = Window {
+            qmin,
+            qmax,
+            pmin,
+            pmax,
+        };
         w.validate()?;
         Ok(w)
     }
 
     /// Check an existing window (for instance one read from a file).
     pub fn validate(&self) -> Result<(), WindowError> {
-        for (name, v) in [("qmin", self.qmin), ("qmax", self.qmax), ("pmin", self.pmin), ("pmax", self.pmax)] {
+        for (name, v) in [
+            ("qmin", self.qmin),
+            ("qmax", self.qmax),
+            ("pmin", self.pmin),
+            ("pmax", self.pmax),
+        ] {
             if !v.is_finite() {
                 return Err(WindowError(format!("{name} is not a finite number ({v})")));
             }
@@ -51,7 +61,12 @@ impl Window {
             )));
         }
         let span = (self.qmax - self.qmin).min(self.pmax - self.pmin);
-        let mag = self.qmin.abs().max(self.qmax.abs()).max(self.pmin.abs()).max(self.pmax.abs());
+        let mag = self
+            .qmin
+            .abs()
+            .max(self.qmax.abs())
+            .max(self.pmin.abs())
+            .max(self.pmax.abs());
         if span <= mag * 1e-12 {
             return Err(WindowError(format!(
                 "window is too narrow to resolve ({span:e} wide at magnitude {mag:e})"
@@ -83,12 +98,22 @@ impl Window {
         let cp = 0.5 * (self.pmin + self.pmax);
         let hq = 0.5 * self.width() * factor;
         let hp = 0.5 * self.height() * factor;
-        Window { qmin: cq - hq, qmax: cq + hq, pmin: cp - hp, pmax: cp + hp }
+        Window {
+            qmin: cq - hq,
+            qmax: cq + hq,
+            pmin: cp - hp,
+            pmax: cp + hp,
+        }
     }
 }
 
 impl Default for Window {
     fn default() -> Self {
-        Window { qmin: -2.0, qmax: 2.0, pmin: -1.5, pmax: 1.5 }
+        Window {
+            qmin: -2.0,
+            qmax: 2.0,
+            pmin: -1.5,
+            pmax: 1.5,
+        }
     }
 }
