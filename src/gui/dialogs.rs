@@ -28,7 +28,7 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
     match modal {
         Modal::None => {}
         Modal::About => {
-            let r = egui::Modal::new(egui::Id::new("about")).show(ctx, |ui| {
+            let r = egui::Modal::new(egui::Id::unique("about")).show(ctx, |ui| {
                 ui.set_max_width(420.0);
                 ui.heading("phasewright");
                 ui.label(format!("version {}", env!("CARGO_PKG_VERSION")));
@@ -42,7 +42,7 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
         }
         Modal::ConfirmDiscard(action) => {
             let action = action.clone();
-            let r = egui::Modal::new(egui::Id::new("confirm-discard")).show(ctx, |ui| {
+            let r = egui::Modal::new(egui::Id::unique("confirm-discard")).show(ctx, |ui| {
                 ui.heading("Unsaved changes");
                 ui.label(format!("The session has changes that are not saved. {} anyway?", action.verb()));
                 let mut done = false;
@@ -66,7 +66,7 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
         }
         Modal::PathPrompt { purpose, text, note } => {
             let purpose = *purpose;
-            let r = egui::Modal::new(egui::Id::new("path-prompt")).show(ctx, |ui| {
+            let r = egui::Modal::new(egui::Id::unique("path-prompt")).show(ctx, |ui| {
                 ui.set_min_width(420.0);
                 ui.heading(match purpose {
                     DialogPurpose::Open => "Open a session file",
@@ -98,7 +98,7 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
             close = r.inner || r.should_close();
         }
         Modal::OfferRestore => {
-            let r = egui::Modal::new(egui::Id::new("offer-restore")).show(ctx, |ui| {
+            let r = egui::Modal::new(egui::Id::unique("offer-restore")).show(ctx, |ui| {
                 ui.heading("Recover unsaved work?");
                 ui.label("phasewright did not close normally last time. A copy of the unsaved session was kept.");
                 let mut done = false;
@@ -117,7 +117,7 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
             close = r.inner;
         }
         Modal::Message { title, text } => {
-            let r = egui::Modal::new(egui::Id::new("message")).show(ctx, |ui| {
+            let r = egui::Modal::new(egui::Id::unique("message")).show(ctx, |ui| {
                 ui.set_max_width(480.0);
                 ui.heading(title.as_str());
                 ui.label(text.as_str());

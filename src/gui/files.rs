@@ -17,22 +17,20 @@ const RECENT_FILE: &str = "recent.json";
 const RECENT_MAX: usize = 10;
 
 /// Example sessions compiled into the binary: (file name, text).
-pub const EXAMPLES: &[(&str, &str)] = &[];
+pub const EXAMPLES: &[(&str, &str)] = &[
+    ("biased-resonator.json", include_str!("../../sessions/biased-resonator.json")),
+    ("loaded-strut.json", include_str!("../../sessions/loaded-strut.json")),
+    ("imperfect-strut.json", include_str!("../../sessions/imperfect-strut.json")),
+    ("barrier-crossing.json", include_str!("../../sessions/barrier-crossing.json")),
+    ("diatomic-bond.json", include_str!("../../sessions/diatomic-bond.json")),
+    ("tilted-lattice.json", include_str!("../../sessions/tilted-lattice.json")),
+];
 
-/// The session shown when nothing else is given and no example is bundled.
+/// The session shown when nothing else is given and no example loads.
 pub fn builtin_session() -> Session {
-    use crate::session::{FORMAT_NAME, FORMAT_VERSION, LevelSettings, Parameter};
-    Session {
-        format: FORMAT_NAME.into(),
-        version: FORMAT_VERSION,
-        title: "Double well".into(),
-        notes: String::new(),
-        formula: "p^2/2 + q^4/4 - a*q^2/2".into(),
-        parameters: vec![Parameter { name: "a".into(), value: 1.0, min: -1.0, max: 2.0, step: None }],
-        view: crate::core::window::Window { qmin: -2.0, qmax: 2.0, pmin: -1.5, pmax: 1.5 },
-        levels: LevelSettings::default(),
-        orbits: Vec::new(),
-    }
+    let mut s = Session::blank("p^2/2 + q^2/2");
+    s.title = "Harmonic oscillator".into();
+    s
 }
 
 /// The first bundled example, or the built-in session.
@@ -46,35 +44,21 @@ pub fn startup_session() -> Session {
 
 /// Read a session from text: the session plus the loader's warnings, or the loader's message.
 pub fn parse_session(text: &str) -> Result<(Session, Vec<String>), String> {
-    let session: Session = serde_json::from_str(text).map_err(|e| format!("not a valid session file: {e}"))?;
-    if session.format != crate::session::FORMAT_NAME {
-        return Err(format!(
-            "field \"format\": expected \"{}\", found \"{}\"",
-            crate::session::FORMAT_NAME,
-            session.format
-        ));
-    }
-    session.view.validate().map_err(|e| format!("field \"view\": {e}"))?;
-    Ok((session, Vec::new()))
+    crate::session::load(text).map_err(|e| e.to_string())
 }
 
 /// Read a session file.
 pub fn load_session(path: &Path) -> Result<(Session, Vec<String>), String> {
-    let text = std::fs::read_to_string(path).map_err(|e| format!("cannot read {}: {e}", path.display()))?;
-    parse_session(&text).map_err(|e| format!("{}: {e}", path.display()))
+    crate::session::load_file(path).map_err(|e| format!("{}: {e}", path.display()))
 }
 
-/// Write a session file (whole file replaced at once).
+/// Write a session file (whole file replaced at once; a failed save keeps the old file).
 pub fn save_session(session: &Session, path: &Path) -> Result<(), String> {
-    let text = serde_json::to_string_pretty(session).map_err(|e| format!("cannot encode the session: {e}"))?;
-    write_atomic(path, &text)
+    crate::session::save_atomic(path, session).map_err(|e| e.to_string())
 }
 
-fn write_atomic(path: &Path, text: &str) -> Result<(), String> {
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "session".into());
-    let tmp = path.with_file_name(format!(".{name}.tmp"));
-    std::fs::write(&tmp, text).map_err(|e| format!("cannot write {}: {e}", tmp.display()))?;
-    std::fs::rename(&tmp, path).map_err(|e| format!("cannot replace {}: {e}", path.display()))
+fn write_text(path: &Path, text: &str) -> Result<(), String> {
+    crate::session::write_atomic(path, |w| w.write_all(text.as_bytes())).map_err(|e| e.to_string())
 }
 
 /// The user's data directory for phasewright: `$PHASEWRIGHT_DATA_DIR`, else
@@ -131,7 +115,7 @@ impl DataDir {
         if std::fs::create_dir_all(&self.dir).is_ok()
             && let Ok(text) = serde_json::to_string_pretty(&list)
         {
-            let _ = write_atomic(&self.dir.join(RECENT_FILE), &text);
+            let _ = write_text(&self.dir.join(RECENT_FILE), &text);
         }
         list
     }

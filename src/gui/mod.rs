@@ -328,15 +328,17 @@ impl Explorer {
         self.poll_dialog(&mut commands);
         self.dragging_seen = false;
 
-        commands.extend(menu_bar::ui(
-            ui,
-            &menu_bar::MenuState {
-                recent: &self.recent,
-                can_undo: self.history.can_undo(),
-                can_redo: self.history.can_redo(),
-                dark: self.dark,
-            },
-        ));
+        egui::Panel::top("menu").show(ui, |ui| {
+            commands.extend(menu_bar::ui(
+                ui,
+                &menu_bar::MenuState {
+                    recent: &self.recent,
+                    can_undo: self.history.can_undo(),
+                    can_redo: self.history.can_redo(),
+                    dark: self.dark,
+                },
+            ));
+        });
         egui::Panel::bottom("status-bar").show(ui, |ui| {
             ui.horizontal(|ui| {
                 ui.small(self.status.as_str());
@@ -669,11 +671,7 @@ impl Explorer {
     fn run_guarded(&mut self, action: Guarded) {
         match action {
             Guarded::New => {
-                let mut s = files::builtin_session();
-                s.title = String::new();
-                s.formula = "p^2/2 + q^2/2".into();
-                s.parameters.clear();
-                self.replace_session(s, None);
+                self.replace_session(Session::blank("p^2/2 + q^2/2"), None);
                 self.status = "New session".into();
             }
             Guarded::OpenDialog => self.native_dialog(DialogPurpose::Open),
@@ -743,7 +741,13 @@ impl Explorer {
         };
         for name in f.params() {
             if !self.session.parameters.iter().any(|p| &p.name == name) {
-                self.session.parameters.push(Parameter { name: name.clone(), value: 1.0, min: -2.0, max: 2.0, step: None });
+                self.session.parameters.push(Parameter {
+                    name: name.clone(),
+                    value: crate::session::DEFAULT_PARAM_VALUE,
+                    min: crate::session::DEFAULT_PARAM_RANGE.0,
+                    max: crate::session::DEFAULT_PARAM_RANGE.1,
+                    step: None,
+                });
             }
         }
     }

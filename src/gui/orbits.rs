@@ -31,7 +31,7 @@ impl OrbitOutcome {
 }
 
 /// The method names the orbit editor offers.
-pub const METHODS: &[&str] = &["auto"];
+pub const METHODS: &[&str] = crate::session::ORBIT_METHODS;
 
 /// Integrate one seeded orbit with the core's integrator.
 pub fn integrate(sys: &System, seeded: &SeededOrbit, window: &Window, cancel: &Cancel) -> OrbitOutcome {

@@ -39,7 +39,7 @@ impl ParamsPanel {
             slider = slider.step_by(s);
         }
         let r = ui.add(slider).on_hover_text(format!("{} = {}", par.name, par.value));
-        accessible_name(&r, egui::WidgetType::Slider, &format!("{} slider", par.name));
+        accessible_name(&r, egui::Role::Slider, &format!("{} slider", par.name));
         if r.changed() || r.drag_stopped() {
             commands.push(Command::SetParam { name: par.name.clone(), value, dragging: r.dragged() });
         }
@@ -53,7 +53,7 @@ impl ParamsPanel {
                     .max_decimals(6),
             );
             let resp = resp.on_hover_text(format!("value of {}", par.name));
-            accessible_name(&resp, egui::WidgetType::DragValue, &format!("{} value", par.name));
+            accessible_name(&resp, egui::Role::SpinButton, &format!("{} value", par.name));
             if resp.changed() {
                 commands.push(Command::SetParam { name: par.name.clone(), value: v, dragging: resp.dragged() });
             }
@@ -64,16 +64,16 @@ impl ParamsPanel {
             let mut st = par.step.unwrap_or(0.0);
             ui.label("min");
             let rl = ui.add(egui::DragValue::new(&mut lo).speed(0.01).max_decimals(6));
-            accessible_name(&rl, egui::WidgetType::DragValue, &format!("{} min", par.name));
+            accessible_name(&rl, egui::Role::SpinButton, &format!("{} min", par.name));
             ui.label("max");
             let rh = ui.add(egui::DragValue::new(&mut hi).speed(0.01).max_decimals(6));
-            accessible_name(&rh, egui::WidgetType::DragValue, &format!("{} max", par.name));
+            accessible_name(&rh, egui::Role::SpinButton, &format!("{} max", par.name));
             ui.end_row();
             ui.label("step");
             let rs = ui
                 .add(egui::DragValue::new(&mut st).range(0.0..=f64::MAX).speed(0.001).max_decimals(6))
                 .on_hover_text("0 = continuous");
-            accessible_name(&rs, egui::WidgetType::DragValue, &format!("{} step", par.name));
+            accessible_name(&rs, egui::Role::SpinButton, &format!("{} step", par.name));
             ui.end_row();
             if rl.changed() || rh.changed() || rs.changed() {
                 if lo < hi && lo.is_finite() && hi.is_finite() {
@@ -101,7 +101,7 @@ impl ParamsPanel {
 }
 
 /// Give a widget an accessible name (used by assistive tools and the GUI tests).
-pub fn accessible_name(response: &egui::Response, kind: egui::WidgetType, name: &str) {
+pub fn accessible_name(response: &egui::Response, kind: egui::Role, name: &str) {
     let enabled = response.enabled();
     let name = name.to_string();
     response.widget_info(move || egui::WidgetInfo::labeled(kind, enabled, name.clone()));

@@ -72,9 +72,17 @@ impl Default for PlotPanel {
 /// Kind order used for markers and the legend.
 const KINDS: [(EquilibriumKind, &str, MarkerShape); 3] = [
     (EquilibriumKind::Center, "center", MarkerShape::Circle),
-    (EquilibriumKind::Saddle, "saddle", MarkerShape::Cross),
+    (EquilibriumKind::Saddle, "saddle", MarkerShape::Square),
     (EquilibriumKind::Degenerate, "degenerate", MarkerShape::Diamond),
 ];
+
+/// Marker colours by kind, for light and dark backgrounds (the shape carries the kind too).
+fn kind_colour(k: usize, dark: bool) -> egui::Color32 {
+    let light = [[20, 20, 20], [200, 30, 30], [120, 40, 170]];
+    let darkc = [[245, 245, 245], [255, 110, 90], [200, 150, 255]];
+    let [r, g, b] = if dark { darkc[k] } else { light[k] };
+    egui::Color32::from_rgb(r, g, b)
+}
 
 fn kind_index(kind: EquilibriumKind) -> usize {
     KINDS.iter().position(|k| k.0 == kind).unwrap_or(2)
@@ -283,7 +291,6 @@ impl PlotPanel {
             }
         };
         let dark = ui.visuals().dark_mode;
-        let mark_colour = if dark { egui::Color32::from_rgb(240, 240, 240) } else { egui::Color32::from_rgb(20, 20, 20) };
         let select_colour = egui::Color32::from_rgb(255, 60, 200);
 
         let mut new_view = None;
@@ -349,9 +356,9 @@ impl PlotPanel {
                         pui.points(
                             Points::new(*name, cache.marks[k].as_slice())
                                 .shape(*shape)
-                                .radius(6.0)
+                                .radius(if k == 0 { 6.0 } else { 7.0 })
                                 .filled(true)
-                                .color(grey(mark_colour))
+                                .color(grey(kind_colour(k, dark)))
                                 .allow_hover(false),
                         );
                     }
@@ -392,10 +399,11 @@ impl PlotPanel {
             });
             let (double, held) = response.inner;
             let enabled = response.response.enabled();
-            response.response.widget_info(|| egui::WidgetInfo::labeled(egui::WidgetType::Other, enabled, PLOT_LABEL));
+            response.response.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Canvas, enabled, PLOT_LABEL));
             let b = response.transform.bounds();
             let (mn, mx) = (b.min(), b.max());
-            if let Ok(w) = Window::new(mn[0], mx[0], mn[1], mx[1])
+            if set_view.is_none()
+                && let Ok(w) = Window::new(mn[0], mx[0], mn[1], mx[1])
                 && differs(&w, view)
             {
                 new_view = Some((w, held));

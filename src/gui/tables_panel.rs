@@ -150,7 +150,7 @@ impl TablesPanel {
                 });
                 let mut duration = s.duration;
                 let rd = ui.add(egui::DragValue::new(&mut duration).speed(0.5).max_decimals(3));
-                super::params_panel::accessible_name(&rd, egui::WidgetType::DragValue, &format!("orbit {} duration", i + 1));
+                super::params_panel::accessible_name(&rd, egui::Role::SpinButton, &format!("orbit {} duration", i + 1));
                 if method != s.method || (rd.changed() && duration.is_finite() && duration != 0.0) {
                     let mut edited = s.clone();
                     edited.method = method;
