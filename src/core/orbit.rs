@@ -97,6 +97,9 @@ impl OrbitRequest {
         if self.duration == 0.0 {
             return bad("duration", "is zero; give a positive (forward) or negative (backward) time".into());
         }
+        if self.duration.abs() <= 1e-12 * self.t0.abs() {
+            return bad("duration", format!("{} is too short to resolve at t0 = {}", self.duration, self.t0));
+        }
         if let Some(h) = self.step {
             if !h.is_finite() || h == 0.0 {
                 return bad("step", format!("must be a finite non-zero number (got {h})"));
