@@ -30,8 +30,14 @@ fn run(integ: &mut Integrator, sys: &System, s: State, h: f64, n: usize) -> Stat
     y
 }
 
-const FIXED_STEP: [Method; 6] =
-    [Method::Verlet, Method::Yoshida4, Method::Yoshida6, Method::Midpoint, Method::Gauss4, Method::Gauss6];
+const FIXED_STEP: [Method; 6] = [
+    Method::Verlet,
+    Method::Yoshida4,
+    Method::Yoshida6,
+    Method::Midpoint,
+    Method::Gauss4,
+    Method::Gauss6,
+];
 
 #[test]
 fn method_names_round_trip_and_unknown_names_list_the_valid_ones() {
@@ -40,20 +46,32 @@ fn method_names_round_trip_and_unknown_names_list_the_valid_ones() {
     }
     assert_eq!(Method::from_name(" Gauss6 "), Ok(Method::Gauss6));
     let err = Method::from_name("leapfrog2").unwrap_err().to_string();
-    assert!(err.contains("leapfrog2") && err.contains("yoshida4") && err.contains("dopri5"), "{err}");
+    assert!(
+        err.contains("leapfrog2") && err.contains("yoshida4") && err.contains("dopri5"),
+        "{err}"
+    );
 }
 
 #[test]
 fn auto_picks_yoshida4_for_separable_and_gauss6_otherwise() {
-    assert_eq!(Method::Auto.resolve(&system("p^2/2 - cos(q)")), Method::Yoshida4);
-    assert_eq!(Method::Auto.resolve(&system("(q^2 + p^2)/2 + 0.1*(q^2 + p^2)^2/4")), Method::Gauss6);
+    assert_eq!(
+        Method::Auto.resolve(&system("p^2/2 - cos(q)")),
+        Method::Yoshida4
+    );
+    assert_eq!(
+        Method::Auto.resolve(&system("(q^2 + p^2)/2 + 0.1*(q^2 + p^2)^2/4")),
+        Method::Gauss6
+    );
 }
 
 #[test]
 fn explicit_compositions_refuse_a_formula_that_mixes_q_and_p() {
     let sys = system("q*p + q^2");
     for m in [Method::Verlet, Method::Yoshida4, Method::Yoshida6] {
-        assert_eq!(Integrator::new(&sys, m).unwrap_err(), IntegratorError::NotSeparable(m));
+        assert_eq!(
+            Integrator::new(&sys, m).unwrap_err(),
+            IntegratorError::NotSeparable(m)
+        );
     }
     assert!(Integrator::new(&sys, Method::Gauss6).is_ok());
 }
@@ -75,7 +93,17 @@ fn harmonic_oscillator_follows_the_exact_solution() {
         (Method::Dopri5, 1e-9),
     ] {
         let mut integ = Integrator::new(&sys, m).unwrap();
-        let y = run(&mut integ, &sys, State { q: 1.0, p: 0.0, t: 0.0 }, h, n);
+        let y = run(
+            &mut integ,
+            &sys,
+            State {
+                q: 1.0,
+                p: 0.0,
+                t: 0.0,
+            },
+            h,
+            n,
+        );
         let err = (y.q - t.cos()).hypot(y.p + t.sin());
         assert!(err < tol, "{m}: error {err:e} at t = {t}");
     }
@@ -86,7 +114,11 @@ fn harmonic_oscillator_follows_the_exact_solution() {
 fn pendulum_error(m: Method, n: usize) -> f64 {
     let sys = system("p^2/2 - cos(q)");
     let t_end = 2.5;
-    let start = State { q: PI / 2.0, p: 0.0, t: 0.0 };
+    let start = State {
+        q: PI / 2.0,
+        p: 0.0,
+        t: 0.0,
+    };
     let mut reference = Integrator::new(&sys, Method::Gauss6).unwrap();
     let exact = run(&mut reference, &sys, start, t_end / 4000.0, 4000);
     let mut integ = Integrator::new(&sys, m).unwrap();
@@ -110,7 +142,10 @@ fn observed_orders_on_the_pendulum_match_the_published_orders() {
         let e1 = pendulum_error(m, n);
         let e2 = pendulum_error(m, 2 * n);
         let order = (e1 / e2).log2();
-        assert!((order - expected).abs() < 0.3, "{m}: observed order {order:.3} (errors {e1:e}, {e2:e})");
+        assert!(
+            (order - expected).abs() < 0.3,
+            "{m}: observed order {order:.3} (errors {e1:e}, {e2:e})"
+        );
     }
 }
 
@@ -118,14 +153,21 @@ fn observed_orders_on_the_pendulum_match_the_published_orders() {
 fn symmetric_methods_return_to_the_start_when_run_backward() {
     // Time-reversibility of symmetric methods (Hairer, Lubich & Wanner, §V.1).
     let sys = system("p^2/2 - cos(q)");
-    let start = State { q: 2.0, p: 0.3, t: 0.0 };
+    let start = State {
+        q: 2.0,
+        p: 0.3,
+        t: 0.0,
+    };
     for m in FIXED_STEP {
         let mut integ = Integrator::new(&sys, m).unwrap();
         let there = run(&mut integ, &sys, start, 0.05, 400);
         let back = run(&mut integ, &sys, there, -0.05, 400);
         let err = (back.q - start.q).hypot(back.p - start.p);
         assert!(err < 1e-12, "{m}: returned with error {err:e}");
-        assert!((there.q - start.q).abs() > 0.1, "{m}: the orbit must have moved");
+        assert!(
+            (there.q - start.q).abs() > 0.1,
+            "{m}: the orbit must have moved"
+        );
     }
 }
 
@@ -139,14 +181,32 @@ fn gauss_legendre_reproduces_circles_of_a_non_separable_hamiltonian() {
     let omega = 1.0 + eps * r * r;
     let (h, n) = (0.02, 1000);
     let t = h * n as f64;
-    for (m, tol) in [(Method::Midpoint, 1e-2), (Method::Gauss4, 1e-6), (Method::Gauss6, 1e-10)] {
+    for (m, tol) in [
+        (Method::Midpoint, 1e-2),
+        (Method::Gauss4, 1e-6),
+        (Method::Gauss6, 1e-10),
+    ] {
         let mut integ = Integrator::new(&sys, m).unwrap();
-        let y = run(&mut integ, &sys, State { q: r, p: 0.0, t: 0.0 }, h, n);
+        let y = run(
+            &mut integ,
+            &sys,
+            State {
+                q: r,
+                p: 0.0,
+                t: 0.0,
+            },
+            h,
+            n,
+        );
         let err = (y.q - r * (omega * t).cos()).hypot(y.p + r * (omega * t).sin());
         assert!(err < tol, "{m}: error {err:e}");
         // r² is a quadratic invariant, kept exactly by Gauss methods (Hairer,
         // Lubich & Wanner, Theorem IV.2.1).
-        assert!((y.q.hypot(y.p) - r).abs() < 1e-13, "{m}: radius drifted to {}", y.q.hypot(y.p));
+        assert!(
+            (y.q.hypot(y.p) - r).abs() < 1e-13,
+            "{m}: radius drifted to {}",
+            y.q.hypot(y.p)
+        );
     }
 }
 
@@ -158,13 +218,26 @@ fn dormand_prince_dense_output_has_fourth_order_interpolation() {
     let mut errors = Vec::new();
     for h in [0.4, 0.2] {
         let mut integ = Integrator::new(&sys, Method::Dopri5).unwrap();
-        integ.step(&sys, &State { q: 1.0, p: 0.0, t: 0.0 }, h).unwrap();
+        integ
+            .step(
+                &sys,
+                &State {
+                    q: 1.0,
+                    p: 0.0,
+                    t: 0.0,
+                },
+                h,
+            )
+            .unwrap();
         let mid = integ.dense(0.5).unwrap();
         let t: f64 = 0.5 * h;
         errors.push((mid[0] - t.cos()).hypot(mid[1] + t.sin()));
     }
     let order = (errors[0] / errors[1]).log2();
-    assert!(order > 4.5, "dense output local order {order:.2} (errors {errors:?})");
+    assert!(
+        order > 4.5,
+        "dense output local order {order:.2} (errors {errors:?})"
+    );
     assert!(errors[1] < 1e-7, "{errors:?}");
 }
 
@@ -175,7 +248,11 @@ fn dormand_prince_controls_its_error_to_the_tolerance() {
     let period = pendulum_period(PI / 2.0);
     let mut integ = Integrator::new(&sys, Method::Dopri5).unwrap();
     integ.set_tolerance(1e-11);
-    let mut y = State { q: PI / 2.0, p: 0.0, t: 0.0 };
+    let mut y = State {
+        q: PI / 2.0,
+        p: 0.0,
+        t: 0.0,
+    };
     let mut h: f64 = 0.1;
     while y.t < period {
         let remaining = period - y.t;
@@ -185,7 +262,11 @@ fn dormand_prince_controls_its_error_to_the_tolerance() {
     }
     let err = (y.q - PI / 2.0).hypot(y.p);
     assert!(err < 1e-8, "error {err:e}");
-    assert!(integ.counters.steps > 10 && integ.counters.steps < 2000, "{:?}", integ.counters);
+    assert!(
+        integ.counters.steps > 10 && integ.counters.steps < 2000,
+        "{:?}",
+        integ.counters
+    );
 }
 
 #[test]
@@ -201,7 +282,11 @@ fn yoshida4_energy_error_stays_bounded_over_a_hundred_thousand_periods() {
     let periods = 100_000;
     let h = pendulum_period(theta0) / per as f64;
     let mut integ = Integrator::new(&sys, Method::Yoshida4).unwrap();
-    let mut y = State { q: theta0, p: 0.0, t: 0.0 };
+    let mut y = State {
+        q: theta0,
+        p: 0.0,
+        t: 0.0,
+    };
     let h0 = sys.energy(y.q, y.p);
     let total = per * periods;
     let tenth = total / 10;
@@ -217,5 +302,14 @@ fn yoshida4_energy_error_stays_bounded_over_a_hundred_thousand_periods() {
         }
     }
     assert!(worst < 1.5e-7, "max energy error {worst:e}");
-    assert!(last < 1.5 * first, "energy error grew: first tenth {first:e}, last tenth {last:e}");
+    assert!(
+        last < 1.5 * first,
+        "energy error grew: first tenth {first:e}, last tenth {last:e}"
+    );
+}
+
+#[test]
+fn session_method_names_are_the_integrator_names() {
+    let names: Vec<&str> = phasewright::session::ORBIT_METHODS.to_vec();
+    assert_eq!(names, Method::names());
 }

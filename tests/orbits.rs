@@ -51,18 +51,33 @@ fn harmonic_oscillator_period_and_action_match_the_closed_form() {
     // H = p²/2 + ω²q²/2: T = 2π/ω, I = E/ω (closed form).
     let omega = 1.7;
     let sys = system("p^2/2 + w^2*q^2/2", &[("w", omega)]);
-    for method in [Method::Auto, Method::Yoshida6, Method::Gauss6, Method::Dopri5] {
+    for method in [
+        Method::Auto,
+        Method::Yoshida6,
+        Method::Gauss6,
+        Method::Dopri5,
+    ] {
         let o = one_period(&sys, 0.8, 0.3, method);
         assert_eq!(o.stop, StopReason::Closed, "{method}");
         assert_eq!(o.motion, Motion::Libration);
         assert!(o.closed);
         let e = 0.3f64.powi(2) / 2.0 + omega * omega * 0.64 / 2.0;
         let period = o.period.unwrap();
-        assert!(rel(period, 2.0 * PI / omega) < 1e-10, "{method}: T = {period}");
+        assert!(
+            rel(period, 2.0 * PI / omega) < 1e-10,
+            "{method}: T = {period}"
+        );
         assert!(rel(o.frequency.unwrap(), omega) < 1e-10);
-        assert!(rel(o.action.unwrap(), e / omega) < 1e-9, "{method}: I = {:?}", o.action);
+        assert!(
+            rel(o.action.unwrap(), e / omega) < 1e-9,
+            "{method}: I = {:?}",
+            o.action
+        );
         let last = o.samples.last().unwrap();
-        assert!((last.q - 0.8).hypot(last.p - 0.3) < 1e-9, "{method}: the orbit closes at the start");
+        assert!(
+            (last.q - 0.8).hypot(last.p - 0.3) < 1e-9,
+            "{method}: the orbit closes at the start"
+        );
     }
 }
 
@@ -75,10 +90,19 @@ fn pendulum_period_from_ninety_degrees_matches_4k() {
     assert!(rel(4.0 * ellipk_of_modulus(k), expected) < 1e-14);
     assert!(rel(4.0 * k_agm(k), expected) < 1e-14);
     let sys = system("p^2/2 - cos(q)", &[]);
-    for method in [Method::Auto, Method::Yoshida6, Method::Gauss6, Method::Dopri5] {
+    for method in [
+        Method::Auto,
+        Method::Yoshida6,
+        Method::Gauss6,
+        Method::Dopri5,
+    ] {
         let o = one_period(&sys, PI / 2.0, 0.0, method);
         let period = o.period.unwrap();
-        assert!(rel(period, expected) < 1e-10, "{method}: T = {period} ({:e})", rel(period, expected));
+        assert!(
+            rel(period, expected) < 1e-10,
+            "{method}: T = {period} ({:e})",
+            rel(period, expected)
+        );
         assert!(o.closed && o.motion == Motion::Libration);
     }
 }
@@ -92,7 +116,10 @@ fn pendulum_periods_over_amplitudes_match_the_elliptic_integral() {
         let expected = 4.0 * ellipk_of_modulus((theta0 / 2.0).sin());
         let o = one_period(&sys, theta0, 0.0, Method::Gauss6);
         let period = o.period.unwrap();
-        assert!(rel(period, expected) < 1e-10, "{deg}°: T = {period}, expected {expected}");
+        assert!(
+            rel(period, expected) < 1e-10,
+            "{deg}°: T = {period}, expected {expected}"
+        );
     }
 }
 
@@ -113,9 +140,15 @@ fn pendulum_period_near_the_separatrix_grows_like_the_logarithm() {
         let period = o.period.unwrap();
         let k = ((1.0 + e) / 2.0).sqrt();
         let exact = 4.0 * ellipk_of_modulus(k);
-        assert!(rel(period, exact) < 1e-9, "δ = {delta}: T = {period}, 4K = {exact}");
+        assert!(
+            rel(period, exact) < 1e-9,
+            "δ = {delta}: T = {period}, 4K = {exact}"
+        );
         let asymptotic = 2.0 * (32.0 / delta).ln();
-        assert!(rel(period, asymptotic) < 10.0 * delta, "δ = {delta}: T = {period}, asymptote {asymptotic}");
+        assert!(
+            rel(period, asymptotic) < 10.0 * delta,
+            "δ = {delta}: T = {period}, asymptote {asymptotic}"
+        );
         assert_eq!(o.motion, Motion::Libration);
     }
 }
@@ -133,10 +166,17 @@ fn pendulum_action_matches_the_elliptic_formula_and_its_derivative_is_the_period
         let k = ((1.0 + energy) / 2.0).sqrt();
         let expected = 8.0 / PI * (ellipe_of_modulus(k) - (1.0 - k * k) * ellipk_of_modulus(k));
         let (action, period) = action_at(energy);
-        assert!(rel(action, expected) < 1e-10, "E = {energy}: I = {action}, expected {expected}");
+        assert!(
+            rel(action, expected) < 1e-10,
+            "E = {energy}: I = {action}, expected {expected}"
+        );
         let de = 1e-4;
         let slope = (action_at(energy + de).0 - action_at(energy - de).0) / (2.0 * de);
-        assert!(rel(slope, period / (2.0 * PI)) < 1e-7, "E = {energy}: dI/dE = {slope}, T/2π = {}", period / (2.0 * PI));
+        assert!(
+            rel(slope, period / (2.0 * PI)) < 1e-7,
+            "E = {energy}: dI/dE = {slope}, T/2π = {}",
+            period / (2.0 * PI)
+        );
     }
 }
 
@@ -150,10 +190,21 @@ fn pendulum_above_the_separatrix_rotates_with_the_elliptic_period() {
         let k = (2.0 / (1.0 + energy)).sqrt();
         let o = one_period(&sys, 0.0, p0, method);
         assert_eq!(o.motion, Motion::Rotation, "p0 = {p0}");
-        assert!((o.q_advance - 2.0 * PI * p0.signum()).abs() < 1e-12, "advance {}", o.q_advance);
+        assert!(
+            (o.q_advance - 2.0 * PI * p0.signum()).abs() < 1e-12,
+            "advance {}",
+            o.q_advance
+        );
         let period = o.period.unwrap();
-        assert!(rel(period, 2.0 * k * ellipk_of_modulus(k)) < 1e-10, "p0 = {p0}: T = {period}");
-        assert!(rel(o.action.unwrap(), 4.0 * ellipe_of_modulus(k) / (PI * k)) < 1e-10, "I = {:?}", o.action);
+        assert!(
+            rel(period, 2.0 * k * ellipk_of_modulus(k)) < 1e-10,
+            "p0 = {p0}: T = {period}"
+        );
+        assert!(
+            rel(o.action.unwrap(), 4.0 * ellipe_of_modulus(k) / (PI * k)) < 1e-10,
+            "I = {:?}",
+            o.action
+        );
     }
 }
 
@@ -166,7 +217,10 @@ fn morse_oscillator_frequency_follows_the_closed_form() {
         let o = one_period(&sys, 0.0, (2.0 * energy).sqrt(), Method::Auto);
         let expected = a * (2.0 * (d - energy)).sqrt();
         let omega = o.frequency.unwrap();
-        assert!(rel(omega, expected) < 1e-9, "E = {energy}: ω = {omega}, expected {expected}");
+        assert!(
+            rel(omega, expected) < 1e-9,
+            "E = {energy}: ω = {omega}, expected {expected}"
+        );
     }
 }
 
@@ -186,7 +240,11 @@ fn quartic_oscillator_period_is_the_lemniscate_value() {
     let sys = system("p^2/2 + q^4/4", &[]);
     for method in [Method::Auto, Method::Gauss6] {
         let o = one_period(&sys, 1.0, 0.0, method);
-        assert!(rel(o.period.unwrap(), expected) < 1e-10, "{method}: T = {:?}", o.period);
+        assert!(
+            rel(o.period.unwrap(), expected) < 1e-10,
+            "{method}: T = {:?}",
+            o.period
+        );
     }
 }
 
@@ -198,8 +256,16 @@ fn non_separable_circles_turn_at_the_amplitude_dependent_frequency() {
     for r in [0.5, 1.5] {
         let o = one_period(&sys, r, 0.0, Method::Auto);
         assert_eq!(o.method, Method::Gauss6);
-        assert!(rel(o.frequency.unwrap(), 1.0 + eps * r * r) < 1e-10, "r = {r}: ω = {:?}", o.frequency);
-        assert!(rel(o.action.unwrap(), r * r / 2.0) < 1e-10, "r = {r}: I = {:?}", o.action);
+        assert!(
+            rel(o.frequency.unwrap(), 1.0 + eps * r * r) < 1e-10,
+            "r = {r}: ω = {:?}",
+            o.frequency
+        );
+        assert!(
+            rel(o.action.unwrap(), r * r / 2.0) < 1e-10,
+            "r = {r}: I = {:?}",
+            o.action
+        );
         assert!(o.energy_drift < 1e-13, "drift {}", o.energy_drift);
     }
 }
@@ -228,7 +294,12 @@ fn a_potential_that_blows_up_stops_the_orbit_cleanly() {
         req.method = method;
         let o = integrate_orbit(&sys, &req, &Cancel::never());
         assert!(
-            matches!(o.stop, StopReason::LeftBounds { .. } | StopReason::NonFinite { .. } | StopReason::SolverFailed { .. }),
+            matches!(
+                o.stop,
+                StopReason::LeftBounds { .. }
+                    | StopReason::NonFinite { .. }
+                    | StopReason::SolverFailed { .. }
+            ),
             "{method}: {:?}",
             o.stop
         );
@@ -241,7 +312,11 @@ fn a_potential_that_blows_up_stops_the_orbit_cleanly() {
 #[test]
 fn a_start_at_an_equilibrium_reports_it() {
     let sys = system("p^2/2 - cos(q)", &[]);
-    let o = integrate_orbit(&sys, &OrbitRequest::new(0.0, 0.0, 10.0, &view()), &Cancel::never());
+    let o = integrate_orbit(
+        &sys,
+        &OrbitRequest::new(0.0, 0.0, 10.0, &view()),
+        &Cancel::never(),
+    );
     assert_eq!(o.stop, StopReason::AtEquilibrium);
     assert_eq!(o.motion, Motion::Equilibrium);
     assert_eq!(o.period, None);
@@ -252,7 +327,11 @@ fn bad_requests_are_refused_with_the_field_named() {
     let sys = system("p^2/2 - cos(q)", &[]);
     let mut req = OrbitRequest::new(f64::NAN, 0.0, 10.0, &view());
     let o = integrate_orbit(&sys, &req, &Cancel::never());
-    assert!(matches!(&o.stop, StopReason::InvalidRequest { problem } if problem.contains("q0")), "{:?}", o.stop);
+    assert!(
+        matches!(&o.stop, StopReason::InvalidRequest { problem } if problem.contains("q0")),
+        "{:?}",
+        o.stop
+    );
     req.q0 = 0.5;
     req.step = Some(0.0);
     assert_eq!(req.validate().unwrap_err().field, "step");
@@ -266,7 +345,11 @@ fn bad_requests_are_refused_with_the_field_named() {
     let mut req = OrbitRequest::new(0.5, 0.0, 10.0, &view());
     req.method = Method::Verlet;
     let o = integrate_orbit(&mixed, &req, &Cancel::never());
-    assert!(matches!(&o.stop, StopReason::InvalidRequest { problem } if problem.contains("verlet")), "{:?}", o.stop);
+    assert!(
+        matches!(&o.stop, StopReason::InvalidRequest { problem } if problem.contains("verlet")),
+        "{:?}",
+        o.stop
+    );
 }
 
 #[test]
@@ -275,7 +358,11 @@ fn cancel_and_step_cap_stop_the_orbit() {
     let cancel = Cancel::new();
     cancel.cancel();
     let o = integrate_orbit(&sys, &OrbitRequest::new(1.0, 0.0, 1e3, &view()), &cancel);
-    assert!(matches!(o.stop, StopReason::Cancelled { .. }), "{:?}", o.stop);
+    assert!(
+        matches!(o.stop, StopReason::Cancelled { .. }),
+        "{:?}",
+        o.stop
+    );
     let mut req = OrbitRequest::new(1.0, 0.0, 1e3, &view());
     req.max_steps = 10;
     let o = integrate_orbit(&sys, &req, &Cancel::never());
@@ -292,7 +379,12 @@ fn samples_are_thinned_but_keep_the_shape() {
     req.method = Method::Yoshida4;
     let o = integrate_orbit(&sys, &req, &Cancel::never());
     assert_eq!(o.stop, StopReason::Finished);
-    assert!(o.samples.len() < o.steps as usize / 4, "{} samples for {} steps", o.samples.len(), o.steps);
+    assert!(
+        o.samples.len() < o.steps as usize / 4,
+        "{} samples for {} steps",
+        o.samples.len(),
+        o.steps
+    );
     assert!(o.samples.len() > 60);
     let mut widest: f64 = 0.0;
     for w in o.samples.windows(2) {
@@ -306,7 +398,10 @@ fn samples_are_thinned_but_keep_the_shape() {
         assert!((w[0].q.hypot(w[0].p) - 1.0).abs() < 1e-9);
     }
     assert!(widest < 0.12, "widest gap {widest} rad");
-    assert!((o.samples.last().unwrap().t - 2.0 * PI).abs() < 1e-12, "ends at the duration");
+    assert!(
+        (o.samples.last().unwrap().t - 2.0 * PI).abs() < 1e-12,
+        "ends at the duration"
+    );
     // A long run respects the sample cap.
     req.duration = 500.0;
     req.max_samples = 200;
@@ -323,8 +418,17 @@ fn energy_drift_is_small_and_counted_work_is_reported() {
     let o = integrate_orbit(&sys, &req, &Cancel::never());
     assert_eq!(o.stop, StopReason::Finished);
     assert!(o.energy_drift < 1e-10, "drift {}", o.energy_drift);
-    assert!(o.energy_scale > 0.5 && o.energy_scale < 10.0, "scale {}", o.energy_scale);
-    assert!(o.field_evaluations >= 6 * o.steps, "{} evaluations for {} steps", o.field_evaluations, o.steps);
+    assert!(
+        o.energy_scale > 0.5 && o.energy_scale < 10.0,
+        "scale {}",
+        o.energy_scale
+    );
+    assert!(
+        o.field_evaluations >= 6 * o.steps,
+        "{} evaluations for {} steps",
+        o.field_evaluations,
+        o.steps
+    );
     assert!(rel(o.period.unwrap(), 7.416298709205488) < 1e-10);
     assert!(o.q_range[1] <= PI / 2.0 + 1e-9 && o.q_range[0] >= -PI / 2.0 - 1e-9);
 }

@@ -89,30 +89,56 @@ impl OrbitRequest {
     /// Check every field; the error names the field and the problem.
     pub fn validate(&self) -> Result<(), OrbitError> {
         let bad = |field: &'static str, problem: String| Err(OrbitError { field, problem });
-        for (field, v) in [("q0", self.q0), ("p0", self.p0), ("t0", self.t0), ("duration", self.duration)] {
+        for (field, v) in [
+            ("q0", self.q0),
+            ("p0", self.p0),
+            ("t0", self.t0),
+            ("duration", self.duration),
+        ] {
             if !v.is_finite() {
                 return bad(field, format!("is not a finite number ({v})"));
             }
         }
         if self.duration == 0.0 {
-            return bad("duration", "is zero; give a positive (forward) or negative (backward) time".into());
+            return bad(
+                "duration",
+                "is zero; give a positive (forward) or negative (backward) time".into(),
+            );
         }
         if self.duration.abs() <= 1e-12 * self.t0.abs() {
-            return bad("duration", format!("{} is too short to resolve at t0 = {}", self.duration, self.t0));
+            return bad(
+                "duration",
+                format!(
+                    "{} is too short to resolve at t0 = {}",
+                    self.duration, self.t0
+                ),
+            );
         }
         if let Some(h) = self.step {
             if !h.is_finite() || h == 0.0 {
-                return bad("step", format!("must be a finite non-zero number (got {h})"));
+                return bad(
+                    "step",
+                    format!("must be a finite non-zero number (got {h})"),
+                );
             }
             if (self.duration / h).abs() > 1e15 {
-                return bad("step", format!("{h} is too small for the duration {}", self.duration));
+                return bad(
+                    "step",
+                    format!("{h} is too small for the duration {}", self.duration),
+                );
             }
         }
         if let Err(e) = self.bounds.validate() {
             return bad("bounds", e.0);
         }
         if !self.bounds.contains(self.q0, self.p0) {
-            return bad("q0, p0", format!("the start point ({}, {}) is outside the bounds", self.q0, self.p0));
+            return bad(
+                "q0, p0",
+                format!(
+                    "the start point ({}, {}) is outside the bounds",
+                    self.q0, self.p0
+                ),
+            );
         }
         if self.max_steps == 0 {
             return bad("max_steps", "must be at least 1".into());
@@ -121,7 +147,10 @@ impl OrbitRequest {
             return bad("max_samples", "must be at least 2".into());
         }
         if !(self.tolerance.is_finite() && self.tolerance > 0.0 && self.tolerance < 1.0) {
-            return bad("tolerance", format!("must lie in (0, 1) (got {})", self.tolerance));
+            return bad(
+                "tolerance",
+                format!("must lie in (0, 1) (got {})", self.tolerance),
+            );
         }
         Ok(())
     }
@@ -190,13 +219,19 @@ impl StopReason {
             StopReason::LeftBounds { t, q, p } => {
                 format!("left the bounds at t = {t:.6} (q = {q:.6}, p = {p:.6})")
             }
-            StopReason::NonFinite { t } => format!("H or its derivatives became infinite or undefined near t = {t:.6}"),
+            StopReason::NonFinite { t } => {
+                format!("H or its derivatives became infinite or undefined near t = {t:.6}")
+            }
             StopReason::StepCap { steps } => {
-                format!("stopped at the step cap ({steps} steps); take a larger step or a shorter duration")
+                format!(
+                    "stopped at the step cap ({steps} steps); take a larger step or a shorter duration"
+                )
             }
             StopReason::SolverFailed { message, .. } => message.clone(),
             StopReason::Cancelled { t } => format!("cancelled at t = {t:.6}"),
-            StopReason::AtEquilibrium => "the start point is an equilibrium: the orbit stays there".into(),
+            StopReason::AtEquilibrium => {
+                "the start point is an equilibrium: the orbit stays there".into()
+            }
             StopReason::InvalidRequest { problem } => problem.clone(),
         }
     }
@@ -278,7 +313,11 @@ pub struct Orbit {
 pub fn local_rate(jet: &Jet) -> f64 {
     let j = jet.jacobian();
     let frob = (j[0][0].powi(2) + j[0][1].powi(2) + j[1][0].powi(2) + j[1][1].powi(2)).sqrt();
-    let rate = jet.hessian_det().abs().sqrt().max(frob / std::f64::consts::SQRT_2);
+    let rate = jet
+        .hessian_det()
+        .abs()
+        .sqrt()
+        .max(frob / std::f64::consts::SQRT_2);
     if rate.is_finite() { rate } else { 0.0 }
 }
 
@@ -288,9 +327,17 @@ pub fn local_rate(jet: &Jet) -> f64 {
 /// Its sign follows `duration`.
 pub fn default_step(sys: &System, method: Method, q0: f64, p0: f64, t0: f64, duration: f64) -> f64 {
     let jet = sys.jet_t(q0, p0, t0);
-    let rate = if jet.is_finite() { local_rate(&jet) } else { 0.0 };
+    let rate = if jet.is_finite() {
+        local_rate(&jet)
+    } else {
+        0.0
+    };
     let cap = duration.abs() / MIN_STEPS_PER_DURATION;
-    let h = if rate > 0.0 { (2.0 * PI / rate / method.default_steps_per_period()).min(cap) } else { cap };
+    let h = if rate > 0.0 {
+        (2.0 * PI / rate / method.default_steps_per_period()).min(cap)
+    } else {
+        cap
+    };
     h.copysign(duration)
 }
 
@@ -306,7 +353,9 @@ pub fn is_periodic_in_q(sys: &System, bounds: &Window, t: f64) -> bool {
             let p = bounds.pmin + fp * bounds.height();
             let a = sys.energy_t(q, p, t);
             let b = sys.energy_t(q + Q_PERIOD, p, t);
-            if !(a.is_finite() && b.is_finite()) || (a - b).abs() > PERIODIC_TOLERANCE * (1.0 + a.abs()) {
+            if !(a.is_finite() && b.is_finite())
+                || (a - b).abs() > PERIODIC_TOLERANCE * (1.0 + a.abs())
+            {
                 return false;
             }
         }
@@ -340,18 +389,26 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         diagnostics: Vec::new(),
     };
     if let Err(e) = req.validate() {
-        orbit.stop = StopReason::InvalidRequest { problem: e.to_string() };
+        orbit.stop = StopReason::InvalidRequest {
+            problem: e.to_string(),
+        };
         return orbit;
     }
     let mut integrator = match Integrator::new(sys, req.method) {
         Ok(i) => i,
         Err(e) => {
-            orbit.stop = StopReason::InvalidRequest { problem: e.to_string() };
+            orbit.stop = StopReason::InvalidRequest {
+                problem: e.to_string(),
+            };
             return orbit;
         }
     };
     integrator.set_tolerance(req.tolerance);
-    let start = State { q: req.q0, p: req.p0, t: req.t0 };
+    let start = State {
+        q: req.q0,
+        p: req.p0,
+        t: req.t0,
+    };
     let h0 = sys.energy_t(start.q, start.p, start.t);
     orbit.energy = h0;
     let jet0 = sys.jet_t(start.q, start.p, start.t);
@@ -360,7 +417,12 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         orbit.motion = Motion::Unbounded;
         return orbit;
     }
-    orbit.samples.push(Sample { t: start.t, q: start.q, p: start.p, h: h0 });
+    orbit.samples.push(Sample {
+        t: start.t,
+        q: start.q,
+        p: start.p,
+        h: h0,
+    });
 
     let method = integrator.method();
     let h = match req.step {
@@ -381,7 +443,10 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
     let dir = [sense * field0[0] / speed0, sense * field0[1] / speed0];
     let periodic = is_periodic_in_q(sys, &req.bounds, start.t);
     let t_end = start.t + req.duration;
-    let mut thinner = Thinner::new(req.bounds.diagonal() / BOUNDS_FACTOR / SAMPLE_SEGMENTS_PER_VIEW, req.max_samples);
+    let mut thinner = Thinner::new(
+        req.bounds.diagonal() / BOUNDS_FACTOR / SAMPLE_SEGMENTS_PER_VIEW,
+        req.max_samples,
+    );
     thinner.first(orbit.samples[0]);
     orbit.samples.clear();
 
@@ -395,14 +460,20 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
             break;
         }
         if integrator.counters.steps >= req.max_steps {
-            stop = StopReason::StepCap { steps: integrator.counters.steps };
+            stop = StopReason::StepCap {
+                steps: integrator.counters.steps,
+            };
             break;
         }
         let remaining = t_end - y.t;
         if remaining * sense <= (t_end.abs().max(h.abs())) * 4.0 * f64::EPSILON {
             break;
         }
-        let h_try = if h_next.abs() >= remaining.abs() { remaining } else { h_next };
+        let h_try = if h_next.abs() >= remaining.abs() {
+            remaining
+        } else {
+            h_next
+        };
         let (step, h_taken, proposed) = match integrator.adaptive_step(sys, &y, h_try) {
             Ok(r) => r,
             Err(e) => {
@@ -422,23 +493,41 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
 
         // First return to the section through the start, transverse to the flow.
         if orbit.period.is_none() {
-            let shift = if periodic { ((next.q - start.q) / Q_PERIOD).round() * Q_PERIOD } else { 0.0 };
+            let shift = if periodic {
+                ((next.q - start.q) / Q_PERIOD).round() * Q_PERIOD
+            } else {
+                0.0
+            };
             let anchor = [start.q + shift, start.p];
             let g = |q: f64, p: f64| dir[0] * (q - anchor[0]) + dir[1] * (p - anchor[1]);
             let g_prev = g(y.q, y.p);
             let g_next = g(next.q, next.p);
-            let size = (orbit.q_range[1] - orbit.q_range[0]).hypot(orbit.p_range[1] - orbit.p_range[0]);
-            let near = (next.q - anchor[0]).hypot(next.p - anchor[1]) <= RETURN_RADIUS_FRACTION * size;
+            let size =
+                (orbit.q_range[1] - orbit.q_range[0]).hypot(orbit.p_range[1] - orbit.p_range[0]);
+            let near =
+                (next.q - anchor[0]).hypot(next.p - anchor[1]) <= RETURN_RADIUS_FRACTION * size;
             if g_prev < 0.0 && g_next >= 0.0 && near {
                 let mut finder = match Integrator::new(sys, method) {
                     Ok(f) => f,
                     Err(e) => {
-                        stop = StopReason::InvalidRequest { problem: e.to_string() };
+                        stop = StopReason::InvalidRequest {
+                            problem: e.to_string(),
+                        };
                         break;
                     }
                 };
                 finder.set_tolerance(req.tolerance);
-                let crossing = locate_crossing(&mut finder, &integrator, sys, &y, h_taken, &dir, &anchor, g_prev, g_next);
+                let crossing = locate_crossing(
+                    &mut finder,
+                    &integrator,
+                    sys,
+                    &y,
+                    h_taken,
+                    &dir,
+                    &anchor,
+                    g_prev,
+                    g_next,
+                );
                 orbit.field_evaluations += finder.counters.field_evaluations;
                 orbit.jet_evaluations += finder.counters.jet_evaluations;
                 match crossing {
@@ -474,12 +563,19 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
             !req.bounds.contains(y.q, y.p)
         };
         if outside {
-            stop = StopReason::LeftBounds { t: y.t, q: y.q, p: y.p };
+            stop = StopReason::LeftBounds {
+                t: y.t,
+                q: y.q,
+                p: y.p,
+            };
             break;
         }
     }
     orbit.samples = thinner.finish();
-    if matches!(stop, StopReason::LeftBounds { .. } | StopReason::NonFinite { .. }) {
+    if matches!(
+        stop,
+        StopReason::LeftBounds { .. } | StopReason::NonFinite { .. }
+    ) {
         orbit.motion = Motion::Unbounded;
     }
     orbit.stop = stop;
@@ -487,14 +583,21 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
     orbit.field_evaluations += integrator.counters.field_evaluations;
     orbit.jet_evaluations += integrator.counters.jet_evaluations;
     orbit.energy_scale = energy_scale(sys, &orbit);
-    orbit.energy_drift = if orbit.energy_scale > 0.0 { orbit.energy_error / orbit.energy_scale } else { 0.0 };
+    orbit.energy_drift = if orbit.energy_scale > 0.0 {
+        orbit.energy_error / orbit.energy_scale
+    } else {
+        0.0
+    };
     orbit
 }
 
 fn step_error_stop(e: &StepError, t: f64) -> StopReason {
     match e {
         StepError::NonFinite { t } => StopReason::NonFinite { t: *t },
-        other => StopReason::SolverFailed { t, message: other.to_string() },
+        other => StopReason::SolverFailed {
+            t,
+            message: other.to_string(),
+        },
     }
 }
 
@@ -502,7 +605,12 @@ fn record(orbit: &mut Orbit, thinner: &mut Thinner, s: State, h: f64, h0: f64) {
     orbit.q_range = [orbit.q_range[0].min(s.q), orbit.q_range[1].max(s.q)];
     orbit.p_range = [orbit.p_range[0].min(s.p), orbit.p_range[1].max(s.p)];
     orbit.energy_error = orbit.energy_error.max((h - h0).abs());
-    thinner.push(Sample { t: s.t, q: s.q, p: s.p, h });
+    thinner.push(Sample {
+        t: s.t,
+        q: s.q,
+        p: s.p,
+        h,
+    });
 }
 
 /// max(|H₀|, ½ max|∇H| over the samples × the extent's diagonal).
@@ -546,7 +654,14 @@ fn locate_crossing(
     for _ in 0..CROSSING_MAX_ITERATIONS {
         let (state, p_dq) = if finder.method().is_adaptive() {
             let xy = stepped.dense(tau / h)?;
-            (State { q: xy[0], p: xy[1], t: y.t + tau }, f64::NAN)
+            (
+                State {
+                    q: xy[0],
+                    p: xy[1],
+                    t: y.t + tau,
+                },
+                f64::NAN,
+            )
         } else {
             let s = finder.step(sys, y, tau).ok()?;
             (s.state, s.p_dq)
@@ -555,8 +670,16 @@ fn locate_crossing(
         let f = sys.field_t(state.q, state.p, state.t);
         finder.counters.field_evaluations += 1;
         let slope = dir[0] * f[0] + dir[1] * f[1];
-        if gv < 0.0 { lo = tau } else { hi = tau }
-        let mut next = if slope.is_finite() && slope != 0.0 { tau - gv / slope } else { f64::NAN };
+        if gv < 0.0 {
+            lo = tau
+        } else {
+            hi = tau
+        }
+        let mut next = if slope.is_finite() && slope != 0.0 {
+            tau - gv / slope
+        } else {
+            f64::NAN
+        };
         let inside = next > lo.min(hi) && next < lo.max(hi);
         if !inside {
             next = 0.5 * (lo + hi);
@@ -586,7 +709,13 @@ struct Thinner {
 
 impl Thinner {
     fn new(max_segment: f64, cap: usize) -> Thinner {
-        Thinner { kept: Vec::new(), candidate: None, max_segment, cos_turn: SAMPLE_TURN_ANGLE.cos(), cap: cap.max(2) }
+        Thinner {
+            kept: Vec::new(),
+            candidate: None,
+            max_segment,
+            cos_turn: SAMPLE_TURN_ANGLE.cos(),
+            cap: cap.max(2),
+        }
     }
 
     fn first(&mut self, s: Sample) {
@@ -606,7 +735,8 @@ impl Thinner {
         let d2 = [s.q - c.q, s.p - c.p];
         let n1 = d1[0].hypot(d1[1]);
         let n2 = d2[0].hypot(d2[1]);
-        let turned = n1 > 0.0 && n2 > 0.0 && (d1[0] * d2[0] + d1[1] * d2[1]) < self.cos_turn * n1 * n2;
+        let turned =
+            n1 > 0.0 && n2 > 0.0 && (d1[0] * d2[0] + d1[1] * d2[1]) < self.cos_turn * n1 * n2;
         let long = (s.q - l.q).hypot(s.p - l.p) > self.max_segment;
         if turned || long {
             self.kept.push(c);
@@ -620,7 +750,13 @@ impl Thinner {
     /// Drop every other point and coarsen the thresholds.
     fn halve(&mut self) {
         let last = self.kept.len() - 1;
-        let kept: Vec<Sample> = self.kept.iter().enumerate().filter(|(i, _)| i % 2 == 0 || *i == last).map(|(_, s)| *s).collect();
+        let kept: Vec<Sample> = self
+            .kept
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| i % 2 == 0 || *i == last)
+            .map(|(_, s)| *s)
+            .collect();
         self.kept = kept;
         self.max_segment *= 2.0;
         let angle = self.cos_turn.acos() * 2.0;

@@ -37,12 +37,41 @@ const A: [[f64; 6]; 7] = [
     [1.0 / 5.0, 0.0, 0.0, 0.0, 0.0, 0.0],
     [3.0 / 40.0, 9.0 / 40.0, 0.0, 0.0, 0.0, 0.0],
     [44.0 / 45.0, -56.0 / 15.0, 32.0 / 9.0, 0.0, 0.0, 0.0],
-    [19372.0 / 6561.0, -25360.0 / 2187.0, 64448.0 / 6561.0, -212.0 / 729.0, 0.0, 0.0],
-    [9017.0 / 3168.0, -355.0 / 33.0, 46732.0 / 5247.0, 49.0 / 176.0, -5103.0 / 18656.0, 0.0],
-    [35.0 / 384.0, 0.0, 500.0 / 1113.0, 125.0 / 192.0, -2187.0 / 6784.0, 11.0 / 84.0],
+    [
+        19372.0 / 6561.0,
+        -25360.0 / 2187.0,
+        64448.0 / 6561.0,
+        -212.0 / 729.0,
+        0.0,
+        0.0,
+    ],
+    [
+        9017.0 / 3168.0,
+        -355.0 / 33.0,
+        46732.0 / 5247.0,
+        49.0 / 176.0,
+        -5103.0 / 18656.0,
+        0.0,
+    ],
+    [
+        35.0 / 384.0,
+        0.0,
+        500.0 / 1113.0,
+        125.0 / 192.0,
+        -2187.0 / 6784.0,
+        11.0 / 84.0,
+    ],
 ];
 /// 5th-order weights (equal to the last row of A).
-const B: [f64; 7] = [35.0 / 384.0, 0.0, 500.0 / 1113.0, 125.0 / 192.0, -2187.0 / 6784.0, 11.0 / 84.0, 0.0];
+const B: [f64; 7] = [
+    35.0 / 384.0,
+    0.0,
+    500.0 / 1113.0,
+    125.0 / 192.0,
+    -2187.0 / 6784.0,
+    11.0 / 84.0,
+    0.0,
+];
 /// B minus the embedded 4th-order weights.
 const E: [f64; 7] = [
     71.0 / 57600.0,
@@ -76,7 +105,11 @@ pub struct Dopri5 {
 
 impl Dopri5 {
     pub fn new(tolerance: f64) -> Dopri5 {
-        let mut d = Dopri5 { tolerance: DEFAULT_TOLERANCE, fsal: None, dense: None };
+        let mut d = Dopri5 {
+            tolerance: DEFAULT_TOLERANCE,
+            fsal: None,
+            dense: None,
+        };
         d.set_tolerance(tolerance);
         d
     }
@@ -95,10 +128,22 @@ impl Dopri5 {
 
     /// One step of exactly `h`; returns the step and the scaled error estimate
     /// (≤ 1 means within tolerance).
-    pub fn step(&mut self, sys: &System, y: &State, h: f64, counters: &mut Counters) -> Result<(Step, f64), StepError> {
+    pub fn step(
+        &mut self,
+        sys: &System,
+        y: &State,
+        h: f64,
+        counters: &mut Counters,
+    ) -> Result<(Step, f64), StepError> {
         let mut k = [[0.0; 2]; 7];
         k[0] = match self.fsal {
-            Some((at, f)) if at[0].to_bits() == y.q.to_bits() && at[1].to_bits() == y.p.to_bits() && at[2].to_bits() == y.t.to_bits() => f,
+            Some((at, f))
+                if at[0].to_bits() == y.q.to_bits()
+                    && at[1].to_bits() == y.p.to_bits()
+                    && at[2].to_bits() == y.t.to_bits() =>
+            {
+                f
+            }
             _ => Self::field(sys, y.q, y.p, y.t, counters),
         };
         let mut a_dot = [0.0; 7];
@@ -150,7 +195,17 @@ impl Dopri5 {
         }
         self.dense = Some(rc);
         self.fsal = Some(([end[0], end[1], y.t + h], k[6]));
-        Ok((Step { state: State { q: end[0], p: end[1], t: y.t + h }, p_dq }, norm))
+        Ok((
+            Step {
+                state: State {
+                    q: end[0],
+                    p: end[1],
+                    t: y.t + h,
+                },
+                p_dq,
+            },
+            norm,
+        ))
     }
 
     /// A controlled step: tries `h`, shrinks on rejection. Returns the step,
@@ -169,7 +224,11 @@ impl Dopri5 {
                 return Err(StepError::StepTooSmall { t: y.t, step: h });
             }
             let (step, err) = self.step(sys, y, h, counters)?;
-            let ratio = if err > 0.0 { (SAFETY * err.powf(-0.2)).clamp(MIN_RATIO, MAX_RATIO) } else { MAX_RATIO };
+            let ratio = if err > 0.0 {
+                (SAFETY * err.powf(-0.2)).clamp(MIN_RATIO, MAX_RATIO)
+            } else {
+                MAX_RATIO
+            };
             if err <= 1.0 && step.state.is_finite() {
                 return Ok((step, h, h * ratio));
             }
@@ -185,7 +244,8 @@ impl Dopri5 {
         let t1 = 1.0 - theta;
         let mut out = [0.0; 2];
         for r in 0..2 {
-            out[r] = rc[0][r] + theta * (rc[1][r] + t1 * (rc[2][r] + theta * (rc[3][r] + t1 * rc[4][r])));
+            out[r] = rc[0][r]
+                + theta * (rc[1][r] + t1 * (rc[2][r] + theta * (rc[3][r] + t1 * rc[4][r])));
         }
         Some(out)
     }

@@ -87,7 +87,13 @@ impl Collocation {
                 3
             }
         };
-        Collocation { s, a, b, c, last: None }
+        Collocation {
+            s,
+            a,
+            b,
+            c,
+            last: None,
+        }
     }
 
     pub fn stages(&self) -> usize {
@@ -134,11 +140,21 @@ impl Collocation {
             }
             *zi = [u[0] - y.q, u[1] - y.p];
         }
-        if z.iter().flatten().all(|v| v.is_finite()) { z } else { [[0.0; 2]; MAX_STAGES] }
+        if z.iter().flatten().all(|v| v.is_finite()) {
+            z
+        } else {
+            [[0.0; 2]; MAX_STAGES]
+        }
     }
 
     /// One step of size `h` from `y`.
-    pub fn step(&mut self, sys: &System, y: &State, h: f64, counters: &mut Counters) -> Result<Step, StepError> {
+    pub fn step(
+        &mut self,
+        sys: &System,
+        y: &State,
+        h: f64,
+        counters: &mut Counters,
+    ) -> Result<Step, StepError> {
         let s = self.s;
         let jet = sys.jet_t(y.q, y.p, y.t);
         counters.jet_evaluations += 1;
@@ -186,7 +202,11 @@ impl Collocation {
             }
             let Some(dz) = lu.solve(&rhs) else {
                 self.last = None;
-                return Err(StepError::SolverFailed { t: y.t, iterations, increment: f64::NAN });
+                return Err(StepError::SolverFailed {
+                    t: y.t,
+                    iterations,
+                    increment: f64::NAN,
+                });
             };
             let mut increment: f64 = 0.0;
             let mut zmax: f64 = 0.0;
@@ -201,7 +221,11 @@ impl Collocation {
             let relative = increment / scale;
             if !relative.is_finite() {
                 self.last = None;
-                return Err(StepError::SolverFailed { t: y.t, iterations, increment });
+                return Err(StepError::SolverFailed {
+                    t: y.t,
+                    iterations,
+                    increment,
+                });
             }
             if relative <= NEWTON_RELATIVE_TOLERANCE {
                 break;
@@ -211,11 +235,19 @@ impl Collocation {
                     break;
                 }
                 self.last = None;
-                return Err(StepError::SolverFailed { t: y.t, iterations, increment });
+                return Err(StepError::SolverFailed {
+                    t: y.t,
+                    iterations,
+                    increment,
+                });
             }
             if iterations >= NEWTON_MAX_ITERATIONS {
                 self.last = None;
-                return Err(StepError::SolverFailed { t: y.t, iterations, increment });
+                return Err(StepError::SolverFailed {
+                    t: y.t,
+                    iterations,
+                    increment,
+                });
             }
             previous = relative;
         }
@@ -226,7 +258,11 @@ impl Collocation {
             dp += self.b[i] * f[i][1];
             p_dq += self.b[i] * (y.p + z[i][1]) * f[i][0];
         }
-        let end = State { q: y.q + h * dq, p: y.p + h * dp, t: y.t + h };
+        let end = State {
+            q: y.q + h * dq,
+            p: y.p + h * dp,
+            t: y.t + h,
+        };
         let mut stages = [[0.0; 2]; MAX_STAGES];
         for i in 0..s {
             stages[i] = [y.q + z[i][0], y.p + z[i][1]];
@@ -235,7 +271,16 @@ impl Collocation {
             Some(mut l) if l.params == sys.params() => std::mem::take(&mut l.params),
             _ => sys.params().to_vec(),
         };
-        self.last = Some(LastStep { start: [y.q, y.p], h, stages, end, params });
-        Ok(Step { state: end, p_dq: h * p_dq })
+        self.last = Some(LastStep {
+            start: [y.q, y.p],
+            h,
+            stages,
+            end,
+            params,
+        });
+        Ok(Step {
+            state: end,
+            p_dq: h * p_dq,
+        })
     }
 }

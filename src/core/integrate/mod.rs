@@ -58,7 +58,12 @@ pub struct UnknownMethod(pub String);
 
 impl fmt::Display for UnknownMethod {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "unknown integration method '{}'; valid names: {}", self.0, Method::names().join(", "))
+        write!(
+            f,
+            "unknown integration method '{}'; valid names: {}",
+            self.0,
+            Method::names().join(", ")
+        )
     }
 }
 
@@ -98,7 +103,11 @@ impl Method {
     /// The method with this stable name (case and surrounding blanks ignored).
     pub fn from_name(name: &str) -> Result<Method, UnknownMethod> {
         let key = name.trim().to_ascii_lowercase();
-        Method::ALL.iter().copied().find(|m| m.name() == key).ok_or_else(|| UnknownMethod(name.to_string()))
+        Method::ALL
+            .iter()
+            .copied()
+            .find(|m| m.name() == key)
+            .ok_or_else(|| UnknownMethod(name.to_string()))
     }
 
     /// The concrete method `Auto` stands for with this system; other methods
@@ -163,7 +172,11 @@ impl fmt::Display for Method {
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum StepError {
     /// The stage equations of an implicit method did not converge.
-    SolverFailed { t: f64, iterations: u32, increment: f64 },
+    SolverFailed {
+        t: f64,
+        iterations: u32,
+        increment: f64,
+    },
     /// H or its derivatives were NaN or infinite at a point the step needed.
     NonFinite { t: f64 },
     /// The adaptive method could not meet its tolerance without shrinking the
@@ -174,11 +187,17 @@ pub enum StepError {
 impl fmt::Display for StepError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            StepError::SolverFailed { t, iterations, increment } => write!(
+            StepError::SolverFailed {
+                t,
+                iterations,
+                increment,
+            } => write!(
                 f,
                 "the implicit stage equations did not converge at t = {t} ({iterations} Newton iterations, last increment {increment:e}); try a smaller step"
             ),
-            StepError::NonFinite { t } => write!(f, "H or its derivatives are not finite near t = {t}"),
+            StepError::NonFinite { t } => {
+                write!(f, "H or its derivatives are not finite near t = {t}")
+            }
             StepError::StepTooSmall { t, step } => write!(
                 f,
                 "the adaptive step fell to {step:e} at t = {t}: the tolerance cannot be met there"
@@ -263,7 +282,11 @@ impl Integrator {
             Method::Auto | Method::Gauss6 => Kind::Gauss(gauss::Collocation::new(3)),
             Method::Dopri5 => Kind::Dopri(dopri::Dopri5::new(dopri::DEFAULT_TOLERANCE)),
         };
-        Ok(Integrator { method, kind, counters: Counters::default() })
+        Ok(Integrator {
+            method,
+            kind,
+            counters: Counters::default(),
+        })
     }
 
     /// The concrete method in use.
@@ -288,13 +311,22 @@ impl Integrator {
             Kind::Dopri(d) => d.step(sys, s, h, &mut self.counters).map(|(st, _)| st),
         }?;
         self.counters.steps += 1;
-        if out.state.is_finite() && out.p_dq.is_finite() { Ok(out) } else { Err(StepError::NonFinite { t: s.t }) }
+        if out.state.is_finite() && out.p_dq.is_finite() {
+            Ok(out)
+        } else {
+            Err(StepError::NonFinite { t: s.t })
+        }
     }
 
     /// A step with error control: tries `h`, shrinks it until the error is
     /// within tolerance, and returns the step taken with the proposed next
     /// step. Fixed-step methods take `h` and propose `h` again.
-    pub fn adaptive_step(&mut self, sys: &System, s: &State, h: f64) -> Result<(Step, f64, f64), StepError> {
+    pub fn adaptive_step(
+        &mut self,
+        sys: &System,
+        s: &State,
+        h: f64,
+    ) -> Result<(Step, f64, f64), StepError> {
         match &mut self.kind {
             Kind::Dopri(d) => {
                 let r = d.adaptive_step(sys, s, h, &mut self.counters)?;

@@ -46,7 +46,11 @@ pub fn yoshida4() -> [f64; 3] {
 ///
 /// Reference: H. Yoshida, Phys. Lett. A 150 (1990) 262–268, Table 1, solution A.
 pub fn yoshida6() -> [f64; 7] {
-    let (w1, w2, w3) = (-1.177_679_984_178_87, 0.235_573_213_359_357, 0.784_513_610_477_560);
+    let (w1, w2, w3) = (
+        -1.177_679_984_178_87,
+        0.235_573_213_359_357,
+        0.784_513_610_477_560,
+    );
     let w0 = 1.0 - 2.0 * (w1 + w2 + w3);
     [w3, w2, w1, w0, w1, w2, w3]
 }
@@ -76,7 +80,10 @@ impl Composition {
             Method::Yoshida6 => yoshida6().to_vec(),
             _ => yoshida4().to_vec(),
         };
-        Composition { weights, last_velocity: None }
+        Composition {
+            weights,
+            last_velocity: None,
+        }
     }
 
     fn velocity(sys: &System, q: f64, p: f64, t: f64, counters: &mut Counters) -> f64 {
@@ -86,13 +93,20 @@ impl Composition {
 
     fn cached_velocity(&self, sys: &System, p: f64) -> Option<f64> {
         let c = self.last_velocity.as_ref()?;
-        let same =
-            Arc::ptr_eq(&c.formula, sys.formula_arc()) && c.params == sys.params() && c.p.to_bits() == p.to_bits();
+        let same = Arc::ptr_eq(&c.formula, sys.formula_arc())
+            && c.params == sys.params()
+            && c.p.to_bits() == p.to_bits();
         same.then_some(c.hp)
     }
 
     /// One step of size `h` from `s`.
-    pub fn step(&mut self, sys: &System, s: &State, h: f64, counters: &mut Counters) -> Result<Step, StepError> {
+    pub fn step(
+        &mut self,
+        sys: &System,
+        s: &State,
+        h: f64,
+        counters: &mut Counters,
+    ) -> Result<Step, StepError> {
         let (mut q, mut p, t) = (s.q, s.p, s.t);
         let mut velocity = match self.cached_velocity(sys, p) {
             Some(v) => v,
@@ -120,9 +134,17 @@ impl Composition {
                 c.hp = velocity;
             }
             slot => {
-                *slot = Some(Cached { formula: sys.formula_arc().clone(), params: sys.params().to_vec(), p, hp: velocity })
+                *slot = Some(Cached {
+                    formula: sys.formula_arc().clone(),
+                    params: sys.params().to_vec(),
+                    p,
+                    hp: velocity,
+                })
             }
         }
-        Ok(Step { state: State { q, p, t: t + h }, p_dq })
+        Ok(Step {
+            state: State { q, p, t: t + h },
+            p_dq,
+        })
     }
 }
