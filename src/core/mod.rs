@@ -4,6 +4,8 @@ pub mod analysis;
 pub mod contour;
 pub mod equilibria;
 pub mod formula;
+pub mod integrate;
+pub mod orbit;
 pub mod system;
 pub mod wells;
 pub mod window;
