@@ -44,10 +44,16 @@ fn offences(text: &str) -> Vec<(usize, &'static str)> {
 
 #[test]
 fn core_never_mentions_view_crates_clap_or_the_file_system() {
-    let core = Path::new(env!("CARGO_MANIFEST_DIR")).join("src").join("core");
+    let core = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("src")
+        .join("core");
     let mut files = Vec::new();
     rust_files(&core, &mut files);
-    assert!(files.iter().any(|f| f.ends_with("formula.rs")), "src/core not found at {}", core.display());
+    assert!(
+        files.iter().any(|f| f.ends_with("formula.rs")),
+        "src/core not found at {}",
+        core.display()
+    );
     let mut bad = Vec::new();
     for f in &files {
         let text = match std::fs::read_to_string(f) {
@@ -58,14 +64,21 @@ fn core_never_mentions_view_crates_clap_or_the_file_system() {
             bad.push(format!("{}:{line} mentions {name}", f.display()));
         }
     }
-    assert!(bad.is_empty(), "the core must stay free of views and files:\n{}", bad.join("\n"));
+    assert!(
+        bad.is_empty(),
+        "the core must stay free of views and files:\n{}",
+        bad.join("\n")
+    );
 }
 
 #[test]
 fn the_scan_catches_what_it_should_and_only_that() {
     // the detector itself, on known text
     assert_eq!(offences("use egui::Ui;"), vec![(1, "egui")]);
-    assert_eq!(offences("let x = 1;\nlet t = std::fs::read(p);"), vec![(2, "std::fs")]);
+    assert_eq!(
+        offences("let x = 1;\nlet t = std::fs::read(p);"),
+        vec![(2, "std::fs")]
+    );
     assert_eq!(offences("use clap::Parser;"), vec![(1, "clap")]);
     assert!(offences("egui_plot::Line").contains(&(1, "egui_plot")));
     assert!(offences("let surfdata = eclapse; // rfdx").is_empty());

@@ -28,7 +28,10 @@ fn value(src: &str, q: f64, p: f64, params: &[f64]) -> f64 {
 
 #[track_caller]
 fn assert_near(a: f64, b: f64, what: &str) {
-    assert!((a - b).abs() <= 1e-14 * (1.0 + b.abs()), "{what}: got {a}, expected {b}");
+    assert!(
+        (a - b).abs() <= 1e-14 * (1.0 + b.abs()),
+        "{what}: got {a}, expected {b}"
+    );
 }
 
 // ---- messages and positions (columns are 1-based characters: common practice) ----
@@ -49,7 +52,11 @@ fn unknown_function_is_named_and_the_available_ones_listed() {
     assert!(e.message.contains("'sine'"), "{}", e.message);
     assert!(e.message.contains(&function_names()), "{}", e.message);
     for f in ["sin", "cos", "exp", "ln", "sqrt", "atan2"] {
-        assert!(function_names().split(", ").any(|n| n == f), "{f} missing from {}", function_names());
+        assert!(
+            function_names().split(", ").any(|n| n == f),
+            "{f} missing from {}",
+            function_names()
+        );
     }
     assert_eq!(e.column, Some(9), "{e}");
 }
@@ -59,13 +66,25 @@ fn wrong_argument_counts_say_how_many_are_taken_and_given() {
     let e = reject("sin(q, p)");
     assert_eq!(
         e.kind,
-        FormulaErrorKind::WrongArgumentCount { function: "sin".into(), expected: "1".into(), found: 2 }
+        FormulaErrorKind::WrongArgumentCount {
+            function: "sin".into(),
+            expected: "1".into(),
+            found: 2
+        }
     );
-    assert!(e.message.contains("'sin' takes 1 argument") && e.message.contains("2 were given"), "{}", e.message);
+    assert!(
+        e.message.contains("'sin' takes 1 argument") && e.message.contains("2 were given"),
+        "{}",
+        e.message
+    );
     assert_eq!(e.column, Some(1));
 
     let e = reject("q + atan2(p)");
-    assert!(e.message.contains("'atan2' takes 2 arguments") && e.message.contains("1 was given"), "{}", e.message);
+    assert!(
+        e.message.contains("'atan2' takes 2 arguments") && e.message.contains("1 was given"),
+        "{}",
+        e.message
+    );
     assert_eq!(e.column, Some(5), "{e}");
 
     let e = reject("max(q)");
@@ -82,7 +101,11 @@ fn error_on_a_later_line_reports_line_and_column() {
 #[test]
 fn unclosed_and_unopened_parentheses_are_pointed_at() {
     let e = reject("sin(q");
-    assert!(e.message.contains("')'") && e.message.contains("missing"), "{}", e.message);
+    assert!(
+        e.message.contains("')'") && e.message.contains("missing"),
+        "{}",
+        e.message
+    );
     let e = reject("q + p)");
     assert!(e.message.contains("no matching '('"), "{}", e.message);
     assert_eq!(e.column, Some(6), "{e}");
@@ -91,7 +114,11 @@ fn unclosed_and_unopened_parentheses_are_pointed_at() {
 #[test]
 fn juxtaposed_values_ask_for_an_operator() {
     let e = reject("2 q");
-    assert!(e.message.contains("operator is missing") && e.message.contains('*'), "{}", e.message);
+    assert!(
+        e.message.contains("operator is missing") && e.message.contains('*'),
+        "{}",
+        e.message
+    );
     assert_eq!(e.column, Some(3), "{e}");
 }
 
@@ -120,7 +147,11 @@ fn parameters_are_numbered_in_order_of_first_appearance() {
     assert_eq!(f.params(), ["beta", "alpha", "gamma"]);
     assert_eq!(f.param_index("alpha"), Some(1));
     // slots [q, p, t, beta, alpha, gamma]
-    assert_near(f.eval_f64(&[2.0, 3.0, 0.0, 5.0, 7.0, 11.0]), 5.0 * 4.0 + 7.0 * 9.0 + 55.0, "value");
+    assert_near(
+        f.eval_f64(&[2.0, 3.0, 0.0, 5.0, 7.0, 11.0]),
+        5.0 * 4.0 + 7.0 * 9.0 + 55.0,
+        "value",
+    );
 }
 
 #[test]
@@ -140,7 +171,11 @@ fn integer_and_real_powers_match_std() {
     assert_near(value("q^-2", 1.7, 0.0, &[]), 1.7f64.powi(-2), "q^-2");
     assert_near(value("q^2.5", 1.7, 0.0, &[]), 1.7f64.powf(2.5), "q^2.5");
     assert_near(value("2^q", 1.7, 0.0, &[]), 2f64.powf(1.7), "2^q");
-    assert_near(value("q^k", 1.7, 0.0, &[3.0]), 1.7f64.powi(3), "q^k with k = 3");
+    assert_near(
+        value("q^k", 1.7, 0.0, &[3.0]),
+        1.7f64.powi(3),
+        "q^k with k = 3",
+    );
 }
 
 #[test]
@@ -156,7 +191,11 @@ fn power_with_both_sides_varying_has_exact_derivatives() {
     assert!((j.hq - p * q.powf(p - 1.0)).abs() < 1e-12, "H_q {}", j.hq);
     assert!((j.hp - q.powf(p) * q.ln()).abs() < 1e-12, "H_p {}", j.hp);
     // d²/dq dp q^p = q^(p−1) (1 + p ln q)
-    assert!((j.hqp - q.powf(p - 1.0) * (1.0 + p * q.ln())).abs() < 1e-12, "H_qp {}", j.hqp);
+    assert!(
+        (j.hqp - q.powf(p - 1.0) * (1.0 + p * q.ln())).abs() < 1e-12,
+        "H_qp {}",
+        j.hqp
+    );
 }
 
 #[test]
@@ -173,7 +212,11 @@ fn power_is_right_associative_and_binds_tighter_than_product() {
     // a^b^c = a^(b^c); 2*q^2 = 2*(q^2) (common practice)
     assert_near(value("2^3^2", 0.0, 0.0, &[]), 512.0, "2^3^2");
     assert_near(value("2*q^2", 3.0, 0.0, &[]), 18.0, "2*q^2");
-    assert_near(value("q/2/4", 8.0, 0.0, &[]), 1.0, "left-associative division");
+    assert_near(
+        value("q/2/4", 8.0, 0.0, &[]),
+        1.0,
+        "left-associative division",
+    );
 }
 
 // ---- function values against std ----
@@ -203,7 +246,12 @@ fn functions_agree_with_std() {
     for (src, want) in cases {
         assert_near(value(src, x, 0.0, &[]), want, src);
     }
-    for (src, want) in [("floor(q)", 2.0), ("ceil(q)", 3.0), ("round(q)", 3.0), ("signum(-q)", -1.0)] {
+    for (src, want) in [
+        ("floor(q)", 2.0),
+        ("ceil(q)", 3.0),
+        ("round(q)", 3.0),
+        ("signum(-q)", -1.0),
+    ] {
         assert_near(value(src, 2.6, 0.0, &[]), want, src);
     }
     // remainder keeps the sign of the dividend, as Rust's % does
@@ -212,10 +260,20 @@ fn functions_agree_with_std() {
 
 #[test]
 fn piecewise_constant_functions_and_remainder_raise_warnings() {
-    for src in ["floor(q) + p^2", "p^2 + round(q)", "signum(q)*p^2", "q % 2 + p^2", "ceil(q)"] {
+    for src in [
+        "floor(q) + p^2",
+        "p^2 + round(q)",
+        "signum(q)*p^2",
+        "q % 2 + p^2",
+        "ceil(q)",
+    ] {
         let f = compile(src);
         assert_eq!(f.warnings().len(), 1, "{src}: {:?}", f.warnings());
-        assert!(f.warnings()[0].message.contains("derivatives"), "{src}: {}", f.warnings()[0].message);
+        assert!(
+            f.warnings()[0].message.contains("derivatives"),
+            "{src}: {}",
+            f.warnings()[0].message
+        );
     }
     let f = compile("p^2/2 + floor(q)");
     assert_eq!(f.warnings()[0].column, Some(9), "{:?}", f.warnings());
@@ -226,10 +284,23 @@ fn piecewise_constant_functions_and_remainder_raise_warnings() {
 
 #[test]
 fn separability_is_detected_term_by_term() {
-    for src in ["p^2/2 + q^4/4 - cos(q)", "(p^2 + q^2)/2", "p^2/(2*m) + k*q^2", "-(p^2) - q", "3*(p^2 - q^3)"] {
+    for src in [
+        "p^2/2 + q^4/4 - cos(q)",
+        "(p^2 + q^2)/2",
+        "p^2/(2*m) + k*q^2",
+        "-(p^2) - q",
+        "3*(p^2 - q^3)",
+    ] {
         assert!(compile(src).is_separable(), "{src} is separable");
     }
-    for src in ["q*p", "sin(q + p)", "p^2/2 + q*p", "(p^2 + q^2)^2", "p^2/q", "exp(q)*p^2"] {
+    for src in [
+        "q*p",
+        "sin(q + p)",
+        "p^2/2 + q*p",
+        "(p^2 + q^2)^2",
+        "p^2/q",
+        "exp(q)*p^2",
+    ] {
         assert!(!compile(src).is_separable(), "{src} is not separable");
     }
 }

@@ -16,7 +16,10 @@ fn exercise(src: &str) -> Option<String> {
             assert!(!shown.trim().is_empty());
             if let Some(c) = e.column {
                 let line = src.split('\n').nth(e.line.saturating_sub(1)).unwrap_or("");
-                assert!(c >= 1 && c <= line.chars().count() + 1, "column {c} outside line {line:?} of {src:?}");
+                assert!(
+                    c >= 1 && c <= line.chars().count() + 1,
+                    "column {c} outside line {line:?} of {src:?}"
+                );
             }
             Some(e.message)
         }
@@ -41,8 +44,13 @@ fn exercise(src: &str) -> Option<String> {
             // the fast row evaluator agrees with the tape
             for (i, &q) in qs.iter().enumerate() {
                 let want = s.energy(q, 0.25);
-                let same = (out[i] - want).abs() <= 1e-12 * (1.0 + want.abs()) || (out[i].is_nan() && want.is_nan());
-                assert!(same || !want.is_finite(), "{src:?} at q = {q}: row {} vs tape {want}", out[i]);
+                let same = (out[i] - want).abs() <= 1e-12 * (1.0 + want.abs())
+                    || (out[i].is_nan() && want.is_nan());
+                assert!(
+                    same || !want.is_finite(),
+                    "{src:?} at q = {q}: row {} vs tape {want}",
+                    out[i]
+                );
             }
             None
         }
@@ -51,9 +59,9 @@ fn exercise(src: &str) -> Option<String> {
 
 /// Pieces that look like formulas, so random joins reach deep into the parser.
 const PIECES: &[&str] = &[
-    "q", "p", "t", "a", "mu", "pi", "e", "1", "2.5", "1e3", "0.", ".5", "+", "-", "*", "/", "^", "%", "(", ")", ",",
-    " ", "\n", "sin(", "cos(", "exp(", "ln(", "sqrt(", "atan2(", "min(", "max(", "floor(", "foo(", "1e", "1e999",
-    "q(", ")(", "--", "^-", "**", "#", "$", "é", "∂",
+    "q", "p", "t", "a", "mu", "pi", "e", "1", "2.5", "1e3", "0.", ".5", "+", "-", "*", "/", "^",
+    "%", "(", ")", ",", " ", "\n", "sin(", "cos(", "exp(", "ln(", "sqrt(", "atan2(", "min(",
+    "max(", "floor(", "foo(", "1e", "1e999", "q(", ")(", "--", "^-", "**", "#", "$", "é", "∂",
 ];
 
 fn formula_like() -> impl Strategy<Value = String> {
@@ -90,7 +98,11 @@ fn very_deep_nesting_compiles_or_is_refused_cleanly() {
     for depth in [10_000, 30_000] {
         let balanced = format!("{}q{}", "(".repeat(depth), ")".repeat(depth));
         if balanced.len() <= MAX_SOURCE_BYTES {
-            assert_eq!(exercise(&balanced), None, "balanced nesting of depth {depth} is a valid formula");
+            assert_eq!(
+                exercise(&balanced),
+                None,
+                "balanced nesting of depth {depth} is a valid formula"
+            );
         } else {
             let msg = exercise(&balanced).unwrap_or_default();
             assert!(msg.contains("bytes"), "{msg}");
@@ -200,7 +212,14 @@ fn d11(f: impl Fn(f64, f64) -> f64) -> f64 {
 #[track_caller]
 fn agree(exact: f64, diff: f64, rounding: f64, what: &str, src: &str) -> Result<(), TestCaseError> {
     let tol = 1e-8 * (1.0 + exact.abs()) + rounding;
-    prop_assert!((exact - diff).abs() <= tol, "{} of {}: jet {} vs differences {}", what, src, exact, diff);
+    prop_assert!(
+        (exact - diff).abs() <= tol,
+        "{} of {}: jet {} vs differences {}",
+        what,
+        src,
+        exact,
+        diff
+    );
     Ok(())
 }
 
