@@ -17,9 +17,16 @@ pub enum Modal {
     None,
     About,
     ConfirmDiscard(Guarded),
-    PathPrompt { purpose: DialogPurpose, text: String, note: String },
+    PathPrompt {
+        purpose: DialogPurpose,
+        text: String,
+        note: String,
+    },
     OfferRestore,
-    Message { title: String, text: String },
+    Message {
+        title: String,
+        text: String,
+    },
 }
 
 pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command> {
@@ -44,7 +51,10 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
             let action = action.clone();
             let r = egui::Modal::new(egui::Id::unique("confirm-discard")).show(ctx, |ui| {
                 ui.heading("Unsaved changes");
-                ui.label(format!("The session has changes that are not saved. {} anyway?", action.verb()));
+                ui.label(format!(
+                    "The session has changes that are not saved. {} anyway?",
+                    action.verb()
+                ));
                 let mut done = false;
                 ui.horizontal(|ui| {
                     if has_file && ui.button("Save, then continue").clicked() {
@@ -64,7 +74,11 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
             });
             close = r.inner || r.should_close();
         }
-        Modal::PathPrompt { purpose, text, note } => {
+        Modal::PathPrompt {
+            purpose,
+            text,
+            note,
+        } => {
             let purpose = *purpose;
             let r = egui::Modal::new(egui::Id::unique("path-prompt")).show(ctx, |ui| {
                 ui.set_min_width(420.0);
@@ -76,11 +90,19 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
                     ui.small(note.as_str());
                 }
                 let label = ui.label("Path");
-                let edit = ui.add(egui::TextEdit::singleline(text).desired_width(400.0)).labelled_by(label.id);
+                let edit = ui
+                    .add(egui::TextEdit::singleline(text).desired_width(400.0))
+                    .labelled_by(label.id);
                 let enter = edit.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
                 let mut done = false;
                 ui.horizontal(|ui| {
-                    let ok = ui.button(if purpose == DialogPurpose::Open { "Open" } else { "Save" }).clicked();
+                    let ok = ui
+                        .button(if purpose == DialogPurpose::Open {
+                            "Open"
+                        } else {
+                            "Save"
+                        })
+                        .clicked();
                     if (ok || enter) && !text.trim().is_empty() {
                         let path = PathBuf::from(text.trim());
                         out.push(match purpose {

@@ -18,12 +18,30 @@ const RECENT_MAX: usize = 10;
 
 /// Example sessions compiled into the binary: (file name, text).
 pub const EXAMPLES: &[(&str, &str)] = &[
-    ("biased-resonator.json", include_str!("../../sessions/biased-resonator.json")),
-    ("loaded-strut.json", include_str!("../../sessions/loaded-strut.json")),
-    ("imperfect-strut.json", include_str!("../../sessions/imperfect-strut.json")),
-    ("barrier-crossing.json", include_str!("../../sessions/barrier-crossing.json")),
-    ("diatomic-bond.json", include_str!("../../sessions/diatomic-bond.json")),
-    ("tilted-lattice.json", include_str!("../../sessions/tilted-lattice.json")),
+    (
+        "biased-resonator.json",
+        include_str!("../../sessions/biased-resonator.json"),
+    ),
+    (
+        "loaded-strut.json",
+        include_str!("../../sessions/loaded-strut.json"),
+    ),
+    (
+        "imperfect-strut.json",
+        include_str!("../../sessions/imperfect-strut.json"),
+    ),
+    (
+        "barrier-crossing.json",
+        include_str!("../../sessions/barrier-crossing.json"),
+    ),
+    (
+        "diatomic-bond.json",
+        include_str!("../../sessions/diatomic-bond.json"),
+    ),
+    (
+        "tilted-lattice.json",
+        include_str!("../../sessions/tilted-lattice.json"),
+    ),
 ];
 
 /// The session shown when nothing else is given and no example loads.
@@ -70,7 +88,9 @@ pub fn default_data_dir() -> Option<PathBuf> {
     if let Some(d) = std::env::var_os("XDG_DATA_HOME").filter(|d| !d.is_empty()) {
         return Some(PathBuf::from(d).join("phasewright"));
     }
-    std::env::var_os("HOME").filter(|d| !d.is_empty()).map(|h| PathBuf::from(h).join(".local/share/phasewright"))
+    std::env::var_os("HOME")
+        .filter(|d| !d.is_empty())
+        .map(|h| PathBuf::from(h).join(".local/share/phasewright"))
 }
 
 /// The recovery file and recent list in one directory.
@@ -91,7 +111,8 @@ impl DataDir {
     }
 
     pub fn write_recovery(&self, session: &Session) -> Result<(), String> {
-        std::fs::create_dir_all(&self.dir).map_err(|e| format!("cannot create {}: {e}", self.dir.display()))?;
+        std::fs::create_dir_all(&self.dir)
+            .map_err(|e| format!("cannot create {}: {e}", self.dir.display()))?;
         save_session(session, &self.recovery_path())
     }
 
@@ -148,31 +169,43 @@ const DIALOG_MIN_HUMAN: Duration = Duration::from_millis(250);
 
 impl PendingDialog {
     /// Start a native dialog, or None when native dialogs are turned off.
-    pub fn start(purpose: DialogPurpose, start_dir: Option<PathBuf>, file_name: &str) -> Option<PendingDialog> {
+    pub fn start(
+        purpose: DialogPurpose,
+        start_dir: Option<PathBuf>,
+        file_name: &str,
+    ) -> Option<PendingDialog> {
         if std::env::var_os(NO_NATIVE_DIALOG_ENV).is_some_and(|v| !v.is_empty() && v != "0") {
             return None;
         }
         let (tx, rx) = channel();
         let name = file_name.to_string();
-        let spawned = std::thread::Builder::new().name("phasewright-dialog".into()).spawn(move || {
-            let mut d = rfd::FileDialog::new().add_filter("phasewright session", &["json"]);
-            if let Some(dir) = start_dir {
-                d = d.set_directory(dir);
-            }
-            let chosen = match purpose {
-                DialogPurpose::Open => d.pick_file(),
-                DialogPurpose::SaveAs => d.set_file_name(name).save_file(),
-            };
-            let _ = tx.send(chosen);
-        });
-        spawned.ok().map(|_| PendingDialog { purpose, started: Instant::now(), rx })
+        let spawned = std::thread::Builder::new()
+            .name("phasewright-dialog".into())
+            .spawn(move || {
+                let mut d = rfd::FileDialog::new().add_filter("phasewright session", &["json"]);
+                if let Some(dir) = start_dir {
+                    d = d.set_directory(dir);
+                }
+                let chosen = match purpose {
+                    DialogPurpose::Open => d.pick_file(),
+                    DialogPurpose::SaveAs => d.set_file_name(name).save_file(),
+                };
+                let _ = tx.send(chosen);
+            });
+        spawned.ok().map(|_| PendingDialog {
+            purpose,
+            started: Instant::now(),
+            rx,
+        })
     }
 
     /// The outcome once the dialog has closed.
     pub fn poll(&self) -> Option<DialogOutcome> {
         match self.rx.try_recv() {
             Ok(Some(p)) => Some(DialogOutcome::Chosen(p)),
-            Ok(None) if self.started.elapsed() < DIALOG_MIN_HUMAN => Some(DialogOutcome::Unavailable),
+            Ok(None) if self.started.elapsed() < DIALOG_MIN_HUMAN => {
+                Some(DialogOutcome::Unavailable)
+            }
             Ok(None) => Some(DialogOutcome::Cancelled),
             Err(std::sync::mpsc::TryRecvError::Empty) => None,
             Err(std::sync::mpsc::TryRecvError::Disconnected) => Some(DialogOutcome::Unavailable),

@@ -18,7 +18,10 @@ pub struct FormulaPanel {
 
 impl FormulaPanel {
     pub fn new(text: &str) -> Self {
-        FormulaPanel { text: text.to_string(), error: None }
+        FormulaPanel {
+            text: text.to_string(),
+            error: None,
+        }
     }
 
     /// Replace the editor text (load, undo); the text is known to compile or is
@@ -42,7 +45,10 @@ impl FormulaPanel {
             match Formula::compile(&self.text) {
                 Ok(f) => {
                     self.error = None;
-                    command = Some(Command::FormulaEdited { text: self.text.clone(), formula: Arc::new(f) });
+                    command = Some(Command::FormulaEdited {
+                        text: self.text.clone(),
+                        formula: Arc::new(f),
+                    });
                 }
                 Err(e) => self.error = Some(e),
             }
@@ -63,6 +69,10 @@ fn error_block(ui: &mut egui::Ui, text: &str, err: &FormulaError) {
     if let Some(col) = err.column {
         let line = text.lines().nth(err.line.saturating_sub(1)).unwrap_or("");
         let caret = format!("{}^", " ".repeat(col.saturating_sub(1)));
-        ui.label(egui::RichText::new(format!("{line}\n{caret}")).monospace().color(red));
+        ui.label(
+            egui::RichText::new(format!("{line}\n{caret}"))
+                .monospace()
+                .color(red),
+        );
     }
 }

@@ -34,7 +34,9 @@ impl History {
     /// (a drag still in progress).
     pub fn record(&mut self, before: &Session, kind: EditKind, now: f64, continuing: bool) {
         let coalesce = match &self.last {
-            Some((k, t)) => *k == kind && kind != EditKind::Other && (continuing || now - t < COALESCE_SECONDS),
+            Some((k, t)) => {
+                *k == kind && kind != EditKind::Other && (continuing || now - t < COALESCE_SECONDS)
+            }
             None => false,
         };
         if !coalesce {

@@ -16,10 +16,16 @@ pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
     let mut out = Vec::new();
     egui::MenuBar::new().ui(ui, |ui| {
         ui.menu_button("Session", |ui| {
-            if ui.add(egui::Button::new("New").shortcut_text("Ctrl+N")).clicked() {
+            if ui
+                .add(egui::Button::new("New").shortcut_text("Ctrl+N"))
+                .clicked()
+            {
                 out.push(Command::Guarded(Guarded::New));
             }
-            if ui.add(egui::Button::new("Open…").shortcut_text("Ctrl+O")).clicked() {
+            if ui
+                .add(egui::Button::new("Open…").shortcut_text("Ctrl+O"))
+                .clicked()
+            {
                 out.push(Command::Guarded(Guarded::OpenDialog));
             }
             if ui.button("Open by path…").clicked() {
@@ -36,17 +42,26 @@ pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
                 }
             });
             ui.separator();
-            if ui.add(egui::Button::new("Save").shortcut_text("Ctrl+S")).clicked() {
+            if ui
+                .add(egui::Button::new("Save").shortcut_text("Ctrl+S"))
+                .clicked()
+            {
                 out.push(Command::Save);
             }
-            if ui.add(egui::Button::new("Save as…").shortcut_text("Ctrl+Shift+S")).clicked() {
+            if ui
+                .add(egui::Button::new("Save as…").shortcut_text("Ctrl+Shift+S"))
+                .clicked()
+            {
                 out.push(Command::SaveAs);
             }
             if ui.button("Save to path…").clicked() {
                 out.push(Command::SavePrompt);
             }
             ui.separator();
-            if ui.add(egui::Button::new("Quit").shortcut_text("Ctrl+Q")).clicked() {
+            if ui
+                .add(egui::Button::new("Quit").shortcut_text("Ctrl+Q"))
+                .clicked()
+            {
                 out.push(Command::Guarded(Guarded::Quit));
             }
         });
@@ -63,10 +78,21 @@ pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
             }
         });
         ui.menu_button("Edit", |ui| {
-            if ui.add_enabled(st.can_undo, egui::Button::new("Undo").shortcut_text("Ctrl+Z")).clicked() {
+            if ui
+                .add_enabled(
+                    st.can_undo,
+                    egui::Button::new("Undo").shortcut_text("Ctrl+Z"),
+                )
+                .clicked()
+            {
                 out.push(Command::Undo);
             }
-            if ui.add_enabled(st.can_redo, egui::Button::new("Redo").shortcut_text("Ctrl+Shift+Z / Ctrl+Y")).clicked()
+            if ui
+                .add_enabled(
+                    st.can_redo,
+                    egui::Button::new("Redo").shortcut_text("Ctrl+Shift+Z / Ctrl+Y"),
+                )
+                .clicked()
             {
                 out.push(Command::Redo);
             }

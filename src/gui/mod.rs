@@ -44,8 +44,8 @@ pub const COARSE_GRID: usize = 128;
 const PARAM_SETTLE_SECONDS: f64 = 1.0;
 /// Autosave to the recovery file this often while there are unsaved changes (s).
 const AUTOSAVE_SECONDS: f64 = 4.0;
-/// Default integration time of an orbit launched by a click.
-const DEFAULT_ORBIT_DURATION: f64 = 40.0;
+/// Longest integration time of an orbit launched by a click (a closed orbit stops after one period).
+const DEFAULT_ORBIT_DURATION: f64 = 200.0;
 
 /// What is selected in the tables (and highlighted in the plot).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -83,14 +83,36 @@ impl Guarded {
 #[must_use]
 #[derive(Clone, Debug)]
 pub enum Command {
-    FormulaEdited { text: String, formula: Arc<Formula> },
-    SetParam { name: String, value: f64, dragging: bool },
-    SetRange { name: String, min: f64, max: f64, step: Option<f64> },
-    SetView { window: Window, dragging: bool },
+    FormulaEdited {
+        text: String,
+        formula: Arc<Formula>,
+    },
+    SetParam {
+        name: String,
+        value: f64,
+        dragging: bool,
+    },
+    SetRange {
+        name: String,
+        min: f64,
+        max: f64,
+        step: Option<f64>,
+    },
+    SetView {
+        window: Window,
+        dragging: bool,
+    },
     ResetView,
-    LaunchOrbit { q: f64, p: f64 },
+    LaunchOrbit {
+        q: f64,
+        p: f64,
+    },
     DeleteOrbit(usize),
-    EditOrbit { index: usize, orbit: SeededOrbit, dragging: bool },
+    EditOrbit {
+        index: usize,
+        orbit: SeededOrbit,
+        dragging: bool,
+    },
     Select(Selection),
     Guarded(Guarded),
     Confirmed(Guarded),
@@ -152,14 +174,26 @@ pub struct Explorer {
 impl Explorer {
     /// An explorer showing `session`; `data_dir` holds the recovery file and
     /// recent files (None: neither is kept).
-    pub fn new(session: Session, file: Option<PathBuf>, data_dir: Option<PathBuf>) -> Result<Explorer, String> {
+    pub fn new(
+        session: Session,
+        file: Option<PathBuf>,
+        data_dir: Option<PathBuf>,
+    ) -> Result<Explorer, String> {
         let worker = Worker::start()?;
         let data = data_dir.map(|dir| DataDir { dir });
         let recent = data.as_ref().map(|d| d.recent()).unwrap_or_default();
-        let offer = data.as_ref().is_some_and(|d| d.pending_recovery().is_some());
+        let offer = data
+            .as_ref()
+            .is_some_and(|d| d.pending_recovery().is_some());
         let frame_log = std::env::var_os(FRAME_LOG_ENV)
             .filter(|p| !p.is_empty())
-            .and_then(|p| std::fs::OpenOptions::new().create(true).append(true).open(p).ok());
+            .and_then(|p| {
+                std::fs::OpenOptions::new()
+                    .create(true)
+                    .append(true)
+                    .open(p)
+                    .ok()
+            });
         let mut ex = Explorer {
             formula: formula_panel::FormulaPanel::new(&session.formula),
             compiled: None,
@@ -179,7 +213,11 @@ impl Explorer {
             dragging: false,
             dragging_seen: false,
             param_settle_at: None,
-            modal: if offer { Modal::OfferRestore } else { Modal::None },
+            modal: if offer {
+                Modal::OfferRestore
+            } else {
+                Modal::None
+            },
             pending_dialog: None,
             data,
             recent,
@@ -253,7 +291,13 @@ impl Explorer {
             .as_ref()
             .and_then(|p| p.file_name())
             .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_else(|| if self.session.title.is_empty() { "untitled".into() } else { self.session.title.clone() });
+            .unwrap_or_else(|| {
+                if self.session.title.is_empty() {
+                    "untitled".into()
+                } else {
+                    self.session.title.clone()
+                }
+            });
         format!("{}{name} — phasewright", if self.dirty { "● " } else { "" })
     }
 
@@ -279,12 +323,18 @@ impl Explorer {
 
     /// Wall times (ms) of the analysis and orbit parts of the shown result.
     pub fn last_job_ms(&self) -> Option<(f64, f64, bool)> {
-        self.shown.as_ref().map(|c| (c.analysis_ms, c.orbits_ms, c.coarse))
+        self.shown
+            .as_ref()
+            .map(|c| (c.analysis_ms, c.orbits_ms, c.coarse))
     }
 
     /// Set a parameter as a slider would (used by the benchmark and tests).
     pub fn set_parameter(&mut self, name: &str, value: f64, dragging: bool) {
-        self.apply(Command::SetParam { name: name.to_string(), value, dragging });
+        self.apply(Command::SetParam {
+            name: name.to_string(),
+            value,
+            dragging,
+        });
     }
 
     /// Use native file dialogs (true) or always the in-app path prompt.
@@ -320,7 +370,11 @@ impl Explorer {
             self.accept(c);
         }
         if self.theme_applied != Some(self.dark) {
-            ctx.set_theme(if self.dark { egui::Theme::Dark } else { egui::Theme::Light });
+            ctx.set_theme(if self.dark {
+                egui::Theme::Dark
+            } else {
+                egui::Theme::Light
+            });
             self.theme_applied = Some(self.dark);
         }
         let mut commands = self.shortcuts(&ctx);
@@ -349,30 +403,44 @@ impl Explorer {
                 }
             });
         });
-        egui::Panel::left("formula-and-parameters").resizable(true).default_size(330.0).show(ui, |ui| {
-            egui::ScrollArea::vertical().show(ui, |ui| {
-                if let Some(c) = self.formula.ui(ui) {
-                    commands.push(c);
-                }
-                ui.add_space(8.0);
-                let unused = self.unused_parameters();
-                commands.extend(self.params.ui(ui, &self.session.parameters, &unused));
+        egui::Panel::left("formula-and-parameters")
+            .resizable(true)
+            .default_size(330.0)
+            .show(ui, |ui| {
+                egui::ScrollArea::vertical().show(ui, |ui| {
+                    if let Some(c) = self.formula.ui(ui) {
+                        commands.push(c);
+                    }
+                    ui.add_space(8.0);
+                    let unused = self.unused_parameters();
+                    commands.extend(self.params.ui(ui, &self.session.parameters, &unused));
+                });
             });
-        });
-        egui::Panel::bottom("tables").resizable(true).default_size(210.0).show(ui, |ui| {
-            let outcomes = self.aligned_outcomes();
-            commands.extend(self.tables.ui(
-                ui,
-                self.shown.as_ref().map(|c| c.analysis.as_ref()),
-                &self.session.orbits,
-                &outcomes,
-                self.selection,
-            ));
-        });
+        egui::Panel::bottom("tables")
+            .resizable(true)
+            .default_size(210.0)
+            .show(ui, |ui| {
+                let outcomes = self.aligned_outcomes();
+                commands.extend(self.tables.ui(
+                    ui,
+                    self.shown.as_ref().map(|c| c.analysis.as_ref()),
+                    &self.session.orbits,
+                    &outcomes,
+                    self.selection,
+                ));
+            });
         let busy = self.busy();
         let greyed = self.formula.error.is_some();
         egui::CentralPanel::default().show(ui, |ui| {
-            commands.extend(self.plot.ui(ui, &self.session.view, self.shown.as_ref(), greyed, self.selection, busy, self.now));
+            commands.extend(self.plot.ui(
+                ui,
+                &self.session.view,
+                self.shown.as_ref(),
+                greyed,
+                self.selection,
+                busy,
+                self.now,
+            ));
         });
         commands.extend(dialogs::ui(&ctx, &mut self.modal, self.file.is_some()));
 
@@ -397,11 +465,21 @@ impl Explorer {
         if let Some(f) = &mut self.frame_log {
             use std::io::Write;
             let ui_ms = (now - t0).as_secs_f64() * 1e3;
-            let gap_ms = self.last_frame.map_or(0.0, |l| (t0 - l).as_secs_f64() * 1e3);
+            let gap_ms = self
+                .last_frame
+                .map_or(0.0, |l| (t0 - l).as_secs_f64() * 1e3);
             let job = self.shown.as_ref().map_or(String::new(), |c| {
-                format!(" job_ms={:.2} coarse={}", c.analysis_ms + c.orbits_ms, c.coarse)
+                format!(
+                    " job_ms={:.2} coarse={}",
+                    c.analysis_ms + c.orbits_ms,
+                    c.coarse
+                )
             });
-            let _ = writeln!(f, "ui_ms={ui_ms:.3} since_last_ms={gap_ms:.3} dragging={}{job}", self.dragging);
+            let _ = writeln!(
+                f,
+                "ui_ms={ui_ms:.3} since_last_ms={gap_ms:.3} dragging={}{job}",
+                self.dragging
+            );
         }
         self.last_frame = Some(t0);
     }
@@ -461,7 +539,10 @@ impl Explorer {
                 DialogPurpose::SaveAs => Command::SaveTo(path),
             }),
             DialogOutcome::Cancelled => {}
-            DialogOutcome::Unavailable => self.prompt_path(purpose, "The system file dialog is not available; type a path."),
+            DialogOutcome::Unavailable => self.prompt_path(
+                purpose,
+                "The system file dialog is not available; type a path.",
+            ),
         }
     }
 
@@ -473,7 +554,11 @@ impl Explorer {
                 .unwrap_or_else(|_| "session.json".into()),
             (None, DialogPurpose::Open) => String::new(),
         };
-        self.modal = Modal::PathPrompt { purpose, text, note: note.to_string() };
+        self.modal = Modal::PathPrompt {
+            purpose,
+            text,
+            note: note.to_string(),
+        };
     }
 
     fn native_dialog(&mut self, purpose: DialogPurpose) {
@@ -484,12 +569,17 @@ impl Explorer {
             self.prompt_path(purpose, "");
             return;
         }
-        let dir = self.file.as_ref().and_then(|f| f.parent().map(Path::to_path_buf));
+        let dir = self
+            .file
+            .as_ref()
+            .and_then(|f| f.parent().map(Path::to_path_buf));
         let name = self
             .file
             .as_ref()
             .and_then(|f| f.file_name())
-            .map_or("session.json".to_string(), |n| n.to_string_lossy().into_owned());
+            .map_or("session.json".to_string(), |n| {
+                n.to_string_lossy().into_owned()
+            });
         match PendingDialog::start(purpose, dir, &name) {
             Some(d) => self.pending_dialog = Some(d),
             None => self.prompt_path(purpose, ""),
@@ -499,7 +589,8 @@ impl Explorer {
     // ----- applying commands -----
 
     fn edit(&mut self, kind: EditKind, continuing: bool) {
-        self.history.record(&self.session, kind, self.now, continuing);
+        self.history
+            .record(&self.session, kind, self.now, continuing);
         self.dirty = true;
     }
 
@@ -512,7 +603,11 @@ impl Explorer {
                 self.add_new_parameters();
                 self.param_settle_at = Some(self.now + PARAM_SETTLE_SECONDS);
             }
-            Command::SetParam { name, value, dragging } => {
+            Command::SetParam {
+                name,
+                value,
+                dragging,
+            } => {
                 if !value.is_finite() {
                     return;
                 }
@@ -530,7 +625,12 @@ impl Explorer {
                     self.history.seal();
                 }
             }
-            Command::SetRange { name, min, max, step } => {
+            Command::SetRange {
+                name,
+                min,
+                max,
+                step,
+            } => {
                 let Some(i) = self.session.parameters.iter().position(|p| p.name == name) else {
                     return;
                 };
@@ -566,12 +666,20 @@ impl Explorer {
                 if !(q.is_finite() && p.is_finite()) {
                     return;
                 }
+                if self.session.orbits.len() >= crate::session::MAX_ORBITS {
+                    self.status = format!(
+                        "A session holds at most {} orbits; delete one first.",
+                        crate::session::MAX_ORBITS
+                    );
+                    return;
+                }
+                let duration = DEFAULT_ORBIT_DURATION;
                 self.edit(EditKind::Orbits, false);
                 self.history.seal();
                 self.session.orbits.push(SeededOrbit {
                     q0: q,
                     p0: p,
-                    duration: DEFAULT_ORBIT_DURATION,
+                    duration,
                     method: "auto".into(),
                     colour: None,
                 });
@@ -585,7 +693,11 @@ impl Explorer {
                     self.selection = Selection::None;
                 }
             }
-            Command::EditOrbit { index, orbit, dragging } => {
+            Command::EditOrbit {
+                index,
+                orbit,
+                dragging,
+            } => {
                 if index < self.session.orbits.len() && self.session.orbits[index] != orbit {
                     self.edit(EditKind::Orbits, dragging);
                     self.session.orbits[index] = orbit;
@@ -606,7 +718,11 @@ impl Explorer {
                     self.status = if warnings.is_empty() {
                         format!("Opened {}", path.display())
                     } else {
-                        format!("Opened {} with warnings: {}", path.display(), warnings.join("; "))
+                        format!(
+                            "Opened {} with warnings: {}",
+                            path.display(),
+                            warnings.join("; ")
+                        )
                     };
                     if let Some(d) = &self.data {
                         self.recent = d.add_recent(&path);
@@ -614,7 +730,10 @@ impl Explorer {
                 }
                 Err(e) => {
                     self.status = format!("Not opened: {e}");
-                    self.modal = Modal::Message { title: "The file was not opened".into(), text: e };
+                    self.modal = Modal::Message {
+                        title: "The file was not opened".into(),
+                        text: e,
+                    };
                 }
             },
             Command::Save => match self.file.clone() {
@@ -636,7 +755,10 @@ impl Explorer {
                 }
                 Err(e) => {
                     self.status = format!("Not saved: {e}");
-                    self.modal = Modal::Message { title: "The session was not saved".into(), text: e };
+                    self.modal = Modal::Message {
+                        title: "The session was not saved".into(),
+                        text: e,
+                    };
                 }
             },
             Command::Undo => {
@@ -684,7 +806,12 @@ impl Explorer {
                             self.replace_session(s, None);
                             self.status = format!("Example {name}");
                         }
-                        Err(e) => self.modal = Modal::Message { title: format!("Example {name}"), text: e },
+                        Err(e) => {
+                            self.modal = Modal::Message {
+                                title: format!("Example {name}"),
+                                text: e,
+                            }
+                        }
                     }
                 }
             }
@@ -756,7 +883,12 @@ impl Explorer {
         let Some(f) = &self.compiled else {
             return Vec::new();
         };
-        self.session.parameters.iter().filter(|p| !f.params().contains(&p.name)).map(|p| p.name.clone()).collect()
+        self.session
+            .parameters
+            .iter()
+            .filter(|p| !f.params().contains(&p.name))
+            .map(|p| p.name.clone())
+            .collect()
     }
 
     fn settle_parameters(&mut self, ctx: &egui::Context) {
@@ -773,7 +905,9 @@ impl Explorer {
         }
         let unused = self.unused_parameters();
         if !unused.is_empty() {
-            self.session.parameters.retain(|p| !unused.contains(&p.name));
+            self.session
+                .parameters
+                .retain(|p| !unused.contains(&p.name));
         }
     }
 
@@ -783,7 +917,13 @@ impl Explorer {
         let values = f
             .params()
             .iter()
-            .map(|n| self.session.parameters.iter().find(|p| &p.name == n).map_or(1.0, |p| p.value))
+            .map(|n| {
+                self.session
+                    .parameters
+                    .iter()
+                    .find(|p| &p.name == n)
+                    .map_or(1.0, |p| p.value)
+            })
             .collect();
         System::new(f, values).ok()
     }
@@ -803,7 +943,11 @@ impl Explorer {
             refine: self.session.levels.refine && !coarse,
             orbits: self.session.orbits.clone(),
         };
-        if self.last_spec.as_ref().is_some_and(|(s, c)| *s == spec && *c == coarse) {
+        if self
+            .last_spec
+            .as_ref()
+            .is_some_and(|(s, c)| *s == spec && *c == coarse)
+        {
             return;
         }
         self.last_spec = Some((spec.clone(), coarse));
@@ -812,7 +956,11 @@ impl Explorer {
 
     /// Take a worker result if it is newer than what is shown.
     fn accept(&mut self, c: Computed) {
-        if self.shown.as_ref().is_some_and(|s| s.generation >= c.generation) {
+        if self
+            .shown
+            .as_ref()
+            .is_some_and(|s| s.generation >= c.generation)
+        {
             return;
         }
         let colours: Vec<Option<String>> = c.spec.orbits.iter().map(|o| o.colour.clone()).collect();
@@ -833,7 +981,11 @@ impl Explorer {
                 if !current {
                     return None;
                 }
-                c.spec.orbits.iter().position(|o| o == s).and_then(|k| c.orbits.get(k).cloned())
+                c.spec
+                    .orbits
+                    .iter()
+                    .position(|o| o == s)
+                    .and_then(|k| c.orbits.get(k).cloned())
             })
             .collect()
     }
@@ -900,10 +1052,16 @@ pub fn run(initial: Option<PathBuf>) -> Result<(), String> {
     let explorer = Explorer::startup(initial)?;
     let title = explorer.title();
     let options = eframe::NativeOptions {
-        viewport: egui::ViewportBuilder::default().with_inner_size([1280.0, 800.0]).with_title(title),
+        viewport: egui::ViewportBuilder::default()
+            .with_inner_size([1280.0, 800.0])
+            .with_title(title),
         renderer: eframe::Renderer::Glow,
         ..Default::default()
     };
-    eframe::run_native("phasewright", options, Box::new(move |_cc| Ok(Box::new(ExplorerApp(explorer)))))
-        .map_err(|e| format!("the explorer window could not start: {e}"))
+    eframe::run_native(
+        "phasewright",
+        options,
+        Box::new(move |_cc| Ok(Box::new(ExplorerApp(explorer)))),
+    )
+    .map_err(|e| format!("the explorer window could not start: {e}"))
 }

@@ -73,7 +73,11 @@ impl Default for PlotPanel {
 const KINDS: [(EquilibriumKind, &str, MarkerShape); 3] = [
     (EquilibriumKind::Center, "center", MarkerShape::Circle),
     (EquilibriumKind::Saddle, "saddle", MarkerShape::Square),
-    (EquilibriumKind::Degenerate, "degenerate", MarkerShape::Diamond),
+    (
+        EquilibriumKind::Degenerate,
+        "degenerate",
+        MarkerShape::Diamond,
+    ),
 ];
 
 /// Marker colours by kind, for light and dark backgrounds (the shape carries the kind too).
@@ -102,7 +106,11 @@ pub fn energy_colour(t: f64) -> egui::Color32 {
         [236.0, 168.0, 36.0],
         [190.0, 56.0, 44.0],
     ];
-    let t = if t.is_finite() { t.clamp(0.0, 1.0) as f32 } else { 0.0 };
+    let t = if t.is_finite() {
+        t.clamp(0.0, 1.0) as f32
+    } else {
+        0.0
+    };
     let x = t * (STOPS.len() - 1) as f32;
     let i = (x.floor() as usize).min(STOPS.len() - 2);
     let f = x - i as f32;
@@ -117,8 +125,14 @@ pub fn orbit_colour(index: usize, given: Option<&str>) -> egui::Color32 {
     {
         return c;
     }
-    const PALETTE: [[u8; 3]; 6] =
-        [[214, 40, 120], [20, 110, 220], [230, 110, 0], [0, 150, 90], [140, 60, 200], [90, 90, 90]];
+    const PALETTE: [[u8; 3]; 6] = [
+        [214, 40, 120],
+        [20, 110, 220],
+        [230, 110, 0],
+        [0, 150, 90],
+        [140, 60, 200],
+        [90, 90, 90],
+    ];
     let [r, g, b] = PALETTE[index % PALETTE.len()];
     egui::Color32::from_rgb(r, g, b)
 }
@@ -130,10 +144,15 @@ fn to_points(v: &[[f64; 2]]) -> Vec<PlotPoint> {
 impl Cache {
     fn build(c: &Computed, colours: &[Option<String>]) -> Cache {
         let a = &c.analysis;
-        let range = a.curves.iter().map(|k| k.level).filter(|l| l.is_finite()).fold(None, |acc, l| match acc {
-            None => Some((l, l)),
-            Some((lo, hi)) => Some((f64::min(lo, l), f64::max(hi, l))),
-        });
+        let range = a
+            .curves
+            .iter()
+            .map(|k| k.level)
+            .filter(|l| l.is_finite())
+            .fold(None, |acc, l| match acc {
+                None => Some((l, l)),
+                Some((lo, hi)) => Some((f64::min(lo, l), f64::max(hi, l))),
+            });
         let range = range.or(a.grid.range);
         let t_of = |level: f64| match range {
             Some((lo, hi)) if hi > lo => (level - lo) / (hi - lo),
@@ -168,7 +187,13 @@ impl Cache {
                 }
             })
             .collect();
-        Cache { generation: c.generation, curves, marks, orbits, level_range: range }
+        Cache {
+            generation: c.generation,
+            curves,
+            marks,
+            orbits,
+            level_range: range,
+        }
     }
 }
 
@@ -192,9 +217,19 @@ fn arrows_along(points: &[PlotPoint]) -> (Vec<PlotPoint>, Vec<PlotPoint>) {
 }
 
 /// The equilibrium nearest to (q, p) if it is near in window terms.
-pub fn near_equilibrium<'e>(eqs: &'e [Equilibrium], window: &Window, q: f64, p: f64) -> Option<&'e Equilibrium> {
+pub fn near_equilibrium<'e>(
+    eqs: &'e [Equilibrium],
+    window: &Window,
+    q: f64,
+    p: f64,
+) -> Option<&'e Equilibrium> {
     eqs.iter()
-        .map(|e| (e, ((e.q - q) / window.width()).hypot((e.p - p) / window.height())))
+        .map(|e| {
+            (
+                e,
+                ((e.q - q) / window.width()).hypot((e.p - p) / window.height()),
+            )
+        })
         .filter(|(_, d)| *d < NEAR_FRACTION)
         .min_by(|a, b| a.1.total_cmp(&b.1))
         .map(|(e, _)| e)
@@ -261,12 +296,16 @@ impl PlotPanel {
         ui.horizontal(|ui| {
             ui.checkbox(&mut self.launch_on_click, "Click launches an orbit")
                 .on_hover_text("Off: clicks do nothing; drag pans and scroll zooms either way");
-            if ui.button("Reset view").on_hover_text("Back to the session's starting view (or double-click)").clicked()
+            if ui
+                .button("Reset view")
+                .on_hover_text("Back to the session's starting view (or double-click)")
+                .clicked()
             {
                 commands.push(Command::ResetView);
             }
             if busy {
-                ui.add(egui::Spinner::new().size(14.0)).on_hover_text("computing");
+                ui.add(egui::Spinner::new().size(14.0))
+                    .on_hover_text("computing");
                 ui.small("updating…");
             }
         });
@@ -312,11 +351,18 @@ impl PlotPanel {
                 .x_axis_label("q")
                 .y_axis_label("p")
                 .show_crosshair(false)
-                .legend(Legend::default().position(egui_plot::Corner::RightTop).background_alpha(0.7))
+                .legend(
+                    Legend::default()
+                        .position(egui_plot::Corner::RightTop)
+                        .background_alpha(0.7),
+                )
                 .label_formatter(|_| None);
             let response = plot.show(ui, |pui| {
                 if let Some(w) = set_view {
-                    pui.set_plot_bounds(PlotBounds::from_min_max([w.qmin, w.pmin], [w.qmax, w.pmax]));
+                    pui.set_plot_bounds(PlotBounds::from_min_max(
+                        [w.qmin, w.pmin],
+                        [w.qmax, w.pmax],
+                    ));
                 }
                 let hovered = pui.response().hovered();
                 if hovered {
@@ -327,9 +373,16 @@ impl PlotPanel {
                     }
                 }
                 for c in &cache.curves {
-                    let (width, name) = if c.separatrix { (2.6, "separatrix") } else { (1.1, "") };
+                    let (width, name) = if c.separatrix {
+                        (2.6, "separatrix")
+                    } else {
+                        (1.1, "")
+                    };
                     pui.line(
-                        Line::new(name, c.points.as_slice()).color(grey(c.colour)).width(width).allow_hover(false),
+                        Line::new(name, c.points.as_slice())
+                            .color(grey(c.colour))
+                            .width(width)
+                            .allow_hover(false),
                     );
                 }
                 for (i, o) in cache.orbits.iter().enumerate() {
@@ -395,11 +448,16 @@ impl PlotPanel {
                 if r.clicked() {
                     clicked_at = coord;
                 }
-                (r.double_clicked(), r.dragged() || pui.ctx().input(|i| i.pointer.any_down()))
+                (
+                    r.double_clicked(),
+                    r.dragged() || pui.ctx().input(|i| i.pointer.any_down()),
+                )
             });
             let (double, held) = response.inner;
             let enabled = response.response.enabled();
-            response.response.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Canvas, enabled, PLOT_LABEL));
+            response
+                .response
+                .widget_info(|| egui::WidgetInfo::labeled(egui::Role::Canvas, enabled, PLOT_LABEL));
             let b = response.transform.bounds();
             let (mn, mx) = (b.min(), b.max());
             if set_view.is_none()
@@ -420,14 +478,18 @@ impl PlotPanel {
         });
         if let Some((w, held)) = new_view {
             self.applied_view = Some(w);
-            commands.push(Command::SetView { window: w, dragging: held });
+            commands.push(Command::SetView {
+                window: w,
+                dragging: held,
+            });
         }
         if let Some((q, p, t)) = self.pending_click {
             if now - t > DOUBLE_CLICK_WAIT {
                 self.pending_click = None;
                 commands.push(Command::LaunchOrbit { q, p });
             } else {
-                ui.ctx().request_repaint_after(std::time::Duration::from_secs_f64(DOUBLE_CLICK_WAIT));
+                ui.ctx()
+                    .request_repaint_after(std::time::Duration::from_secs_f64(DOUBLE_CLICK_WAIT));
             }
         }
 
@@ -468,11 +530,20 @@ fn colour_bar(ui: &mut egui::Ui, range: Option<(f64, f64)>, width: f32, height: 
     let painter = ui.painter_at(rect);
     let text_colour = ui.visuals().text_color();
     let font = egui::FontId::proportional(11.0);
-    painter.text(rect.center_top() + egui::vec2(0.0, 2.0), egui::Align2::CENTER_TOP, "H", font.clone(), text_colour);
+    painter.text(
+        rect.center_top() + egui::vec2(0.0, 2.0),
+        egui::Align2::CENTER_TOP,
+        "H",
+        font.clone(),
+        text_colour,
+    );
     let Some((lo, hi)) = range else {
         return;
     };
-    let bar = egui::Rect::from_min_max(rect.min + egui::vec2(6.0, 20.0), egui::pos2(rect.min.x + 20.0, rect.max.y - 20.0));
+    let bar = egui::Rect::from_min_max(
+        rect.min + egui::vec2(6.0, 20.0),
+        egui::pos2(rect.min.x + 20.0, rect.max.y - 20.0),
+    );
     let steps = 48;
     for s in 0..steps {
         let t0 = s as f32 / steps as f32;
@@ -483,16 +554,30 @@ fn colour_bar(ui: &mut egui::Ui, range: Option<(f64, f64)>, width: f32, height: 
         if greyed {
             c = c.gamma_multiply(0.4);
         }
-        painter.rect_filled(egui::Rect::from_min_max(egui::pos2(bar.min.x, y0), egui::pos2(bar.max.x, y1)), 0.0, c);
+        painter.rect_filled(
+            egui::Rect::from_min_max(egui::pos2(bar.min.x, y0), egui::pos2(bar.max.x, y1)),
+            0.0,
+            c,
+        );
     }
     for k in 0..=4 {
         let t = k as f64 / 4.0;
         let y = bar.max.y - t as f32 * bar.height();
         let v = lo + t * (hi - lo);
-        painter.text(egui::pos2(bar.max.x + 3.0, y), egui::Align2::LEFT_CENTER, format_tick(v), font.clone(), text_colour);
+        painter.text(
+            egui::pos2(bar.max.x + 3.0, y),
+            egui::Align2::LEFT_CENTER,
+            format_tick(v),
+            font.clone(),
+            text_colour,
+        );
     }
 }
 
 fn format_tick(v: f64) -> String {
-    if v != 0.0 && (v.abs() >= 1e4 || v.abs() < 1e-2) { format!("{v:.1e}") } else { format!("{v:.3}") }
+    if v != 0.0 && (v.abs() >= 1e4 || v.abs() < 1e-2) {
+        format!("{v:.1e}")
+    } else {
+        format!("{v:.3}")
+    }
 }

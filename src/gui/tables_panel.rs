@@ -47,10 +47,21 @@ pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
 
 /// Text of the wells table: center position, bottom energy, escape energy, depth.
 pub fn well_rows(a: &Analysis) -> Vec<[String; 4]> {
-    let opt = |v: Option<f64>| v.map_or("— (not bounded in view)".to_string(), |x| format!("{x:.6}"));
+    let opt = |v: Option<f64>| {
+        v.map_or("— (not bounded in view)".to_string(), |x| {
+            format!("{x:.6}")
+        })
+    };
     a.wells
         .iter()
-        .map(|w| [format!("({:.4}, {:.4})", w.q, w.p), format!("{:.6}", w.energy), opt(w.escape_energy), opt(w.depth)])
+        .map(|w| {
+            [
+                format!("({:.4}, {:.4})", w.q, w.p),
+                format!("{:.6}", w.energy),
+                opt(w.escape_energy),
+                opt(w.depth),
+            ]
+        })
         .collect()
 }
 
@@ -62,11 +73,18 @@ pub fn orbit_row(s: &SeededOrbit, o: Option<&OrbitOutcome>) -> [String; 6] {
             format!("({:.4}, {:.4})", s.q0, s.p0),
             num(o.period),
             num(o.action),
-            num(o.frequency()),
+            num(o.frequency),
             o.energy_drift.map_or("—".into(), |d| format!("{d:.2e}")),
             o.stop.clone(),
         ],
-        None => [format!("({:.4}, {:.4})", s.q0, s.p0), "…".into(), "…".into(), "…".into(), "…".into(), "computing".into()],
+        None => [
+            format!("({:.4}, {:.4})", s.q0, s.p0),
+            "…".into(),
+            "…".into(),
+            "…".into(),
+            "…".into(),
+            "computing".into(),
+        ],
     }
 }
 
@@ -85,30 +103,50 @@ impl TablesPanel {
             let nw = analysis.map_or(0, |a| a.wells.len());
             ui.selectable_value(&mut self.tab, Tab::Equilibria, format!("Equilibria ({ne})"));
             ui.selectable_value(&mut self.tab, Tab::Wells, format!("Wells ({nw})"));
-            ui.selectable_value(&mut self.tab, Tab::Orbits, format!("Orbits ({})", orbits.len()));
+            ui.selectable_value(
+                &mut self.tab,
+                Tab::Orbits,
+                format!("Orbits ({})", orbits.len()),
+            );
         });
         ui.separator();
-        egui::ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| match self.tab {
-            Tab::Equilibria => {
-                let rows = analysis.map(|a| equilibrium_rows(&a.equilibria)).unwrap_or_default();
-                if rows.is_empty() {
-                    ui.label("No equilibria in view.");
+        egui::ScrollArea::vertical()
+            .auto_shrink([false, false])
+            .show(ui, |ui| match self.tab {
+                Tab::Equilibria => {
+                    let rows = analysis
+                        .map(|a| equilibrium_rows(&a.equilibria))
+                        .unwrap_or_default();
+                    if rows.is_empty() {
+                        ui.label("No equilibria in view.");
+                    }
+                    table(
+                        ui,
+                        "eq-table",
+                        &["#", "q", "p", "H", "kind", "eigenvalues", "ω or λ"],
+                        &rows,
+                        |i| Selection::Equilibrium(i),
+                        selection,
+                        &mut commands,
+                    );
                 }
-                table(ui, "eq-table", &["#", "q", "p", "H", "kind", "eigenvalues", "ω or λ"], &rows, |i| {
-                    Selection::Equilibrium(i)
-                }, selection, &mut commands);
-            }
-            Tab::Wells => {
-                let rows = analysis.map(well_rows).unwrap_or_default();
-                if rows.is_empty() {
-                    ui.label("No wells in view (a well needs a center).");
+                Tab::Wells => {
+                    let rows = analysis.map(well_rows).unwrap_or_default();
+                    if rows.is_empty() {
+                        ui.label("No wells in view (a well needs a center).");
+                    }
+                    table(
+                        ui,
+                        "well-table",
+                        &["#", "center", "H at center", "escape energy", "depth"],
+                        &rows,
+                        |i| Selection::Well(i),
+                        selection,
+                        &mut commands,
+                    );
                 }
-                table(ui, "well-table", &["#", "center", "H at center", "escape energy", "depth"], &rows, |i| {
-                    Selection::Well(i)
-                }, selection, &mut commands);
-            }
-            Tab::Orbits => self.orbit_table(ui, orbits, outcomes, selection, &mut commands),
-        });
+                Tab::Orbits => self.orbit_table(ui, orbits, outcomes, selection, &mut commands),
+            });
         commands
     }
 
@@ -124,45 +162,85 @@ impl TablesPanel {
             ui.label("No orbits yet: click in the plot to launch one.");
             return;
         }
-        egui::Grid::new("orbit-table").striped(true).num_columns(10).show(ui, |ui| {
-            for h in ["#", "start (q, p)", "period", "action", "frequency ω", "energy drift", "stopped", "method", "duration", ""] {
-                ui.strong(h);
-            }
-            ui.end_row();
-            for (i, s) in orbits.iter().enumerate() {
-                let row = orbit_row(s, outcomes.get(i).and_then(|o| o.as_deref()));
-                if ui.selectable_label(selection == Selection::Orbit(i), format!("{}", i + 1)).clicked() {
-                    commands.push(Command::Select(Selection::Orbit(i)));
-                }
-                let early = outcomes.get(i).and_then(|o| o.as_deref()).is_some_and(|o| o.stopped_early);
-                for (k, cell) in row.iter().enumerate() {
-                    if k == 5 && early {
-                        ui.colored_label(ui.visuals().warn_fg_color, cell);
-                    } else {
-                        ui.label(cell);
-                    }
-                }
-                let mut method = s.method.clone();
-                egui::ComboBox::from_id_salt(("orbit-method", i)).selected_text(&method).show_ui(ui, |ui| {
-                    for m in METHODS {
-                        ui.selectable_value(&mut method, m.to_string(), *m);
-                    }
-                });
-                let mut duration = s.duration;
-                let rd = ui.add(egui::DragValue::new(&mut duration).speed(0.5).max_decimals(3));
-                super::params_panel::accessible_name(&rd, egui::Role::SpinButton, &format!("orbit {} duration", i + 1));
-                if method != s.method || (rd.changed() && duration.is_finite() && duration != 0.0) {
-                    let mut edited = s.clone();
-                    edited.method = method;
-                    edited.duration = duration;
-                    commands.push(Command::EditOrbit { index: i, orbit: edited, dragging: rd.dragged() });
-                }
-                if ui.button("Delete").on_hover_text(format!("delete orbit {}", i + 1)).clicked() {
-                    commands.push(Command::DeleteOrbit(i));
+        egui::Grid::new("orbit-table")
+            .striped(true)
+            .num_columns(10)
+            .show(ui, |ui| {
+                for h in [
+                    "#",
+                    "start (q, p)",
+                    "period",
+                    "action",
+                    "frequency ω",
+                    "energy drift",
+                    "stopped",
+                    "method",
+                    "duration",
+                    "",
+                ] {
+                    ui.strong(h);
                 }
                 ui.end_row();
-            }
-        });
+                for (i, s) in orbits.iter().enumerate() {
+                    let row = orbit_row(s, outcomes.get(i).and_then(|o| o.as_deref()));
+                    if ui
+                        .selectable_label(selection == Selection::Orbit(i), format!("{}", i + 1))
+                        .clicked()
+                    {
+                        commands.push(Command::Select(Selection::Orbit(i)));
+                    }
+                    let early = outcomes
+                        .get(i)
+                        .and_then(|o| o.as_deref())
+                        .is_some_and(|o| o.stopped_early);
+                    for (k, cell) in row.iter().enumerate() {
+                        if k == 5 && early {
+                            ui.colored_label(ui.visuals().warn_fg_color, cell);
+                        } else {
+                            ui.label(cell);
+                        }
+                    }
+                    let mut method = s.method.clone();
+                    egui::ComboBox::from_id_salt(("orbit-method", i))
+                        .selected_text(&method)
+                        .show_ui(ui, |ui| {
+                            for m in METHODS {
+                                ui.selectable_value(&mut method, m.to_string(), *m);
+                            }
+                        });
+                    let mut duration = s.duration;
+                    let rd = ui.add(
+                        egui::DragValue::new(&mut duration)
+                            .speed(0.5)
+                            .max_decimals(3),
+                    );
+                    super::params_panel::accessible_name(
+                        &rd,
+                        egui::Role::SpinButton,
+                        &format!("orbit {} duration", i + 1),
+                    );
+                    if method != s.method
+                        || (rd.changed() && duration.is_finite() && duration != 0.0)
+                    {
+                        let mut edited = s.clone();
+                        edited.method = method;
+                        edited.duration = duration;
+                        commands.push(Command::EditOrbit {
+                            index: i,
+                            orbit: edited,
+                            dragging: rd.dragged(),
+                        });
+                    }
+                    if ui
+                        .button("Delete")
+                        .on_hover_text(format!("delete orbit {}", i + 1))
+                        .clicked()
+                    {
+                        commands.push(Command::DeleteOrbit(i));
+                    }
+                    ui.end_row();
+                }
+            });
     }
 }
 
@@ -178,22 +256,36 @@ fn table<const N: usize>(
     if rows.is_empty() {
         return;
     }
-    egui::Grid::new(id).striped(true).num_columns(N + 1).show(ui, |ui| {
-        for h in header {
-            ui.strong(*h);
-        }
-        ui.end_row();
-        for (i, row) in rows.iter().enumerate() {
-            let sel = select(i);
-            if ui.selectable_label(selection == sel, format!("{}", i + 1)).clicked() {
-                commands.push(Command::Select(if selection == sel { Selection::None } else { sel }));
-            }
-            for cell in row {
-                if ui.selectable_label(selection == sel, cell).clicked() {
-                    commands.push(Command::Select(if selection == sel { Selection::None } else { sel }));
-                }
+    egui::Grid::new(id)
+        .striped(true)
+        .num_columns(N + 1)
+        .show(ui, |ui| {
+            for h in header {
+                ui.strong(*h);
             }
             ui.end_row();
-        }
-    });
+            for (i, row) in rows.iter().enumerate() {
+                let sel = select(i);
+                if ui
+                    .selectable_label(selection == sel, format!("{}", i + 1))
+                    .clicked()
+                {
+                    commands.push(Command::Select(if selection == sel {
+                        Selection::None
+                    } else {
+                        sel
+                    }));
+                }
+                for cell in row {
+                    if ui.selectable_label(selection == sel, cell).clicked() {
+                        commands.push(Command::Select(if selection == sel {
+                            Selection::None
+                        } else {
+                            sel
+                        }));
+                    }
+                }
+                ui.end_row();
+            }
+        });
 }

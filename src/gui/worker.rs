@@ -104,7 +104,13 @@ impl Worker {
         let cancel = Cancel::new();
         self.in_flight = Some((generation, coarse, cancel.clone()));
         if let Some(tx) = &self.jobs {
-            let _ = tx.send(Job { generation, spec, system, coarse, cancel });
+            let _ = tx.send(Job {
+                generation,
+                spec,
+                system,
+                coarse,
+                cancel,
+            });
         }
         generation
     }
@@ -167,7 +173,11 @@ fn same_analysis(a: &JobSpec, b: &JobSpec) -> bool {
         && a.refine == b.refine
 }
 
-fn worker_loop(jobs: Receiver<Job>, results: Sender<Computed>, repaint: Arc<Mutex<Option<egui::Context>>>) {
+fn worker_loop(
+    jobs: Receiver<Job>,
+    results: Sender<Computed>,
+    repaint: Arc<Mutex<Option<egui::Context>>>,
+) {
     let mut last_analysis: Option<(JobSpec, Arc<Analysis>)> = None;
     let mut last_orbits: Vec<(String, Vec<f64>, SeededOrbit, Arc<OrbitOutcome>)> = Vec::new();
     while let Ok(mut job) = jobs.recv() {
@@ -203,13 +213,25 @@ fn worker_loop(jobs: Receiver<Job>, results: Sender<Computed>, repaint: Arc<Mute
         for seeded in &job.spec.orbits {
             let reused = last_orbits
                 .iter()
-                .find(|(src, params, s, _)| src == &job.spec.source && params == &job.spec.params && s == seeded)
+                .find(|(src, params, s, _)| {
+                    src == &job.spec.source && params == &job.spec.params && s == seeded
+                })
                 .map(|o| o.3.clone());
             let outcome = match reused {
                 Some(o) => o,
-                None => Arc::new(integrate(&job.system, seeded, &job.spec.window, &job.cancel)),
+                None => Arc::new(integrate(
+                    &job.system,
+                    seeded,
+                    &job.spec.window,
+                    &job.cancel,
+                )),
             };
-            fresh.push((job.spec.source.clone(), job.spec.params.clone(), seeded.clone(), outcome.clone()));
+            fresh.push((
+                job.spec.source.clone(),
+                job.spec.params.clone(),
+                seeded.clone(),
+                outcome.clone(),
+            ));
             outcomes.push(outcome);
         }
         if job.cancel.is_cancelled() {
