@@ -504,3 +504,16 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn parameter_named_like_a_constant_gets_a_specific_warning() {
+    // `e` is Euler's number in formulas, so a parameter of that name is never read.
+    let text = bad(r#""name": "b""#, r#""name": "e""#).replace("- b*q", "- e*q");
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(s.parameters[1].name, "e");
+    assert!(
+        w.iter()
+            .any(|m| m.contains("built-in name") && m.contains("`e`")),
+        "{w:?}"
+    );
+}
