@@ -273,3 +273,68 @@ fn saddle_levels_are_drawn_as_separatrices_once() {
     assert!((seps[0].value - 1.0).abs() < 1e-15);
     assert_eq!(levels.len(), 11);
 }
+
+#[test]
+fn analysis_of_the_pendulum_finds_its_wells_and_separatrix() {
+    use phasewright::core::Cancel;
+    use phasewright::core::analysis::{AnalysisConfig, analyze};
+    // Pendulum H = p²/2 − cos q (closed forms as above): saddles at ±π, H = 1, joined
+    // above and below; the center at 0 escapes at 1.
+    let sys = system("p^2/2 - cos(q)");
+    let a = analyze(
+        &sys,
+        &window(-7.0, 7.0, -3.0, 3.0),
+        &AnalysisConfig::default(),
+        &Cancel::never(),
+    );
+    let saddles: Vec<usize> = (0..a.equilibria.len())
+        .filter(|&k| a.equilibria[k].kind == EquilibriumKind::Saddle)
+        .collect();
+    assert_eq!(saddles.len(), 2, "{:?}", a.equilibria);
+    let middle = a
+        .wells
+        .iter()
+        .find(|w| w.q.abs() < 1e-9)
+        .unwrap_or_else(|| panic!("no well at 0: {:?}", a.wells));
+    assert!(
+        (middle.escape_energy.unwrap_or(f64::NAN) - 1.0).abs() < 1e-12,
+        "{middle:?}"
+    );
+    assert!((middle.depth.unwrap_or(f64::NAN) - 2.0).abs() < 1e-12);
+    assert_eq!(a.connections.len(), 2, "{:?}", a.connections);
+    assert!(
+        a.connections
+            .iter()
+            .all(|c| c.kind == ConnectionKind::Heteroclinic)
+    );
+    let seps: Vec<_> = a.curves.iter().filter(|c| c.is_separatrix).collect();
+    assert!(!seps.is_empty());
+    for c in seps {
+        assert!((c.level - 1.0).abs() < 1e-12);
+    }
+}
+
+#[test]
+fn analysis_of_the_double_well_finds_a_figure_eight() {
+    use phasewright::core::Cancel;
+    use phasewright::core::analysis::{AnalysisConfig, analyze};
+    // H = p²/2 + q⁴/4 − q²/2 (closed forms as above).
+    let sys = system("p^2/2 + q^4/4 - q^2/2");
+    let a = analyze(
+        &sys,
+        &window(-2.0, 2.0, -1.5, 1.5),
+        &AnalysisConfig::default(),
+        &Cancel::never(),
+    );
+    assert_eq!(a.wells.len(), 2, "{:?}", a.wells);
+    for w in &a.wells {
+        assert!(w.escape_energy.unwrap_or(f64::NAN).abs() < 1e-12, "{w:?}");
+        assert!((w.depth.unwrap_or(f64::NAN) - 0.25).abs() < 1e-12);
+    }
+    assert_eq!(a.connections.len(), 2, "{:?}", a.connections);
+    assert!(
+        a.connections
+            .iter()
+            .all(|c| c.kind == ConnectionKind::Homoclinic)
+    );
+}
