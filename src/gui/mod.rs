@@ -102,6 +102,8 @@ pub enum Command {
         window: Window,
         dragging: bool,
     },
+    /// A slider is held (coarse grid until it is released).
+    Dragging,
     ResetView,
     LaunchOrbit {
         q: f64,
@@ -321,6 +323,11 @@ impl Explorer {
         self.shown.as_ref().is_some_and(|c| c.generation >= target)
     }
 
+    /// Generation of the result shown (0 before the first).
+    pub fn shown_generation(&self) -> u64 {
+        self.shown.as_ref().map_or(0, |c| c.generation)
+    }
+
     /// Wall times (ms) of the analysis and orbit parts of the shown result.
     pub fn last_job_ms(&self) -> Option<(f64, f64, bool)> {
         self.shown
@@ -380,7 +387,6 @@ impl Explorer {
         let mut commands = self.shortcuts(&ctx);
         self.handle_close_request(&ctx, &mut commands);
         self.poll_dialog(&mut commands);
-        self.dragging_seen = false;
 
         egui::Panel::top("menu").show(ui, |ui| {
             commands.extend(menu_bar::ui(
@@ -408,6 +414,18 @@ impl Explorer {
             .default_size(330.0)
             .show(ui, |ui| {
                 egui::ScrollArea::vertical().show(ui, |ui| {
+                    if !self.session.title.is_empty() || !self.session.notes.is_empty() {
+                        let title = if self.session.title.is_empty() {
+                            "Notes"
+                        } else {
+                            self.session.title.as_str()
+                        };
+                        egui::CollapsingHeader::new(egui::RichText::new(title).strong())
+                            .id_salt("session-notes")
+                            .default_open(false)
+                            .show(ui, |ui| ui.label(self.session.notes.as_str()));
+                        ui.add_space(4.0);
+                    }
                     if let Some(c) = self.formula.ui(ui) {
                         commands.push(c);
                     }
@@ -447,11 +465,13 @@ impl Explorer {
         for c in commands {
             self.apply(c);
         }
+        self.settle_parameters(&ctx);
+        self.submit_if_changed();
+        // A drag that ended this frame still sent a coarse job; the next frame refines.
         if !self.dragging_seen {
             self.dragging = false;
         }
-        self.settle_parameters(&ctx);
-        self.submit_if_changed();
+        self.dragging_seen = false;
         self.update_title(&ctx);
         self.autosave();
         if self.pending_dialog.is_some() {
@@ -655,6 +675,10 @@ impl Explorer {
                     self.dragging_seen = true;
                 }
             }
+            Command::Dragging => {
+                self.dragging = true;
+                self.dragging_seen = true;
+            }
             Command::ResetView => {
                 if self.session.view != self.home_view {
                     self.edit(EditKind::Other, false);
@@ -819,7 +843,9 @@ impl Explorer {
                 self.replace_session(files::builtin_session(), None);
             }
             Guarded::Quit => {
-                if let Some(d) = &self.data {
+                if let Some(d) = &self.data
+                    && self.modal != Modal::OfferRestore
+                {
                     d.clear_recovery();
                 }
                 self.dirty = false;
@@ -1039,7 +1065,9 @@ impl eframe::App for ExplorerApp {
     }
 
     fn on_exit(&mut self, _gl: Option<&eframe::glow::Context>) {
+        // An unanswered recovery offer keeps the recovery file for the next start.
         if !self.0.dirty
+            && self.0.modal != Modal::OfferRestore
             && let Some(d) = &self.0.data
         {
             d.clear_recovery();

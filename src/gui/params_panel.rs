@@ -45,6 +45,7 @@ impl ParamsPanel {
         });
         let mut value = par.value;
         let step = par.step.filter(|s| *s > 0.0);
+        ui.spacing_mut().slider_width = (ui.available_width() - 12.0).max(80.0);
         let mut slider = egui::Slider::new(&mut value, par.min..=par.max).show_value(false);
         if let Some(s) = step {
             slider = slider.step_by(s);
@@ -59,6 +60,8 @@ impl ParamsPanel {
                 value,
                 dragging: r.dragged(),
             });
+        } else if r.dragged() {
+            commands.push(Command::Dragging);
         }
         egui::Grid::new(("param-grid", &par.name))
             .num_columns(4)
