@@ -5,3 +5,5 @@ pub mod core;
 #[cfg(feature = "gui")]
 pub mod gui;
 pub mod session;
+pub mod render;
+pub mod scene;

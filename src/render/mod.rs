@@ -1,0 +1,39 @@
+//! Figures and tables from core results: a `Scene` drawn as SVG (our own
+//! writer), rasterised to PNG (resvg with a bundled font), and CSV / JSON
+//! tables of the numbers behind it. No physics here.
+pub mod png;
+pub mod svg;
+pub mod table;
+
+pub use png::{PngError, svg_to_png};
+pub use svg::{FigureSize, to_svg};
+
+use crate::scene::Scene;
+
+/// An output file's format, chosen by its extension.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FigureFormat {
+    Svg,
+    Png,
+}
+
+impl FigureFormat {
+    /// `svg` or `png` (any case) from a file name; None for anything else.
+    pub fn from_path(path: &std::path::Path) -> Option<FigureFormat> {
+        let ext = path.extension()?.to_str()?.to_ascii_lowercase();
+        match ext.as_str() {
+            "svg" => Some(FigureFormat::Svg),
+            "png" => Some(FigureFormat::Png),
+            _ => None,
+        }
+    }
+}
+
+/// The bytes of a figure in `format` at `size` pixels.
+pub fn figure_bytes(scene: &Scene, size: FigureSize, format: FigureFormat) -> Result<Vec<u8>, PngError> {
+    let svg = to_svg(scene, size);
+    match format {
+        FigureFormat::Svg => Ok(svg.into_bytes()),
+        FigureFormat::Png => svg_to_png(&svg, 1.0),
+    }
+}
