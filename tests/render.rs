@@ -273,9 +273,19 @@ fn energy_scale_rises_in_lightness() {
         .map(|i| lightness(scene::energy_colour(i as f64 / 50.0)))
         .collect();
     for w in ls.windows(2) {
-        assert!(w[1] >= w[0] - 0.3, "lightness falls: {} then {}", w[0], w[1]);
+        assert!(
+            w[1] >= w[0] - 0.3,
+            "lightness falls: {} then {}",
+            w[0],
+            w[1]
+        );
     }
-    assert!(ls[50] - ls[0] > 50.0, "range of lightness {}..{}", ls[0], ls[50]);
+    assert!(
+        ls[50] - ls[0] > 50.0,
+        "range of lightness {}..{}",
+        ls[0],
+        ls[50]
+    );
 }
 
 #[test]
@@ -307,18 +317,117 @@ fn figure_size_parse_rejects_bad_text_with_a_reason() {
             height: 1200
         })
     );
-    assert!(FigureSize::parse("1600").unwrap_err().contains("WIDTHxHEIGHT"));
+    assert!(
+        FigureSize::parse("1600")
+            .unwrap_err()
+            .contains("WIDTHxHEIGHT")
+    );
     assert!(FigureSize::parse("0x100").unwrap_err().contains("width 0"));
-    assert!(FigureSize::parse("800xabc").unwrap_err().contains("height 'abc'"));
+    assert!(
+        FigureSize::parse("800xabc")
+            .unwrap_err()
+            .contains("height 'abc'")
+    );
+}
+
+fn sessions_dir() -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("sessions")
+}
+
+fn session_files() -> Vec<std::path::PathBuf> {
+    let mut files: Vec<_> = std::fs::read_dir(sessions_dir())
+        .unwrap()
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|x| x == "json"))
+        .collect();
+    files.sort();
+    files
 }
 
 #[test]
-fn pendulum_portrait_png_for_inspection() {
-    let (s, _) = pendulum_scene();
-    let svg = to_svg(&s, FigureSize::default());
-    let png = phasewright::render::svg_to_png(&svg, 1.0).unwrap();
-    let dir = std::env::temp_dir();
-    std::fs::write(dir.join("phasewright-pendulum.png"), &png).unwrap();
-    std::fs::write(dir.join("phasewright-pendulum.svg"), &svg).unwrap();
-    assert_eq!(&png[1..4], b"PNG");
+fn every_session_svg_matches_its_analysis() {
+    let files = session_files();
+    assert!(files.len() >= 3, "too few sessions: {files:?}");
+    for path in files {
+        let (session, _) = phasewright::session::load_file(&path).unwrap();
+        let sys = session.system().unwrap();
+        let a = phasewright::core::analysis::analyze(
+            &sys,
+            &session.view,
+            &session.analysis_config(),
+            &Cancel::never(),
+        );
+        let s = Scene::portrait(&sys, &a).with_title(&session.title);
+        let svg = to_svg(&s, FigureSize::default());
+        let doc =
+            roxmltree::Document::parse(&svg).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+        let levels = doc
+            .descendants()
+            .filter(|n| n.has_tag_name("path") && has_class(n, "level"))
+            .count();
+        let marks = doc
+            .descendants()
+            .filter(|n| n.has_tag_name("g") && has_class(n, "equilibrium"))
+            .count();
+        assert!(!a.curves.is_empty(), "{}: no level curves", path.display());
+        assert_eq!(levels, a.curves.len(), "{}", path.display());
+        assert_eq!(marks, a.equilibria.len(), "{}", path.display());
+    }
+}
+
+fn run(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn render_command_writes_every_session_as_png_of_the_requested_size() {
+    let dir = tempfile::tempdir().unwrap();
+    for path in session_files() {
+        let out = dir.path().join("figure.png");
+        let o = run(&[
+            "render",
+            path.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--size",
+            "640x480",
+        ]);
+        assert!(
+            o.status.success(),
+            "{}: {}",
+            path.display(),
+            String::from_utf8_lossy(&o.stderr)
+        );
+        let bytes = std::fs::read(&out).unwrap();
+        let pixmap = resvg::tiny_skia::Pixmap::decode_png(&bytes).unwrap();
+        assert_eq!((pixmap.width(), pixmap.height()), (640, 480));
+    }
+}
+
+#[test]
+fn render_command_refuses_bad_input_with_exit_2() {
+    let dir = tempfile::tempdir().unwrap();
+    let session = sessions_dir().join("biased-resonator.json");
+    let session = session.to_str().unwrap();
+    let svg = dir.path().join("f.svg");
+    let svg = svg.to_str().unwrap();
+    let cases: [(&[&str], &str); 4] = [
+        (&["render", session, "-o", "figure.gif"], ".svg or .png"),
+        (&["render", session, "-o", svg, "--size", "big"], "--size"),
+        (
+            &["render", session, "-o", svg, "--size", "10x10"],
+            "outside",
+        ),
+        (&["render", "no-such.json", "-o", svg], "no-such.json"),
+    ];
+    for (args, needle) in cases {
+        let o = run(args);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(needle), "{args:?}: {err}");
+    }
+    assert!(!dir.path().join("f.svg").exists());
 }

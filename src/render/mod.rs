@@ -30,7 +30,11 @@ impl FigureFormat {
 }
 
 /// The bytes of a figure in `format` at `size` pixels.
-pub fn figure_bytes(scene: &Scene, size: FigureSize, format: FigureFormat) -> Result<Vec<u8>, PngError> {
+pub fn figure_bytes(
+    scene: &Scene,
+    size: FigureSize,
+    format: FigureFormat,
+) -> Result<Vec<u8>, PngError> {
     let svg = to_svg(scene, size);
     match format {
         FigureFormat::Svg => Ok(svg.into_bytes()),

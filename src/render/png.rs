@@ -61,9 +61,12 @@ pub fn svg_to_png(svg: &str, scale: f32) -> Result<Vec<u8>, PngError> {
 /// Rasterise `svg` at `scale` into an RGBA pixmap (white where nothing is drawn).
 pub fn rasterize(svg: &str, scale: f32) -> Result<tiny_skia::Pixmap, PngError> {
     if !(scale.is_finite() && scale > 0.0) {
-        return Err(PngError::Size(format!("scale {scale} must be a positive number")));
+        return Err(PngError::Size(format!(
+            "scale {scale} must be a positive number"
+        )));
     }
-    let tree = usvg::Tree::from_str(svg, &svg_options()).map_err(|e| PngError::Svg(e.to_string()))?;
+    let tree =
+        usvg::Tree::from_str(svg, &svg_options()).map_err(|e| PngError::Svg(e.to_string()))?;
     let size = tree.size();
     let w = (size.width() * scale).round();
     let h = (size.height() * scale).round();

@@ -97,7 +97,7 @@ impl Layout {
             left: 72.0,
             top: 46.0,
             right: width - panel,
-            bottom: height - 64.0,
+            bottom: height - 70.0,
         }
     }
 
@@ -170,7 +170,10 @@ pub fn to_svg(scene: &Scene, size: FigureSize) -> String {
     );
     write_title(&mut out, scene, &l);
     write_axes(&mut out, scene, &l);
-    let _ = writeln!(out, r#"<g clip-path="url(#plot-area)" fill="none" stroke-linejoin="round" stroke-linecap="round">"#);
+    let _ = writeln!(
+        out,
+        r#"<g clip-path="url(#plot-area)" fill="none" stroke-linejoin="round" stroke-linecap="round">"#
+    );
     for c in &scene.curves {
         write_curve(&mut out, scene, &l, c);
     }
@@ -318,7 +321,11 @@ fn path_data(scene: &Scene, l: &Layout, points: &[[f64; 2]], closed: bool) -> St
 fn write_curve(out: &mut String, scene: &Scene, l: &Layout, c: &Curve) {
     let d = path_data(scene, l, &c.points, c.closed);
     let dash = if c.dashed {
-        format!(r#" stroke-dasharray="{} {}""#, num(c.width * 3.0), num(c.width * 2.2))
+        format!(
+            r#" stroke-dasharray="{} {}""#,
+            num(c.width * 3.0),
+            num(c.width * 2.2)
+        )
     } else {
         String::new()
     };
@@ -356,8 +363,14 @@ fn write_arrow(out: &mut String, scene: &Scene, l: &Layout, a: &Arrow, colour: R
     let (ux, uy) = (dx / n, dy / n);
     let tip = (x + ux * ARROW_LENGTH * 0.5, y + uy * ARROW_LENGTH * 0.5);
     let base = (x - ux * ARROW_LENGTH * 0.5, y - uy * ARROW_LENGTH * 0.5);
-    let left = (base.0 - uy * ARROW_HALF_WIDTH, base.1 + ux * ARROW_HALF_WIDTH);
-    let right = (base.0 + uy * ARROW_HALF_WIDTH, base.1 - ux * ARROW_HALF_WIDTH);
+    let left = (
+        base.0 - uy * ARROW_HALF_WIDTH,
+        base.1 + ux * ARROW_HALF_WIDTH,
+    );
+    let right = (
+        base.0 + uy * ARROW_HALF_WIDTH,
+        base.1 - ux * ARROW_HALF_WIDTH,
+    );
     let _ = writeln!(
         out,
         r#"<path class="orbit-arrow" d="M{} {}L{} {}L{} {}Z" fill="{}" stroke="none"/>"#,
@@ -425,7 +438,9 @@ fn write_mark(out: &mut String, scene: &Scene, l: &Layout, m: &Mark) {
     }
     let (x, y) = (l.px(scene, m.at[0]), l.py(scene, m.at[1]));
     let class = match m.role {
-        MarkRole::Equilibrium(kind) => format!(r#"mark equilibrium" data-kind="{}"#, kind_name(kind)),
+        MarkRole::Equilibrium(kind) => {
+            format!(r#"mark equilibrium" data-kind="{}"#, kind_name(kind))
+        }
         MarkRole::Bifurcation => "mark bifurcation".to_string(),
     };
     let _ = write!(
@@ -461,7 +476,12 @@ fn colour_gradient(scene: &Scene) -> String {
     };
     let mut g = String::from(r#"<linearGradient id="energy-scale" x1="0" y1="1" x2="0" y2="0">"#);
     for (t, c) in &scale.stops {
-        let _ = write!(g, r#"<stop offset="{}" stop-color="{}"/>"#, num(*t), c.hex());
+        let _ = write!(
+            g,
+            r#"<stop offset="{}" stop-color="{}"/>"#,
+            num(*t),
+            c.hex()
+        );
     }
     g.push_str("</linearGradient>");
     g

@@ -135,7 +135,9 @@ impl Table {
                 let mut obj = Map::new();
                 for (col, cell) in self.columns.iter().zip(row) {
                     let v = match cell {
-                        Cell::Number(v) => serde_json::Number::from_f64(*v).map_or(Value::Null, Value::Number),
+                        Cell::Number(v) => {
+                            serde_json::Number::from_f64(*v).map_or(Value::Null, Value::Number)
+                        }
                         Cell::Integer(i) => Value::from(*i),
                         Cell::Text(t) => Value::String(t.clone()),
                         Cell::Empty => Value::Null,
@@ -157,7 +159,8 @@ impl Table {
     fn with_parameters(mut self, params: &[(String, f64)]) -> Table {
         let n = self.columns.len();
         for (name, _) in params {
-            self.columns.push(Column::new(&format!("param_{name}"), name));
+            self.columns
+                .push(Column::new(&format!("param_{name}"), name));
         }
         for row in &mut self.rows {
             row.truncate(n);
