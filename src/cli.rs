@@ -329,15 +329,9 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
     ))
 }
 
-/// The phase portrait of a resolved session: level curves, equilibria, the session's title.
+/// The phase portrait of a resolved session: level curves, equilibria, orbits, the session's title.
 pub fn portrait_scene(r: &Resolved) -> crate::scene::Scene {
-    let a = analyze(
-        &r.system,
-        &r.window,
-        &r.session.analysis_config(),
-        &Cancel::never(),
-    );
-    crate::scene::Scene::portrait(&r.system, &a).with_title(&r.session.title)
+    crate::render::session_portrait(&r.session, &r.system, &r.window, &Cancel::never())
 }
 
 /// The analysis as JSON: formula, parameters, window, equilibria, wells,

@@ -8,7 +8,19 @@ pub mod table;
 pub use png::{PngError, svg_to_png};
 pub use svg::{FigureSize, to_svg};
 
+use crate::core::Cancel;
+use crate::core::analysis::analyze;
+use crate::core::system::System;
+use crate::core::window::Window;
 use crate::scene::Scene;
+use crate::session::Session;
+
+/// The phase portrait of a session: its analysis in `window` (usually the
+/// session's view), its title, and its seeded orbits.
+pub fn session_portrait(session: &Session, sys: &System, window: &Window, cancel: &Cancel) -> Scene {
+    let a = analyze(sys, window, &session.analysis_config(), cancel);
+    Scene::portrait(sys, &a).with_title(&session.title)
+}
 
 /// An output file's format, chosen by its extension.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
