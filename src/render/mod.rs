@@ -10,16 +10,47 @@ pub use svg::{FigureSize, to_svg};
 
 use crate::core::Cancel;
 use crate::core::analysis::analyze;
+use crate::core::integrate::Method;
+use crate::core::orbit::{Orbit, OrbitRequest, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::scene::Scene;
-use crate::session::Session;
+use crate::scene::{Rgb, Scene};
+use crate::session::{SeededOrbit, Session};
+
+/// The orbit request for a seeded orbit: its start, duration and method with
+/// the default bounds around `view` (a method name the loader let through but
+/// this build does not know falls back to `auto`).
+pub fn orbit_request(seed: &SeededOrbit, view: &Window) -> OrbitRequest {
+    let mut req = OrbitRequest::new(seed.q0, seed.p0, seed.duration, view);
+    req.method = Method::from_name(&seed.method).unwrap_or(Method::Auto);
+    req
+}
 
 /// The phase portrait of a session: its analysis in `window` (usually the
-/// session's view), its title, and its seeded orbits.
-pub fn session_portrait(session: &Session, sys: &System, window: &Window, cancel: &Cancel) -> Scene {
+/// session's view), its title, and its seeded orbits with their colours.
+pub fn session_portrait(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Scene {
     let a = analyze(sys, window, &session.analysis_config(), cancel);
-    Scene::portrait(sys, &a).with_title(&session.title)
+    let mut scene = Scene::portrait(sys, &a).with_title(&session.title);
+    for seed in &session.orbits {
+        let req = orbit_request(seed, window);
+        if req.validate().is_err() {
+            continue;
+        }
+        let orbit = integrate_orbit(sys, &req, cancel);
+        let colour = seed.colour.as_deref().and_then(Rgb::parse_hex);
+        scene.add_orbit(&orbit_points(&orbit), colour);
+    }
+    scene
+}
+
+/// The [q, p] points of an orbit in time order.
+pub fn orbit_points(orbit: &Orbit) -> Vec<[f64; 2]> {
+    orbit.samples.iter().map(|s| [s.q, s.p]).collect()
 }
 
 /// An output file's format, chosen by its extension.

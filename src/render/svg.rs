@@ -67,6 +67,8 @@ const CHAR_EM: f64 = 0.6;
 /// Points closer than this on the page (logical units) are merged.
 const MIN_STEP: f64 = 0.35;
 const ARROW_LENGTH: f64 = 10.0;
+/// Extra width of the casing drawn under an orbit.
+const ORBIT_CASING: f64 = 2.6;
 const ARROW_HALF_WIDTH: f64 = 4.2;
 
 /// Where things go, in logical units.
@@ -341,6 +343,15 @@ fn write_curve(out: &mut String, scene: &Scene, l: &Layout, c: &Curve) {
         CurveRole::Branch { kind } => ("branch", format!(r#" data-kind="{}""#, kind_name(kind))),
         _ => (c.role.class(), String::new()),
     };
+    if c.role == CurveRole::Orbit {
+        // A paper-coloured casing lifts the orbit off the level curves beneath it.
+        let _ = writeln!(
+            out,
+            r#"<path class="orbit-casing" d="{d}" stroke="{}" stroke-width="{}" stroke-opacity="0.85"/>"#,
+            PAPER.hex(),
+            num(c.width + ORBIT_CASING)
+        );
+    }
     let _ = writeln!(
         out,
         r#"<path class="{class}"{data} d="{d}" stroke="{}" stroke-width="{}"{dash}/>"#,

@@ -5,6 +5,7 @@
 //! empty CSV field and a JSON null.
 
 use crate::core::equilibria::{DegenerateShape, Equilibrium};
+use crate::core::orbit::Orbit;
 use crate::core::wells::Well;
 use crate::scene::kind_name;
 use serde_json::{Map, Value};
@@ -254,6 +255,65 @@ pub fn wells_table(wells: &[Well], params: &[(String, f64)]) -> Table {
             w.escape_energy.into(),
             w.depth.into(),
             w.escape_saddle.into(),
+        ]);
+    }
+    t.with_parameters(params)
+}
+
+/// The samples of one orbit: t, q, p and H at each stored point.
+pub fn orbit_samples_table(orbit: &Orbit, params: &[(String, f64)]) -> Table {
+    let mut t = Table::new(vec![
+        Column::new("t", "t [time]"),
+        Column::plain("q"),
+        Column::plain("p"),
+        Column::new("h", "H"),
+    ]);
+    for s in &orbit.samples {
+        t.push(vec![s.t.into(), s.q.into(), s.p.into(), s.h.into()]);
+    }
+    t.with_parameters(params)
+}
+
+/// One row of measurements per orbit: start, energy, period, frequency,
+/// action, motion, energy error and how it stopped.
+pub fn orbit_measurements_table(orbits: &[Orbit], params: &[(String, f64)]) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("q0"),
+        Column::plain("p0"),
+        Column::new("energy", "H"),
+        Column::new("period", "period [time]"),
+        Column::new("frequency", "frequency [rad/time]"),
+        Column::new("action", "action I [H*time]"),
+        Column::new("q_advance", "q advance per period"),
+        Column::plain("motion"),
+        Column::new("energy_error", "max |H - H0|"),
+        Column::new("energy_drift", "energy drift (relative)"),
+        Column::plain("method"),
+        Column::new("step", "step [time]"),
+        Column::plain("steps"),
+        Column::plain("stop"),
+    ]);
+    for o in orbits {
+        let start = o.samples.first();
+        let motion = serde_json::to_value(o.motion)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default();
+        t.push(vec![
+            start.map(|s| s.q).into(),
+            start.map(|s| s.p).into(),
+            o.energy.into(),
+            o.period.into(),
+            o.frequency.into(),
+            o.action.into(),
+            o.q_advance.into(),
+            Cell::Text(motion),
+            o.energy_error.into(),
+            o.energy_drift.into(),
+            o.method.name().into(),
+            o.step.into(),
+            i64::try_from(o.steps).map_or(Cell::Empty, Cell::Integer),
+            o.stop.name().into(),
         ]);
     }
     t.with_parameters(params)
