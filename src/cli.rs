@@ -6,7 +6,6 @@
 
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, analyze};
-use crate::core::equilibria::EquilibriumKind;
 use crate::core::formula::Formula;
 use crate::core::system::System;
 use crate::core::window::Window;
@@ -450,14 +449,6 @@ fn complex(re: f64, im: f64) -> String {
     }
 }
 
-fn kind_name(k: EquilibriumKind) -> &'static str {
-    match k {
-        EquilibriumKind::Center => "center",
-        EquilibriumKind::Saddle => "saddle",
-        EquilibriumKind::Degenerate => "degenerate",
-    }
-}
-
 /// Left-aligned columns, two spaces apart.
 fn table(out: &mut String, header: &[&str], rows: &[Vec<String>]) {
     let mut width: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
@@ -512,7 +503,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 num(e.q),
                 num(e.p),
                 num(e.energy),
-                kind_name(e.kind).to_string(),
+                crate::scene::kind_name(e.kind).to_string(),
                 format!(
                     "{}, {}",
                     complex(e.eigenvalues[0][0], e.eigenvalues[0][1]),
