@@ -22,7 +22,7 @@ pub const FORMAT_VERSION: u32 = 1;
 /// Largest grid (points per side) a session may ask for.
 pub const MAX_GRID: usize = 1024;
 /// Smallest grid a session may ask for (the analysis needs at least this).
-pub const MIN_GRID: usize = 16;
+pub const MIN_GRID: usize = crate::core::analysis::MIN_ANALYSIS_GRID;
 /// Largest number of evenly spaced levels.
 pub const MAX_LEVELS: usize = 200;
 /// Largest number of seeded orbits.
