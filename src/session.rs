@@ -183,7 +183,7 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
             ),
         ));
     }
-    check_header(text)?;
+    let raw = check_header(text)?;
     let mut de = serde_json::Deserializer::from_str(text);
     let mut session: Session = match serde_path_to_error::deserialize(&mut de) {
         Ok(s) => s,
@@ -192,18 +192,77 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
     if let Err(e) = de.end() {
         return Err(SessionError::new("", json_problem(&e)));
     }
-    let warnings = session.validate()?;
+    let mut warnings = Vec::new();
+    unknown_fields(&raw, &field_template(), "", &mut warnings);
+    warnings.extend(session.validate()?);
     Ok((session, warnings))
+}
+
+/// A session with every optional field present: its JSON shape lists the
+/// fields this version knows.
+fn field_template() -> serde_json::Value {
+    let mut s = Session::blank("q");
+    s.parameters.push(Parameter {
+        name: String::new(),
+        value: 0.0,
+        min: 0.0,
+        max: 1.0,
+        step: Some(1.0),
+    });
+    s.orbits.push(SeededOrbit {
+        q0: 0.0,
+        p0: 0.0,
+        duration: 1.0,
+        method: default_method(),
+        colour: Some(String::new()),
+    });
+    serde_json::to_value(&s).unwrap_or(serde_json::Value::Null)
+}
+
+/// Warn about fields this version does not know (a typo would otherwise
+/// lose the value silently).
+fn unknown_fields(
+    actual: &serde_json::Value,
+    known: &serde_json::Value,
+    path: &str,
+    warnings: &mut Vec<String>,
+) {
+    use serde_json::Value;
+    match (actual, known) {
+        (Value::Object(a), Value::Object(k)) => {
+            for (key, value) in a {
+                let here = if path.is_empty() {
+                    key.clone()
+                } else {
+                    format!("{path}.{key}")
+                };
+                match k.get(key) {
+                    Some(template) => unknown_fields(value, template, &here, warnings),
+                    None => warnings.push(format!(
+                        "{here}: unknown field, ignored (check the spelling)"
+                    )),
+                }
+            }
+        }
+        (Value::Array(a), Value::Array(k)) => {
+            if let Some(template) = k.first() {
+                for (i, value) in a.iter().enumerate() {
+                    unknown_fields(value, template, &format!("{path}[{i}]"), warnings);
+                }
+            }
+        }
+        _ => {}
+    }
 }
 
 /// Syntax, the top-level shape, `format` and `version`, checked before the
 /// typed read so that a file of another kind or a newer version is named as
 /// such rather than by the first field this version does not understand.
-fn check_header(text: &str) -> Result<(), SessionError> {
+fn check_header(text: &str) -> Result<serde_json::Value, SessionError> {
     use serde_json::Value;
     let value: Value = serde_json::from_str(text)
         .map_err(|e| SessionError::new("", format!("not valid JSON: {}", json_problem(&e))))?;
-    let Value::Object(map) = value else {
+    let Value::Object(map) = &value else {
         return Err(SessionError::new(
             "",
             format!(
@@ -238,7 +297,7 @@ fn check_header(text: &str) -> Result<(), SessionError> {
             ));
         }
     }
-    match map.get("version") {
+    let version = match map.get("version") {
         None => Err(SessionError::new("version", "missing")),
         Some(Value::Number(n)) => match n.as_u64() {
             Some(v) if v > u64::from(FORMAT_VERSION) => Err(SessionError::new(
@@ -257,7 +316,8 @@ fn check_header(text: &str) -> Result<(), SessionError> {
             "version",
             format!("expected a whole number ≥ 1, found {}", json_kind(other)),
         )),
-    }
+    };
+    version.map(|()| value)
 }
 
 fn json_kind(v: &serde_json::Value) -> &'static str {

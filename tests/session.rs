@@ -579,3 +579,24 @@ proptest! {
         prop_assert_eq!(&e.field, &path, "{}", e);
     }
 }
+
+#[test]
+fn unknown_fields_are_named_in_warnings() {
+    let text = bad(
+        r#""title": "tilted lattice","#,
+        r#""title": "tilted lattice", "paramters": [],"#,
+    )
+    .replace(r#""duration": 20.0"#, r#""duration": 20.0, "speed": 2"#);
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(s.parameters.len(), 2);
+    assert_eq!(w.len(), 2, "{w:?}");
+    assert!(
+        w.iter().any(|m| m.starts_with("paramters: unknown field")),
+        "{w:?}"
+    );
+    assert!(
+        w.iter()
+            .any(|m| m.starts_with("orbits[0].speed: unknown field")),
+        "{w:?}"
+    );
+}
