@@ -32,8 +32,10 @@ pub const MAX_DURATION: f64 = 1e6;
 /// Longest session file accepted, in bytes.
 pub const MAX_FILE_BYTES: usize = 16 * 1024 * 1024;
 
-/// Orbit method names a session may use.
-pub const ORBIT_METHODS: &[&str] = &["auto", "verlet", "yoshida4"];
+/// Orbit method names a session may use (the integrators' stable names).
+pub const ORBIT_METHODS: [&str; 8] = [
+    "auto", "verlet", "yoshida4", "yoshida6", "midpoint", "gauss4", "gauss6", "dopri5",
+];
 
 /// Names a formula reads as variables or constants, never as parameters.
 const RESERVED_NAMES: [(&str, &str); 5] = [
@@ -634,15 +636,8 @@ impl Session {
                 ));
                 o.duration = clamped;
             }
-            if !ORBIT_METHODS.contains(&o.method.as_str()) {
-                return Err(SessionError::new(
-                    at("method"),
-                    format!(
-                        "unknown method \"{}\"; known: {}",
-                        o.method,
-                        ORBIT_METHODS.join(", ")
-                    ),
-                ));
+            if let Err(e) = crate::core::integrate::Method::from_name(&o.method) {
+                return Err(SessionError::new(at("method"), e.to_string()));
             }
             if let Some(c) = &o.colour
                 && !is_colour(c)
