@@ -5,6 +5,7 @@
 
 use crate::core::analysis::AnalysisConfig;
 use crate::core::formula::Formula;
+use crate::core::integrate::Method;
 use crate::core::system::System;
 use crate::core::window::Window;
 use serde::{Deserialize, Serialize};
@@ -501,7 +502,7 @@ impl Session {
         self.validate_parameters(&formula, &mut warnings)?;
         self.validate_view()?;
         self.validate_levels(&mut warnings);
-        self.validate_orbits(&mut warnings)?;
+        self.validate_orbits(formula.is_separable(), &mut warnings)?;
         Ok(warnings)
     }
 
@@ -616,7 +617,11 @@ impl Session {
         }
     }
 
-    fn validate_orbits(&mut self, warnings: &mut Vec<String>) -> Result<(), SessionError> {
+    fn validate_orbits(
+        &mut self,
+        separable: bool,
+        warnings: &mut Vec<String>,
+    ) -> Result<(), SessionError> {
         for (i, o) in self.orbits.iter_mut().enumerate() {
             let at = |f: &str| format!("orbits[{i}].{f}");
             check_finite(|| at("q0"), o.q0)?;
@@ -636,8 +641,15 @@ impl Session {
                 ));
                 o.duration = clamped;
             }
-            if let Err(e) = crate::core::integrate::Method::from_name(&o.method) {
-                return Err(SessionError::new(at("method"), e.to_string()));
+            match Method::from_name(&o.method) {
+                Err(e) => return Err(SessionError::new(at("method"), e.to_string())),
+                Ok(m) if m.needs_separable() && !separable => warnings.push(format!(
+                    "orbits[{i}].method: \"{}\" needs H = T(p) + V(q) and this formula \
+                     is not separable; the orbit will be refused until the method changes \
+                     (\"auto\" picks one that works)",
+                    o.method
+                )),
+                Ok(_) => {}
             }
             if let Some(c) = &o.colour
                 && !is_colour(c)

@@ -600,3 +600,11 @@ fn unknown_fields_are_named_in_warnings() {
         "{w:?}"
     );
 }
+
+#[test]
+fn explicit_method_on_a_non_separable_formula_is_a_warning() {
+    let text = bad("p^2/2 - a*cos(q) - b*q", "p^2/2 - a*cos(q) - b*q*p");
+    let (_, w) = load(&text).expect("loads");
+    assert_eq!(w.len(), 1, "{w:?}");
+    assert!(w[0].starts_with("orbits[0].method"), "{w:?}");
+}
