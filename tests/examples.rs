@@ -144,6 +144,7 @@ fn loaded_strut_beyond_critical_load_has_the_pitchfork_pair() {
         &[(-q, Center), (0.0, Saddle), (q, Center)],
     );
     let depth = (load_p - 1.0).powi(2) / (4.0 * g);
+    assert_eq!(a.wells.len(), 2, "{:?}", a.wells);
     for w in &a.wells {
         assert!(
             (w.energy + depth).abs() < 1e-9,
