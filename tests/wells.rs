@@ -307,6 +307,18 @@ fn analysis_of_the_pendulum_finds_its_wells_and_separatrix() {
             .iter()
             .all(|c| c.kind == ConnectionKind::Heteroclinic)
     );
+    // The wells at ±2π are cut by the edges q = ±7 (−cos 7 < 1): one note for both.
+    let notes: Vec<_> = a
+        .diagnostics
+        .iter()
+        .filter(|d| d.message.contains("reaches the window edge"))
+        .collect();
+    assert_eq!(notes.len(), 1, "{:?}", a.diagnostics);
+    assert!(
+        notes[0].message.contains("and 1 more well"),
+        "{}",
+        notes[0].message
+    );
     let seps: Vec<_> = a.curves.iter().filter(|c| c.is_separatrix).collect();
     assert!(!seps.is_empty());
     for c in seps {
