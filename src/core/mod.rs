@@ -1,8 +1,11 @@
 //! The computational core: pure functions over plain data. Never imports a view
 //! crate (egui, egui_plot, rfd, clap) or touches the file system.
 pub mod analysis;
+pub mod backbone;
+pub mod continuation;
 pub mod contour;
 pub mod equilibria;
+pub mod folds;
 pub mod formula;
 pub mod system;
 pub mod wells;

@@ -1,0 +1,1 @@
+//! Backbones of wells.

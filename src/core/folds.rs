@@ -1,0 +1,1 @@
+//! Two-parameter fold curves.

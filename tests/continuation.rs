@@ -1,0 +1,178 @@
+//! One-parameter continuation and two-parameter fold curves against the
+//! normal forms of elementary bifurcation theory, whose branches and folds are
+//! known in closed form.
+
+use phasewright::core::Cancel;
+use phasewright::core::continuation::{BifurcationKind, Sweep, SweepConfig, sweep};
+use phasewright::core::equilibria::EquilibriumKind;
+use phasewright::core::system::System;
+use phasewright::core::window::Window;
+
+fn run(src: &str, values: &[(&str, f64)], from: f64, to: f64, window: Window) -> Sweep {
+    let sys = System::from_source(src, values).expect("formula compiles");
+    sweep(
+        &sys,
+        "mu",
+        from,
+        to,
+        &window,
+        &SweepConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .expect("sweep runs")
+}
+
+fn window() -> Window {
+    Window::new(-2.0, 2.0, -1.0, 1.0).expect("window")
+}
+
+#[test]
+fn saddle_node_normal_form_has_one_fold_at_the_origin() {
+    // H = p²/2 + q³/3 − μq: equilibria q = ±√μ for μ > 0, none for μ < 0; they
+    // meet at μ = 0, q = 0 (saddle-node normal form; closed form).
+    let s = run("p^2/2 + q^3/3 - mu*q", &[("mu", 0.0)], -1.0, 1.0, window());
+    assert_eq!(s.bifurcations.len(), 1, "{:?}", s.bifurcations);
+    let b = &s.bifurcations[0];
+    assert_eq!(b.kind, BifurcationKind::SaddleNode);
+    assert!(b.param.abs() < 1e-10, "mu = {}", b.param);
+    assert!(
+        b.q.abs() < 1e-8 && b.p.abs() < 1e-10,
+        "q = {}, p = {}",
+        b.q,
+        b.p
+    );
+    // Two branches from the fold: q = +√μ (V'' = 2q > 0, center), q = −√μ (saddle).
+    assert_eq!(
+        s.branches.len(),
+        2,
+        "{:?}",
+        s.branches
+            .iter()
+            .map(|b| b.points.len())
+            .collect::<Vec<_>>()
+    );
+    for br in &s.branches {
+        for pt in &br.points[1..br.points.len() - 1] {
+            assert!(
+                (pt.q * pt.q - pt.param).abs() < 1e-9,
+                "q² = μ on the branch"
+            );
+            let expect = if pt.q > 0.0 {
+                EquilibriumKind::Center
+            } else {
+                EquilibriumKind::Saddle
+            };
+            assert_eq!(pt.kind, expect);
+        }
+    }
+}
+
+#[test]
+fn pitchfork_normal_form_splits_into_three_branches() {
+    // H = p²/2 + q⁴/4 − μq²/2: V' = q³ − μq. For μ < 0 only q = 0 (center);
+    // for μ > 0, q = 0 is a saddle and q = ±√μ are centers (pitchfork normal
+    // form; closed form).
+    let s = run(
+        "p^2/2 + q^4/4 - mu*q^2/2",
+        &[("mu", 0.0)],
+        -1.0,
+        1.0,
+        window(),
+    );
+    assert_eq!(s.bifurcations.len(), 1, "{:?}", s.bifurcations);
+    let b = &s.bifurcations[0];
+    assert_eq!(b.kind, BifurcationKind::Pitchfork);
+    assert!(b.param.abs() < 1e-8 && b.q.abs() < 1e-8, "{b:?}");
+    assert_eq!(s.branches.len(), 4, "q = 0 before, and q = 0, ±√μ after");
+    let after: Vec<_> = s
+        .branches
+        .iter()
+        .filter(|br| br.points.iter().any(|p| p.param > 0.5))
+        .collect();
+    assert_eq!(after.len(), 3);
+    let mut kinds = Vec::new();
+    for br in &after {
+        let end = br
+            .points
+            .iter()
+            .max_by(|a, b| a.param.total_cmp(&b.param))
+            .expect("points");
+        assert!((end.param - 1.0).abs() < 1e-12, "branches reach μ = 1");
+        for pt in &br.points {
+            let on = pt.q.abs() < 1e-9 || (pt.q * pt.q - pt.param).abs() < 1e-9;
+            assert!(on, "point off the closed-form branches: {pt:?}");
+        }
+        kinds.push((end.q.round() as i32, br.kind));
+    }
+    kinds.sort_by_key(|k| k.0);
+    assert_eq!(
+        kinds,
+        vec![
+            (-1, EquilibriumKind::Center),
+            (0, EquilibriumKind::Saddle),
+            (1, EquilibriumKind::Center)
+        ]
+    );
+    let before: Vec<_> = s
+        .branches
+        .iter()
+        .filter(|br| br.points.iter().any(|p| p.param < -0.5))
+        .collect();
+    assert_eq!(before.len(), 1);
+    assert_eq!(before[0].kind, EquilibriumKind::Center);
+}
+
+#[test]
+fn imperfect_pitchfork_has_one_saddle_node_at_the_closed_form_value() {
+    // H = p²/2 + q⁴/4 − μq²/2 − εq, ε = 0.05: folds where q³ − μq = ε and
+    // 3q² = μ, i.e. μ = (27ε²/4)^(1/3) = 0.25649639200150, q = −√(μ/3) =
+    // −0.29240177382129 (cusp catastrophe; closed form).
+    let s = run(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", 0.0), ("eps", 0.05)],
+        -1.0,
+        1.0,
+        window(),
+    );
+    assert_eq!(s.bifurcations.len(), 1, "{:?}", s.bifurcations);
+    let b = &s.bifurcations[0];
+    assert_eq!(b.kind, BifurcationKind::SaddleNode);
+    assert!(
+        (b.param - 0.25649639200150).abs() < 1e-8,
+        "mu = {:.15}",
+        b.param
+    );
+    assert!((b.q + 0.29240177382129).abs() < 1e-8, "q = {:.15}", b.q);
+    // The connected branch and the two halves of the folded one.
+    assert_eq!(s.branches.len(), 3);
+}
+
+#[test]
+fn transcritical_normal_form_exchanges_stability() {
+    // H = p²/2 + q³/3 − μq²/2: V' = q² − μq, branches q = 0 and q = μ cross at
+    // the origin and exchange type (transcritical normal form; closed form).
+    let s = run(
+        "p^2/2 + q^3/3 - mu*q^2/2",
+        &[("mu", 0.0)],
+        -1.0,
+        1.0,
+        window(),
+    );
+    assert_eq!(s.bifurcations.len(), 1, "{:?}", s.bifurcations);
+    assert_eq!(s.bifurcations[0].kind, BifurcationKind::Transcritical);
+    assert!(s.bifurcations[0].param.abs() < 1e-8);
+    assert_eq!(s.branches.len(), 4);
+    for br in &s.branches {
+        for pt in &br.points[1..br.points.len() - 1] {
+            // V'' = 2q − μ: on q = 0 it is −μ, on q = μ it is μ.
+            let vpp = 2.0 * pt.q - pt.param;
+            let expect = if vpp > 0.0 {
+                EquilibriumKind::Center
+            } else {
+                EquilibriumKind::Saddle
+            };
+            assert_eq!(pt.kind, expect, "{pt:?}");
+        }
+    }
+}
