@@ -176,3 +176,51 @@ fn transcritical_normal_form_exchanges_stability() {
         }
     }
 }
+
+#[test]
+fn imperfect_pitchfork_fold_curve_is_the_cusp_27eps2_eq_4mu3() {
+    // Folds of H = p²/2 + q⁴/4 − μq²/2 − εq: q³ − μq − ε = 0 and 3q² = μ give
+    // μ = 3q², ε = −2q³, so 27ε² = 4μ³, with a cusp at μ = ε = 0 (cusp
+    // catastrophe; closed form).
+    use phasewright::core::folds::{FoldConfig, fold_curves};
+    let sys = System::from_source(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", 0.0), ("eps", 0.0)],
+    )
+    .expect("formula");
+    let f = fold_curves(
+        &sys,
+        ["mu", "eps"],
+        [-0.5, 1.0, -0.2, 0.2],
+        &window(),
+        &FoldConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .expect("fold curves");
+    assert_eq!(f.curves.len(), 1, "{:?}", f.diagnostics);
+    let pts = &f.curves[0].points;
+    assert!(pts.len() > 20);
+    for pt in pts {
+        let [mu, eps] = pt.params;
+        assert!(
+            (27.0 * eps * eps - 4.0 * mu * mu * mu).abs() < 1e-10,
+            "27ε² − 4μ³ at {pt:?}"
+        );
+        assert!((3.0 * pt.q * pt.q - mu).abs() < 1e-10, "μ = 3q² at {pt:?}");
+    }
+    // Both ends on the ε = ±0.2 edges: q = ∓0.1^(1/3), μ = 3·0.1^(2/3) (closed form).
+    let mu_edge = 3.0 * 0.1f64.powf(2.0 / 3.0);
+    for end in [&pts[0], &pts[pts.len() - 1]] {
+        assert!(
+            (end.params[1].abs() - 0.2).abs() < 1e-12 && (end.params[0] - mu_edge).abs() < 1e-9,
+            "{end:?}"
+        );
+    }
+    assert_eq!(f.cusps.len(), 1);
+    let c = &f.cusps[0];
+    assert!(
+        c.params[0].abs() < 1e-8 && c.params[1].abs() < 1e-8 && c.q.abs() < 1e-6,
+        "{c:?}"
+    );
+}

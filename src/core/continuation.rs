@@ -421,7 +421,6 @@ pub(crate) fn point_between<C: Curve<N>, const N: usize>(
     y0: &Vector<N>,
     y1: &Vector<N>,
     sigma: f64,
-    cfg: &StepConfig,
 ) -> Option<Vector<N>> {
     let chord = y1 - y0;
     let len = chord.norm();
@@ -987,17 +986,16 @@ impl Tracer<'_> {
             a.set_row(2, &chord.transpose());
             Some(determinant(a))
         };
-        let step = &self.cfg.step;
         let (ga, gb) = (g(&ya)?, g(&yb)?);
         let s = illinois(
-            |s| point_between(&self.curve, &ya, &yb, s, step).and_then(|y| g(&y)),
+            |s| point_between(&self.curve, &ya, &yb, s).and_then(|y| g(&y)),
             0.0,
             ga,
             1.0,
             gb,
             LOCATE_TOL,
         )?;
-        point_between(&self.curve, &ya, &yb, s, step)
+        point_between(&self.curve, &ya, &yb, s)
     }
 
     fn locate_fold(
@@ -1008,8 +1006,7 @@ impl Tracer<'_> {
         t1: &Vector<3>,
     ) -> Option<Vector<3>> {
         let s0 = t0[2] / (t0[2] - t1[2]);
-        let guess =
-            point_between(&self.curve, y0, y1, s0, &self.cfg.step).unwrap_or(y0 + (y1 - y0) * s0);
+        let guess = point_between(&self.curve, y0, y1, s0).unwrap_or(y0 + (y1 - y0) * s0);
         let reach = 2.0 * (y1 - y0).norm() + MATCH_TOL;
         if let Some(y) = newton_fold(&self.curve, &guess)
             && (y - guess).norm() <= reach
@@ -1019,11 +1016,11 @@ impl Tracer<'_> {
         // Fallback: the root of the tangent's μ-component along the step.
         let chord = (y1 - y0).try_normalize(0.0)?;
         let g = |s: f64| {
-            let y = point_between(&self.curve, y0, y1, s, &self.cfg.step)?;
+            let y = point_between(&self.curve, y0, y1, s)?;
             tangent(&self.curve, &y, &chord).map(|(t, _)| t[2])
         };
         let s = illinois(g, 0.0, t0[2], 1.0, t1[2], LOCATE_TOL)?;
-        point_between(&self.curve, y0, y1, s, &self.cfg.step)
+        point_between(&self.curve, y0, y1, s)
     }
 
     fn branch_point(&mut self, yb: Vector<3>, arriving: Vector<3>) {
