@@ -1076,7 +1076,7 @@ impl Tracer<'_> {
 }
 
 /// Seeds for the branches at one end of the range: the equilibria in view.
-fn seeds_at(
+pub(crate) fn seeds_at(
     sys: &System,
     window: &Window,
     cfg: &EquilibriumConfig,
