@@ -1,6 +1,7 @@
 //! phasewright: a workbench for conservative one-degree-of-freedom Hamiltonian
 //! systems H(q, p). The core computes; the session module holds the file
 //! format; the command line and the desktop explorer are thin clients.
+pub mod cli;
 pub mod core;
 #[cfg(feature = "gui")]
 pub mod gui;

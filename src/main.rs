@@ -1,1 +1,69 @@
-fn main() {}
+//! The program entry: no arguments open the desktop explorer; subcommands run
+//! the command line. Exit code 0 on success, 2 on bad input, 1 when the
+//! explorer cannot start.
+
+use clap::Parser;
+use phasewright::cli::{Cli, Command};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            let _ = e.print();
+            return if e.use_stderr() {
+                ExitCode::from(2)
+            } else {
+                ExitCode::SUCCESS
+            };
+        }
+    };
+    match &cli.command {
+        None => explorer(None),
+        Some(Command::Open { file }) => {
+            if let Err(e) = phasewright::session::load_file(file) {
+                eprintln!("phasewright: {}: {e}", file.display());
+                return ExitCode::from(2);
+            }
+            explorer(Some(file.clone()))
+        }
+        Some(command) => match phasewright::cli::run(command) {
+            Ok(text) => {
+                print!("{text}");
+                if !text.ends_with('\n') {
+                    println!();
+                }
+                ExitCode::SUCCESS
+            }
+            Err(e) => {
+                eprintln!("phasewright: {e}");
+                ExitCode::from(2)
+            }
+        },
+    }
+}
+
+#[cfg(feature = "gui")]
+fn explorer(initial: Option<PathBuf>) -> ExitCode {
+    match phasewright::gui::run(initial) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("phasewright: {e}");
+            ExitCode::from(1)
+        }
+    }
+}
+
+#[cfg(not(feature = "gui"))]
+fn explorer(initial: Option<PathBuf>) -> ExitCode {
+    if initial.is_some() {
+        eprintln!(
+            "phasewright: this build has no desktop explorer (built without the `gui` feature)"
+        );
+        return ExitCode::from(2);
+    }
+    let _ = <Cli as clap::CommandFactory>::command().print_help();
+    println!();
+    ExitCode::SUCCESS
+}

@@ -1,14 +1,55 @@
 //! The session file: a plain JSON format of our own (format name
 //! "phasewright-session", integer version). Plain data, no computation; the
-//! loader validates every field and names the field and the problem.
+//! loader validates every field and names the field and the problem, and
+//! `save_atomic` replaces a file so that a failed save never destroys the old one.
 
+use crate::core::analysis::AnalysisConfig;
+use crate::core::formula::Formula;
+use crate::core::system::System;
 use crate::core::window::Window;
 use serde::{Deserialize, Serialize};
+use std::fmt;
+use std::io::{self, Write};
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicU64, Ordering};
 
 /// The value of the `format` field.
 pub const FORMAT_NAME: &str = "phasewright-session";
 /// The newest version this program reads and the one it writes.
 pub const FORMAT_VERSION: u32 = 1;
+
+/// Largest grid (points per side) a session may ask for.
+pub const MAX_GRID: usize = 1024;
+/// Smallest grid a session may ask for (the analysis needs at least this).
+pub const MIN_GRID: usize = 16;
+/// Largest number of evenly spaced levels.
+pub const MAX_LEVELS: usize = 200;
+/// Largest number of seeded orbits.
+pub const MAX_ORBITS: usize = 64;
+/// Largest |duration| of one seeded orbit.
+pub const MAX_DURATION: f64 = 1e6;
+/// Longest session file accepted, in bytes.
+pub const MAX_FILE_BYTES: usize = 16 * 1024 * 1024;
+
+/// Orbit method names a session may use (the integrators' stable names).
+pub const ORBIT_METHODS: [&str; 8] = [
+    "auto", "verlet", "yoshida4", "yoshida6", "midpoint", "gauss4", "gauss6", "dopri5",
+];
+
+/// Names a formula reads as variables or constants, never as parameters.
+const RESERVED_NAMES: [(&str, &str); 5] = [
+    ("q", "the coordinate"),
+    ("p", "the momentum"),
+    ("t", "time"),
+    ("pi", "the constant π"),
+    ("e", "the constant e = 2.718…"),
+];
+
+/// Value given to a formula parameter that the session does not list.
+pub const DEFAULT_PARAM_VALUE: f64 = 1.0;
+/// Slider range given to a formula parameter that the session does not list.
+pub const DEFAULT_PARAM_RANGE: (f64, f64) = (-10.0, 10.0);
 
 /// A whole session as saved.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -80,4 +121,578 @@ pub struct SeededOrbit {
 
 fn default_method() -> String {
     "auto".to_string()
+}
+
+/// Why a session was refused: which field, and what is wrong with it.
+/// `field` is a path such as `parameters[1].min`; it is empty when the
+/// problem is the file as a whole (not JSON, unreadable).
+#[derive(Clone, Debug, PartialEq)]
+pub struct SessionError {
+    pub field: String,
+    pub problem: String,
+}
+
+impl SessionError {
+    pub fn new(field: impl Into<String>, problem: impl Into<String>) -> Self {
+        SessionError {
+            field: field.into(),
+            problem: problem.into(),
+        }
+    }
+}
+
+impl fmt::Display for SessionError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.field.is_empty() {
+            f.write_str(&self.problem)
+        } else {
+            write!(f, "field `{}`: {}", self.field, self.problem)
+        }
+    }
+}
+
+impl std::error::Error for SessionError {}
+
+/// Why a save failed, with the file it was writing.
+#[derive(Debug)]
+pub struct SaveError {
+    pub path: PathBuf,
+    pub source: io::Error,
+}
+
+impl fmt::Display for SaveError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "cannot save {}: {}", self.path.display(), self.source)
+    }
+}
+
+impl std::error::Error for SaveError {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        Some(&self.source)
+    }
+}
+
+/// Read and check a session from JSON text. Returns the session (values
+/// above a cap clamped, missing parameters added) and the warnings that
+/// tell the user what was changed or looks wrong.
+pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
+    if text.len() > MAX_FILE_BYTES {
+        return Err(SessionError::new(
+            "",
+            format!(
+                "the file is {} bytes; a session is at most {MAX_FILE_BYTES} bytes",
+                text.len()
+            ),
+        ));
+    }
+    check_header(text)?;
+    let mut de = serde_json::Deserializer::from_str(text);
+    let mut session: Session = match serde_path_to_error::deserialize(&mut de) {
+        Ok(s) => s,
+        Err(e) => return Err(parse_error(e)),
+    };
+    if let Err(e) = de.end() {
+        return Err(SessionError::new("", json_problem(&e)));
+    }
+    let warnings = session.validate()?;
+    Ok((session, warnings))
+}
+
+/// Syntax, the top-level shape, `format` and `version`, checked before the
+/// typed read so that a file of another kind or a newer version is named as
+/// such rather than by the first field this version does not understand.
+fn check_header(text: &str) -> Result<(), SessionError> {
+    use serde_json::Value;
+    let value: Value = serde_json::from_str(text)
+        .map_err(|e| SessionError::new("", format!("not valid JSON: {}", json_problem(&e))))?;
+    let Value::Object(map) = value else {
+        return Err(SessionError::new(
+            "",
+            format!(
+                "a session is a JSON object {{ ... }}; this file holds {}",
+                json_kind(&value)
+            ),
+        ));
+    };
+    match map.get("format") {
+        None => {
+            return Err(SessionError::new(
+                "format",
+                "missing; this is not a phasewright session",
+            ));
+        }
+        Some(Value::String(f)) if f == FORMAT_NAME => {}
+        Some(Value::String(f)) => {
+            return Err(SessionError::new(
+                "format",
+                format!(
+                    "expected \"{FORMAT_NAME}\", found \"{f}\"; this is not a phasewright session"
+                ),
+            ));
+        }
+        Some(other) => {
+            return Err(SessionError::new(
+                "format",
+                format!(
+                    "expected the text \"{FORMAT_NAME}\", found {}",
+                    json_kind(other)
+                ),
+            ));
+        }
+    }
+    match map.get("version") {
+        None => Err(SessionError::new("version", "missing")),
+        Some(Value::Number(n)) => match n.as_u64() {
+            Some(v) if v > u64::from(FORMAT_VERSION) => Err(SessionError::new(
+                "version",
+                format!(
+                    "written by a newer phasewright (version {v}); this one reads up to {FORMAT_VERSION}"
+                ),
+            )),
+            Some(_) => Ok(()),
+            None => Err(SessionError::new(
+                "version",
+                format!("expected a whole number ≥ 1, found {n}"),
+            )),
+        },
+        Some(other) => Err(SessionError::new(
+            "version",
+            format!("expected a whole number ≥ 1, found {}", json_kind(other)),
+        )),
+    }
+}
+
+fn json_kind(v: &serde_json::Value) -> &'static str {
+    use serde_json::Value;
+    match v {
+        Value::Null => "null",
+        Value::Bool(_) => "true or false",
+        Value::Number(_) => "a number",
+        Value::String(_) => "a text",
+        Value::Array(_) => "an array",
+        Value::Object(_) => "an object",
+    }
+}
+
+/// Read and check a session file (see [`load`]). The error does not repeat
+/// the path; callers show it as "PATH: error".
+pub fn load_file(path: &Path) -> Result<(Session, Vec<String>), SessionError> {
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| SessionError::new("", format!("cannot read the file: {e}")))?;
+    load(&text)
+}
+
+/// The message of a serde_json error without its position, and the position
+/// written our way.
+fn json_problem(e: &serde_json::Error) -> String {
+    let full = e.to_string();
+    if e.line() == 0 {
+        return friendly(&full);
+    }
+    let suffix = format!(" at line {} column {}", e.line(), e.column());
+    let msg = full.strip_suffix(&suffix).unwrap_or(&full);
+    format!(
+        "{} (line {}, column {})",
+        friendly(msg),
+        e.line(),
+        e.column()
+    )
+}
+
+/// serde's type names in words a user knows.
+fn friendly(msg: &str) -> String {
+    msg.replace("expected f64", "expected a number")
+        .replace("expected usize", "expected a whole number ≥ 0")
+        .replace("expected u32", "expected a whole number ≥ 0")
+        .replace("expected a boolean", "expected true or false")
+        .replace("expected a string", "expected a text in quotes")
+}
+
+fn parse_error(e: serde_path_to_error::Error<serde_json::Error>) -> SessionError {
+    let path = e.path().to_string();
+    let inner = e.inner();
+    let mut field = if path == "." { String::new() } else { path };
+    let mut problem = json_problem(inner);
+    if inner.is_syntax() || inner.is_eof() {
+        // Position is what helps here; the path is where the parser stopped.
+        return SessionError::new("", format!("not valid JSON: {problem}"));
+    }
+    if let Some(rest) = problem.strip_prefix("missing field `")
+        && let Some((name, tail)) = rest.split_once('`')
+    {
+        field = if field.is_empty() {
+            name.to_string()
+        } else {
+            format!("{field}.{name}")
+        };
+        problem = format!("missing{tail}");
+    }
+    SessionError::new(field, problem)
+}
+
+fn check_finite(field: impl FnOnce() -> String, v: f64) -> Result<(), SessionError> {
+    if v.is_finite() {
+        Ok(())
+    } else {
+        Err(SessionError::new(
+            field(),
+            format!("must be a finite number (found {v})"),
+        ))
+    }
+}
+
+fn check_less(
+    field: impl FnOnce() -> String,
+    lo: f64,
+    hi: f64,
+    hi_name: &str,
+) -> Result<(), SessionError> {
+    if lo < hi {
+        Ok(())
+    } else {
+        Err(SessionError::new(
+            field(),
+            format!("must be less than {hi_name} ({lo} ≥ {hi})"),
+        ))
+    }
+}
+
+/// Whether `s` is a colour written "#rrggbb".
+pub fn is_colour(s: &str) -> bool {
+    let b = s.as_bytes();
+    b.len() == 7 && b[0] == b'#' && b[1..].iter().all(|c| c.is_ascii_hexdigit())
+}
+
+impl Session {
+    /// A session for `formula` with default view and levels, the formula's
+    /// parameters added with default values, checked like a loaded file.
+    pub fn from_formula(formula: &str) -> Result<(Session, Vec<String>), SessionError> {
+        let mut s = Session::blank(formula);
+        let warnings = s.validate()?;
+        Ok((s, warnings))
+    }
+
+    /// A session for `formula` with default view and levels and no
+    /// parameters, not yet checked (call [`Session::validate`]).
+    pub fn blank(formula: &str) -> Session {
+        Session {
+            format: FORMAT_NAME.to_string(),
+            version: FORMAT_VERSION,
+            title: String::new(),
+            notes: String::new(),
+            formula: formula.to_string(),
+            parameters: Vec::new(),
+            view: Window::default(),
+            levels: LevelSettings::default(),
+            orbits: Vec::new(),
+        }
+    }
+
+    /// Read and check a session from JSON text, dropping the warnings (see [`load`]).
+    pub fn from_json(text: &str) -> Result<Session, SessionError> {
+        load(text).map(|(s, _)| s)
+    }
+
+    /// The session as indented JSON (what `save_atomic` writes).
+    pub fn to_json_pretty(&self) -> String {
+        // Serialising plain structs of numbers and strings into a String cannot fail;
+        // fall back to the compact form rather than panic.
+        serde_json::to_string_pretty(self).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+    }
+
+    /// Check every field. Hard problems are errors naming the field; values
+    /// above a cap are clamped and formula parameters missing from the list
+    /// are added, each with a warning. Running it twice changes nothing more.
+    pub fn validate(&mut self) -> Result<Vec<String>, SessionError> {
+        let mut warnings = Vec::new();
+        if self.format != FORMAT_NAME {
+            return Err(SessionError::new(
+                "format",
+                format!(
+                    "expected \"{FORMAT_NAME}\", found \"{}\"; this is not a phasewright session",
+                    self.format
+                ),
+            ));
+        }
+        if self.version > FORMAT_VERSION {
+            return Err(SessionError::new(
+                "version",
+                format!(
+                    "written by a newer phasewright (version {}); this one reads up to {FORMAT_VERSION}",
+                    self.version
+                ),
+            ));
+        }
+        if self.version == 0 {
+            return Err(SessionError::new("version", "must be at least 1 (found 0)"));
+        }
+        if self.formula.trim().is_empty() {
+            return Err(SessionError::new(
+                "formula",
+                "is empty; write H in q and p, for example \"p^2/2 + q^2/2\"",
+            ));
+        }
+        let formula = Formula::compile(&self.formula)
+            .map_err(|e| SessionError::new("formula", e.to_string()))?;
+        for w in formula.warnings() {
+            warnings.push(format!("formula: {w}"));
+        }
+
+        self.validate_parameters(&formula, &mut warnings)?;
+        self.validate_view()?;
+        self.validate_levels(&mut warnings);
+        self.validate_orbits(&mut warnings)?;
+        Ok(warnings)
+    }
+
+    fn validate_parameters(
+        &mut self,
+        formula: &Formula,
+        warnings: &mut Vec<String>,
+    ) -> Result<(), SessionError> {
+        for (i, p) in self.parameters.iter().enumerate() {
+            let at = |f: &str| format!("parameters[{i}].{f}");
+            if p.name.trim().is_empty() {
+                return Err(SessionError::new(at("name"), "is empty"));
+            }
+            if let Some(j) = self.parameters[..i].iter().position(|o| o.name == p.name) {
+                return Err(SessionError::new(
+                    at("name"),
+                    format!("`{}` is listed twice (also parameters[{j}])", p.name),
+                ));
+            }
+            check_finite(|| at("value"), p.value)?;
+            check_finite(|| at("min"), p.min)?;
+            check_finite(|| at("max"), p.max)?;
+            check_less(|| at("min"), p.min, p.max, "max")?;
+            if p.value < p.min || p.value > p.max {
+                return Err(SessionError::new(
+                    at("value"),
+                    format!(
+                        "must lie within [min, max] = [{}, {}] (found {})",
+                        p.min, p.max, p.value
+                    ),
+                ));
+            }
+            if let Some(step) = p.step {
+                check_finite(|| at("step"), step)?;
+                if step <= 0.0 {
+                    return Err(SessionError::new(
+                        at("step"),
+                        format!("must be greater than 0 (found {step})"),
+                    ));
+                }
+            }
+            if let Some((_, meaning)) = RESERVED_NAMES.iter().find(|(n, _)| *n == p.name) {
+                warnings.push(format!(
+                    "parameters[{i}]: `{}` is a built-in name in formulas ({meaning}), so this \
+                     parameter has no effect; rename it in the formula and here",
+                    p.name
+                ));
+            } else if formula.param_index(&p.name).is_none() {
+                warnings.push(format!(
+                    "parameters[{i}]: `{}` does not appear in the formula and has no effect",
+                    p.name
+                ));
+            }
+        }
+        for name in formula.params() {
+            if !self.parameters.iter().any(|p| &p.name == name) {
+                let (min, max) = DEFAULT_PARAM_RANGE;
+                warnings.push(format!(
+                    "parameters: the formula uses `{name}`, which the session does not list; \
+                     added with value {DEFAULT_PARAM_VALUE} and range [{min}, {max}]"
+                ));
+                self.parameters.push(Parameter {
+                    name: name.clone(),
+                    value: DEFAULT_PARAM_VALUE,
+                    min,
+                    max,
+                    step: None,
+                });
+            }
+        }
+        Ok(())
+    }
+
+    fn validate_view(&self) -> Result<(), SessionError> {
+        let v = &self.view;
+        for (name, x) in [
+            ("qmin", v.qmin),
+            ("qmax", v.qmax),
+            ("pmin", v.pmin),
+            ("pmax", v.pmax),
+        ] {
+            check_finite(|| format!("view.{name}"), x)?;
+        }
+        check_less(|| "view.qmin".into(), v.qmin, v.qmax, "qmax")?;
+        check_less(|| "view.pmin".into(), v.pmin, v.pmax, "pmax")?;
+        v.validate()
+            .map_err(|e| SessionError::new("view", e.to_string()))
+    }
+
+    fn validate_levels(&mut self, warnings: &mut Vec<String>) {
+        let l = &mut self.levels;
+        if l.grid > MAX_GRID {
+            warnings.push(format!(
+                "levels.grid: {} points per side is above the cap of {MAX_GRID}; using {MAX_GRID}",
+                l.grid
+            ));
+            l.grid = MAX_GRID;
+        }
+        if l.grid < MIN_GRID {
+            warnings.push(format!(
+                "levels.grid: {} points per side is below the minimum of {MIN_GRID}; using {MIN_GRID}",
+                l.grid
+            ));
+            l.grid = MIN_GRID;
+        }
+        if l.count > MAX_LEVELS {
+            warnings.push(format!(
+                "levels.count: {} levels is above the cap of {MAX_LEVELS}; using {MAX_LEVELS}",
+                l.count
+            ));
+            l.count = MAX_LEVELS;
+        }
+    }
+
+    fn validate_orbits(&mut self, warnings: &mut Vec<String>) -> Result<(), SessionError> {
+        for (i, o) in self.orbits.iter_mut().enumerate() {
+            let at = |f: &str| format!("orbits[{i}].{f}");
+            check_finite(|| at("q0"), o.q0)?;
+            check_finite(|| at("p0"), o.p0)?;
+            check_finite(|| at("duration"), o.duration)?;
+            if o.duration == 0.0 {
+                return Err(SessionError::new(
+                    at("duration"),
+                    "must not be zero (negative integrates backward)",
+                ));
+            }
+            if o.duration.abs() > MAX_DURATION {
+                let clamped = MAX_DURATION.copysign(o.duration);
+                warnings.push(format!(
+                    "orbits[{i}].duration: {} is beyond the cap of ±{MAX_DURATION:e}; using {clamped:e}",
+                    o.duration
+                ));
+                o.duration = clamped;
+            }
+            if let Err(e) = crate::core::integrate::Method::from_name(&o.method) {
+                return Err(SessionError::new(at("method"), e.to_string()));
+            }
+            if let Some(c) = &o.colour
+                && !is_colour(c)
+            {
+                return Err(SessionError::new(
+                    at("colour"),
+                    format!("expected \"#rrggbb\" with hexadecimal digits (found \"{c}\")"),
+                ));
+            }
+        }
+        if self.orbits.len() > MAX_ORBITS {
+            warnings.push(format!(
+                "orbits: {} orbits is above the cap of {MAX_ORBITS}; keeping the first {MAX_ORBITS}",
+                self.orbits.len()
+            ));
+            self.orbits.truncate(MAX_ORBITS);
+        }
+        Ok(())
+    }
+
+    /// The value of parameter `name`, if listed.
+    pub fn parameter(&self, name: &str) -> Option<&Parameter> {
+        self.parameters.iter().find(|p| p.name == name)
+    }
+
+    /// The compiled system: the formula with this session's parameter values.
+    pub fn system(&self) -> Result<System, SessionError> {
+        let formula = Formula::compile(&self.formula)
+            .map_err(|e| SessionError::new("formula", e.to_string()))?;
+        let mut values = Vec::with_capacity(formula.params().len());
+        for name in formula.params() {
+            match self.parameter(name) {
+                Some(p) => values.push(p.value),
+                None => {
+                    return Err(SessionError::new(
+                        "parameters",
+                        format!("the formula uses `{name}`, which has no entry"),
+                    ));
+                }
+            }
+        }
+        System::new(Arc::new(formula), values)
+            .map_err(|e| SessionError::new("parameters", e.to_string()))
+    }
+
+    /// Analysis settings from the session's level settings.
+    pub fn analysis_config(&self) -> AnalysisConfig {
+        AnalysisConfig {
+            grid: self.levels.grid,
+            levels: self.levels.count,
+            refine: self.levels.refine,
+            ..AnalysisConfig::default()
+        }
+    }
+}
+
+/// Write `session` to `path` atomically (see [`write_atomic`]).
+pub fn save_atomic(path: &Path, session: &Session) -> Result<(), SaveError> {
+    let text = session.to_json_pretty();
+    write_atomic(path, |w| {
+        w.write_all(text.as_bytes())?;
+        w.write_all(b"\n")
+    })
+}
+
+static TEMP_COUNTER: AtomicU64 = AtomicU64::new(0);
+
+/// Replace `path` with what `write` produces, so that a crash or an error
+/// midway never leaves a half-written file: write a temporary file in the
+/// same folder, flush and sync it, then rename it over the target. On any
+/// error the temporary file is removed and the old file is untouched.
+pub fn write_atomic(
+    path: &Path,
+    write: impl FnOnce(&mut dyn Write) -> io::Result<()>,
+) -> Result<(), SaveError> {
+    let err = |source| SaveError {
+        path: path.to_path_buf(),
+        source,
+    };
+    let name = path.file_name().ok_or_else(|| {
+        err(io::Error::new(
+            io::ErrorKind::InvalidInput,
+            "the path does not name a file",
+        ))
+    })?;
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let tmp = dir.join(format!(
+        ".{}.{}-{}.tmp",
+        name.to_string_lossy(),
+        std::process::id(),
+        TEMP_COUNTER.fetch_add(1, Ordering::Relaxed)
+    ));
+    let result = (|| -> io::Result<()> {
+        let file = std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&tmp)?;
+        let mut buf = io::BufWriter::new(file);
+        write(&mut buf)?;
+        let file = buf.into_inner().map_err(|e| e.into_error())?;
+        file.sync_all()?;
+        drop(file);
+        std::fs::rename(&tmp, path)?;
+        // Make the rename itself durable where the platform allows it.
+        if let Ok(d) = std::fs::File::open(&dir) {
+            let _ = d.sync_all();
+        }
+        Ok(())
+    })();
+    if let Err(e) = result {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(err(e));
+    }
+    Ok(())
 }

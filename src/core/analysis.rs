@@ -2,12 +2,23 @@
 //! equilibria, wells and connections. Used by the explorer, the command line
 //! and the figure exporter alike.
 
-use super::contour::{Grid, LevelCurve};
-use super::equilibria::{Equilibrium, EquilibriumConfig};
+use super::contour::{Grid, Level, LevelCurve, MAX_GRID_SIDE};
+use super::equilibria::{Equilibrium, EquilibriumConfig, EquilibriumKind};
 use super::system::System;
 use super::wells::{Connection, Well};
 use super::window::Window;
 use super::{Cancel, Diagnostic};
+
+/// Fewest grid points per side an analysis uses.
+pub const MIN_ANALYSIS_GRID: usize = 16;
+
+/// H counts as constant in view when its spread over the grid is below this
+/// fraction of its magnitude (or of 1 when H is near zero).
+const CONSTANT_SPREAD_REL: f64 = 1e-12;
+
+/// Two saddle levels closer than this fraction of H's spread in view are
+/// drawn as one separatrix level.
+const SAME_LEVEL_REL: f64 = 1e-9;
 
 /// Settings of one analysis.
 #[derive(Clone, Debug, PartialEq)]
@@ -46,18 +57,153 @@ pub struct Analysis {
     pub cancelled: bool,
 }
 
-/// Analyse `sys` in `window`.
+/// Analyse `sys` in `window` at t = 0.
+///
+/// Stages, with the cancel flag polled between them: sample H on a
+/// `cfg.grid`² grid; find the equilibria; trace `cfg.levels` evenly spaced
+/// levels plus the level of every saddle (flagged as separatrices); refine
+/// the curves onto the exact level if asked; then wells and separatrix
+/// connections. Soft problems (H undefined on part of the window, H constant,
+/// grid size out of range) come back as diagnostics.
 pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Cancel) -> Analysis {
-    let _ = (sys, cfg, cancel);
-    let equilibria: Vec<Equilibrium> = Vec::new();
-    Analysis {
+    let mut diagnostics = Vec::new();
+    let n = cfg.grid.clamp(MIN_ANALYSIS_GRID, MAX_GRID_SIDE);
+    if n != cfg.grid {
+        diagnostics.push(Diagnostic::warning(format!(
+            "grid size {} is outside {MIN_ANALYSIS_GRID}..={MAX_GRID_SIDE}; using {n}",
+            cfg.grid
+        )));
+    }
+    if sys.depends_on_time() {
+        diagnostics.push(Diagnostic::info(
+            "H depends on t, so energy is not conserved; the portrait shows H at t = 0",
+        ));
+    }
+    let grid = super::contour::sample_grid(sys, window, n, n);
+    let mut out = Analysis {
         window: *window,
-        grid: crate::core::contour::sample_grid(sys, window, cfg.grid, cfg.grid),
+        grid,
         curves: Vec::new(),
-        equilibria,
+        equilibria: Vec::new(),
         wells: Vec::new(),
         connections: Vec::new(),
-        diagnostics: Vec::new(),
+        diagnostics,
         cancelled: false,
+    };
+    grid_diagnostics(&out.grid, &mut out.diagnostics);
+    if out.grid.range.is_none() {
+        return out;
     }
+    if stop(cancel, &mut out) {
+        return out;
+    }
+
+    let (equilibria, eq_diag) =
+        super::equilibria::find_equilibria(sys, window, &cfg.equilibria, cancel);
+    out.equilibria = equilibria;
+    out.diagnostics.extend(eq_diag);
+    if stop(cancel, &mut out) {
+        return out;
+    }
+
+    let levels = levels_to_draw(&out.grid, cfg.levels, &out.equilibria);
+    out.curves = super::contour::level_curves(&out.grid, &levels);
+    if stop(cancel, &mut out) {
+        return out;
+    }
+    if cfg.refine {
+        for curve in &mut out.curves {
+            if cancel.is_cancelled() {
+                break;
+            }
+            super::contour::refine_curve(sys, curve);
+        }
+        if stop(cancel, &mut out) {
+            return out;
+        }
+    }
+
+    let (wells, connections) =
+        super::wells::wells_and_connections(sys, window, &out.grid, &out.equilibria, &out.curves);
+    for w in &wells {
+        if let (Some(edge), Some(escape)) = (w.edge_energy, w.escape_energy) {
+            out.diagnostics.push(Diagnostic::info(format!(
+                "the well around the center at (q = {:.6}, p = {:.6}) reaches the window edge \
+                 at H = {edge:.6}, below its escape energy {escape:.6}; widen the view to see \
+                 the whole well",
+                w.q, w.p
+            )));
+        }
+    }
+    out.wells = wells;
+    out.connections = connections;
+    stop(cancel, &mut out);
+    out
+}
+
+fn stop(cancel: &Cancel, out: &mut Analysis) -> bool {
+    if cancel.is_cancelled() {
+        out.cancelled = true;
+    }
+    out.cancelled
+}
+
+fn grid_diagnostics(grid: &Grid, diagnostics: &mut Vec<Diagnostic>) {
+    let Some((lo, hi)) = grid.range else {
+        diagnostics.push(Diagnostic::warning(
+            "H is NaN or infinite everywhere in the window; nothing to draw",
+        ));
+        return;
+    };
+    if grid.nonfinite_fraction > 0.0 {
+        let pct = 100.0 * grid.nonfinite_fraction;
+        let shown = if pct < 1.0 {
+            format!("{pct:.2}")
+        } else {
+            format!("{pct:.0}")
+        };
+        diagnostics.push(Diagnostic::warning(format!(
+            "H is NaN or infinite on {shown}% of the window; those cells are left blank"
+        )));
+    }
+    let scale = lo.abs().max(hi.abs()).max(1.0);
+    if hi - lo <= CONSTANT_SPREAD_REL * scale {
+        diagnostics.push(Diagnostic::info(format!(
+            "H is constant in view (H = {lo}); there are no level curves to draw"
+        )));
+    }
+}
+
+/// The levels an analysis draws: `n` evenly spaced ones plus each distinct
+/// saddle level inside the grid's range, flagged as a separatrix.
+pub fn levels_to_draw(grid: &Grid, n: usize, equilibria: &[Equilibrium]) -> Vec<Level> {
+    let mut levels: Vec<Level> = super::contour::even_levels(grid, n)
+        .into_iter()
+        .map(|value| Level {
+            value,
+            is_separatrix: false,
+        })
+        .collect();
+    let Some((lo, hi)) = grid.range else {
+        return levels;
+    };
+    let tol = SAME_LEVEL_REL * (hi - lo).max(f64::MIN_POSITIVE);
+    let mut saddles: Vec<f64> = equilibria
+        .iter()
+        .filter(|e| e.kind == EquilibriumKind::Saddle && e.energy.is_finite())
+        .map(|e| e.energy)
+        .collect();
+    saddles.sort_by(f64::total_cmp);
+    let mut last: Option<f64> = None;
+    for e in saddles {
+        if last.is_some_and(|l| (e - l).abs() <= tol) {
+            continue;
+        }
+        last = Some(e);
+        levels.push(Level {
+            value: e,
+            is_separatrix: true,
+        });
+    }
+    levels
 }

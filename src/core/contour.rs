@@ -1,8 +1,37 @@
 //! Level curves of H: sample the window on a grid, then marching squares with
 //! ambiguous cells resolved, segments joined into polylines.
+//!
+//! # Marching squares
+//!
+//! Each grid cell is classified by which of its four corners lie at or above
+//! the level; the level crosses an edge whose two ends are on opposite sides,
+//! at the point found by linear interpolation. A cell whose diagonal corners
+//! agree but differ from the other diagonal (a saddle cell) is resolved by the
+//! asymptotic decider: the value of the bilinear interpolant at its own saddle
+//! point, `(v0·v2 − v1·v3)/(v0 + v2 − v1 − v3)`, says which diagonal is joined,
+//! so the curves agree with the bilinear surface and never cross.
+//! Segments are joined into polylines by walking from cell to cell across the
+//! shared edge, so no lookup structure is needed. Cells with a NaN corner are
+//! blank: curves stop at them. Only cells whose value range contains a level
+//! are visited (levels sorted, binary search per cell).
+//!
+//! Reference: W. E. Lorensen and H. E. Cline, "Marching cubes", SIGGRAPH 1987
+//! (the cell method); G. M. Nielson and B. Hamann, "The asymptotic decider:
+//! resolving the ambiguity in marching cubes", IEEE Visualization 1991.
 
 use super::system::System;
 use super::window::Window;
+
+/// Largest number of grid points per side that [`sample_grid`] accepts; larger
+/// requests are clamped (4096² samples are 128 MiB).
+pub const MAX_GRID_SIDE: usize = 4096;
+
+/// Newton iterations per vertex in [`refine_curve`].
+const REFINE_ITERATIONS: usize = 4;
+
+/// A Newton correction smaller than this fraction of the local spacing of
+/// the curve's vertices ends the refinement of a vertex.
+const REFINE_STEP_REL: f64 = 1e-12;
 
 /// H sampled on an nq × np lattice over a window (row-major: index = j*nq + i,
 /// q_i = qmin + i·dq, p_j = pmin + j·dp). Non-finite samples are NaN.
@@ -18,11 +47,70 @@ pub struct Grid {
     pub range: Option<(f64, f64)>,
 }
 
+impl Grid {
+    /// Spacing in q between neighbouring samples.
+    pub fn dq(&self) -> f64 {
+        self.window.width() / (self.nq.max(2) - 1) as f64
+    }
+
+    /// Spacing in p between neighbouring samples.
+    pub fn dp(&self) -> f64 {
+        self.window.height() / (self.np.max(2) - 1) as f64
+    }
+
+    /// q of column i.
+    pub fn q(&self, i: usize) -> f64 {
+        lattice(self.window.qmin, self.window.qmax, i, self.nq)
+    }
+
+    /// p of row j.
+    pub fn p(&self, j: usize) -> f64 {
+        lattice(self.window.pmin, self.window.pmax, j, self.np)
+    }
+
+    /// The sample at column i, row j (NaN when outside the grid or non-finite).
+    pub fn value(&self, i: usize, j: usize) -> f64 {
+        if i < self.nq && j < self.np {
+            self.values
+                .get(j * self.nq + i)
+                .copied()
+                .unwrap_or(f64::NAN)
+        } else {
+            f64::NAN
+        }
+    }
+
+    /// The cell (i, j) — between columns i, i+1 and rows j, j+1 — that
+    /// contains (q, p), clamped to the grid; None when (q, p) is not finite.
+    pub fn cell_of(&self, q: f64, p: f64) -> Option<(usize, usize)> {
+        if !q.is_finite() || !p.is_finite() || self.nq < 2 || self.np < 2 {
+            return None;
+        }
+        let fi = ((q - self.window.qmin) / self.dq()).floor();
+        let fj = ((p - self.window.pmin) / self.dp()).floor();
+        let i = fi.clamp(0.0, (self.nq - 2) as f64) as usize;
+        let j = fj.clamp(0.0, (self.np - 2) as f64) as usize;
+        Some((i, j))
+    }
+}
+
+fn lattice(lo: f64, hi: f64, i: usize, n: usize) -> f64 {
+    if n < 2 {
+        return lo;
+    }
+    let last = n - 1;
+    if i >= last {
+        hi
+    } else {
+        lo + (hi - lo) * (i as f64 / last as f64)
+    }
+}
+
 /// One continuous level curve.
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
 pub struct LevelCurve {
     pub level: f64,
-    /// Vertices as [q, p].
+    /// Vertices as [q, p]. A closed curve ends at its first vertex.
     pub points: Vec<[f64; 2]>,
     pub closed: bool,
     /// The level of a saddle.
@@ -36,32 +124,436 @@ pub struct Level {
     pub is_separatrix: bool,
 }
 
-/// Sample H over the window on nq × np points (both at least 2).
+/// Sample H over the window on nq × np points (each clamped to
+/// 2..=[`MAX_GRID_SIDE`]), one batched row evaluation per row of constant p.
 pub fn sample_grid(sys: &System, window: &Window, nq: usize, np: usize) -> Grid {
-    let _ = sys;
+    let nq = nq.clamp(2, MAX_GRID_SIDE);
+    let np = np.clamp(2, MAX_GRID_SIDE);
+    let program = sys.row_program();
+    let qs: Vec<f64> = (0..nq)
+        .map(|i| lattice(window.qmin, window.qmax, i, nq))
+        .collect();
+    let mut values = vec![0.0; nq * np];
+    let mut nonfinite = 0usize;
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
+    for (j, row) in values.chunks_exact_mut(nq).enumerate() {
+        let p = lattice(window.pmin, window.pmax, j, np);
+        program.eval_row(&qs, p, row);
+        for v in row.iter_mut() {
+            if v.is_finite() {
+                lo = lo.min(*v);
+                hi = hi.max(*v);
+            } else {
+                *v = f64::NAN;
+                nonfinite += 1;
+            }
+        }
+    }
+    let total = nq * np;
     Grid {
         window: *window,
         nq,
         np,
-        values: Vec::new(),
-        nonfinite_fraction: 0.0,
-        range: None,
+        values,
+        nonfinite_fraction: nonfinite as f64 / total as f64,
+        range: (nonfinite < total).then_some((lo, hi)),
     }
 }
 
-/// `n` levels evenly spaced strictly inside the grid's range.
+/// `n` levels evenly spaced strictly inside the grid's range: the range cut
+/// into n + 1 equal parts. Empty when the range is empty or a single value.
 pub fn even_levels(grid: &Grid, n: usize) -> Vec<f64> {
-    let _ = (grid, n);
-    Vec::new()
+    match grid.range {
+        Some((lo, hi)) if hi > lo && n > 0 => {
+            let step = (hi - lo) / (n + 1) as f64;
+            (1..=n).map(|k| lo + step * k as f64).collect()
+        }
+        _ => Vec::new(),
+    }
 }
 
-/// All level curves of the grid at the given levels.
+/// All level curves of the grid at the given levels, in increasing level.
+/// Levels that are not finite are skipped; equal levels are traced once
+/// (a separatrix if any of them is).
 pub fn level_curves(grid: &Grid, levels: &[Level]) -> Vec<LevelCurve> {
-    let _ = (grid, levels);
-    Vec::new()
+    let mut sorted: Vec<Level> = levels
+        .iter()
+        .copied()
+        .filter(|l| l.value.is_finite())
+        .collect();
+    sorted.sort_by(|a, b| a.value.total_cmp(&b.value));
+    sorted.dedup_by(|later, kept| {
+        if later.value == kept.value {
+            kept.is_separatrix |= later.is_separatrix;
+            true
+        } else {
+            false
+        }
+    });
+    if sorted.is_empty() || grid.nq < 2 || grid.np < 2 || grid.values.len() < grid.nq * grid.np {
+        return Vec::new();
+    }
+    let values: Vec<f64> = sorted.iter().map(|l| l.value).collect();
+    let buckets = Buckets::build(grid, &values);
+    let mut tracer = Tracer::new(grid);
+    let mut curves = Vec::new();
+    for (k, level) in sorted.iter().enumerate() {
+        tracer.trace_level(
+            level.value,
+            level.is_separatrix,
+            buckets.cells(k),
+            &mut curves,
+        );
+    }
+    curves
 }
 
-/// Move each vertex onto the exact level with a Newton step along ∇H.
+/// For each level, the cells whose value range contains it (compressed rows).
+struct Buckets {
+    start: Vec<usize>,
+    cells: Vec<u32>,
+}
+
+impl Buckets {
+    fn build(grid: &Grid, levels: &[f64]) -> Buckets {
+        let (nq, np) = (grid.nq, grid.np);
+        let cq = nq - 1;
+        let ncell = cq * (np - 1);
+        // Row-wise min/max of horizontal neighbours; an empty range marks NaN.
+        let pair = |a: f64, b: f64| -> (f64, f64) {
+            if a.is_nan() || b.is_nan() {
+                (f64::INFINITY, f64::NEG_INFINITY)
+            } else {
+                (a.min(b), a.max(b))
+            }
+        };
+        let mut lo = vec![0.0; ncell];
+        let mut hi = vec![0.0; ncell];
+        let mut below: Vec<(f64, f64)> = grid.values[..nq]
+            .windows(2)
+            .map(|w| pair(w[0], w[1]))
+            .collect();
+        let mut above = below.clone();
+        let mut count = vec![0usize; levels.len() + 1];
+        for j in 0..np - 1 {
+            let row = &grid.values[(j + 1) * nq..(j + 2) * nq];
+            for (a, w) in above.iter_mut().zip(row.windows(2)) {
+                *a = pair(w[0], w[1]);
+            }
+            for i in 0..cq {
+                let (l, h) = (below[i].0.min(above[i].0), below[i].1.max(above[i].1));
+                let c = j * cq + i;
+                lo[c] = l;
+                hi[c] = h;
+                if l < h {
+                    let k0 = levels.partition_point(|&v| v <= l);
+                    let k1 = levels.partition_point(|&v| v <= h);
+                    for n in &mut count[k0 + 1..k1 + 1] {
+                        *n += 1;
+                    }
+                }
+            }
+            std::mem::swap(&mut below, &mut above);
+        }
+        let mut start = count;
+        for k in 1..start.len() {
+            start[k] += start[k - 1];
+        }
+        let mut fill = start.clone();
+        let mut cells = vec![0u32; start[levels.len()]];
+        for c in 0..ncell {
+            let (l, h) = (lo[c], hi[c]);
+            if l < h {
+                let k0 = levels.partition_point(|&v| v <= l);
+                let k1 = levels.partition_point(|&v| v <= h);
+                for f in &mut fill[k0..k1] {
+                    cells[*f] = c as u32;
+                    *f += 1;
+                }
+            }
+        }
+        Buckets { start, cells }
+    }
+
+    fn cells(&self, k: usize) -> &[u32] {
+        &self.cells[self.start[k]..self.start[k + 1]]
+    }
+}
+
+/// Walks level curves through the cells of one grid; `seen` holds, per cell,
+/// one bit per edge whose crossing has been used (cleared after each level).
+struct Tracer<'a> {
+    grid: &'a Grid,
+    cq: usize,
+    cp: usize,
+    dq: f64,
+    dp: f64,
+    seen: Vec<u8>,
+}
+
+/// Edges of a cell: 0 bottom (v0–v1), 1 right (v1–v2), 2 top (v3–v2), 3 left (v0–v3),
+/// with corners v0 = (i, j), v1 = (i+1, j), v2 = (i+1, j+1), v3 = (i, j+1).
+const OPPOSITE: [u8; 4] = [2, 3, 0, 1];
+
+/// The corner values of one cell, less the level.
+#[derive(Clone, Copy)]
+struct Cell {
+    w: [f64; 4],
+}
+
+impl Cell {
+    fn code(&self) -> u8 {
+        let mut c = 0;
+        for (k, w) in self.w.iter().enumerate() {
+            if *w >= 0.0 {
+                c |= 1 << k;
+            }
+        }
+        c
+    }
+
+    /// The edge through which the level leaves the cell after entering through `entry`.
+    fn exit(&self, entry: u8) -> Option<u8> {
+        let code = self.code();
+        let crossed = |e: u8| -> bool {
+            let (a, b) = match e {
+                0 => (0, 1),
+                1 => (1, 2),
+                2 => (3, 2),
+                _ => (0, 3),
+            };
+            (code >> a) & 1 != (code >> b) & 1
+        };
+        if !crossed(entry) {
+            return None;
+        }
+        if code == 5 || code == 10 {
+            // Saddle cell: decide by the bilinear saddle value.
+            let [w0, w1, w2, w3] = self.w;
+            let saddle = (w0 * w2 - w1 * w3) / (w0 + w2 - w1 - w3);
+            let diag02_joined = (saddle >= 0.0) == (w0 >= 0.0);
+            let pairs: [u8; 4] = if diag02_joined {
+                [1, 0, 3, 2]
+            } else {
+                [3, 2, 1, 0]
+            };
+            return Some(pairs[entry as usize]);
+        }
+        (0..4).find(|&e| e != entry && crossed(e))
+    }
+}
+
+impl<'a> Tracer<'a> {
+    fn new(grid: &'a Grid) -> Tracer<'a> {
+        let cq = grid.nq - 1;
+        let cp = grid.np - 1;
+        Tracer {
+            grid,
+            cq,
+            cp,
+            dq: grid.dq(),
+            dp: grid.dp(),
+            seen: vec![0; cq * cp],
+        }
+    }
+
+    fn cell(&self, c: usize, level: f64) -> Option<Cell> {
+        let (i, j) = (c % self.cq, c / self.cq);
+        let nq = self.grid.nq;
+        let v = &self.grid.values;
+        let b = j * nq + i;
+        let w = [
+            v[b] - level,
+            v[b + 1] - level,
+            v[b + nq + 1] - level,
+            v[b + nq] - level,
+        ];
+        if w.iter().any(|x| x.is_nan()) {
+            None
+        } else {
+            Some(Cell { w })
+        }
+    }
+
+    /// The cell across edge `e` of cell c, if inside the grid.
+    fn neighbour(&self, c: usize, e: u8) -> Option<usize> {
+        let (i, j) = (c % self.cq, c / self.cq);
+        match e {
+            0 if j > 0 => Some(c - self.cq),
+            1 if i + 1 < self.cq => Some(c + 1),
+            2 if j + 1 < self.cp => Some(c + self.cq),
+            3 if i > 0 => Some(c - 1),
+            _ => None,
+        }
+    }
+
+    /// Where the level crosses edge e of cell c. Computed from the edge's two
+    /// grid vertices in a fixed order, so both cells sharing the edge agree.
+    fn point(&self, c: usize, cell: &Cell, e: u8) -> [f64; 2] {
+        let (i, j) = (c % self.cq, c / self.cq);
+        let (k0, k1, di0, dj0, di1, dj1) = match e {
+            0 => (0, 1, 0, 0, 1, 0),
+            1 => (1, 2, 1, 0, 1, 1),
+            2 => (3, 2, 0, 1, 1, 1),
+            _ => (0, 3, 0, 0, 0, 1),
+        };
+        let (a, b) = (cell.w[k0], cell.w[k1]);
+        let t = (a / (a - b)).clamp(0.0, 1.0);
+        let (i0, j0) = ((i + di0) as f64, (j + dj0) as f64);
+        let (i1, j1) = ((i + di1) as f64, (j + dj1) as f64);
+        let w = &self.grid.window;
+        [
+            w.qmin + (i0 + t * (i1 - i0)) * self.dq,
+            w.pmin + (j0 + t * (j1 - j0)) * self.dp,
+        ]
+    }
+
+    fn mark(&mut self, c: usize, e: u8) {
+        self.seen[c] |= 1 << e;
+    }
+
+    fn is_seen(&self, c: usize, e: u8) -> bool {
+        self.seen[c] & (1 << e) != 0
+    }
+
+    /// Walk from cell c leaving through edge `exit`, appending crossings to
+    /// `pts`. Returns true when the walk came back to an edge already used
+    /// (the curve closed).
+    fn walk(&mut self, mut c: usize, mut exit: u8, level: f64, pts: &mut Vec<[f64; 2]>) -> bool {
+        loop {
+            let Some(n) = self.neighbour(c, exit) else {
+                return false;
+            };
+            let entry = OPPOSITE[exit as usize];
+            if self.is_seen(n, entry) {
+                return true;
+            }
+            let Some(cell) = self.cell(n, level) else {
+                return false;
+            };
+            let Some(next) = cell.exit(entry) else {
+                return false;
+            };
+            self.mark(n, entry);
+            self.mark(n, next);
+            push_point(pts, self.point(n, &cell, next));
+            c = n;
+            exit = next;
+        }
+    }
+
+    fn trace_level(&mut self, level: f64, sep: bool, cells: &[u32], out: &mut Vec<LevelCurve>) {
+        for &c in cells {
+            let c = c as usize;
+            let Some(cell) = self.cell(c, level) else {
+                continue;
+            };
+            for entry in 0..4u8 {
+                if self.is_seen(c, entry) {
+                    continue;
+                }
+                let Some(exit) = cell.exit(entry) else {
+                    continue;
+                };
+                self.mark(c, entry);
+                self.mark(c, exit);
+                let mut pts = vec![self.point(c, &cell, entry)];
+                push_point(&mut pts, self.point(c, &cell, exit));
+                let closed = self.walk(c, exit, level, &mut pts);
+                if closed {
+                    if let (Some(first), Some(last)) = (pts.first().copied(), pts.last().copied())
+                        && first != last
+                    {
+                        pts.push(first);
+                    }
+                } else {
+                    let mut back = Vec::new();
+                    self.walk(c, entry, level, &mut back);
+                    if !back.is_empty() {
+                        back.reverse();
+                        back.extend_from_slice(&pts);
+                        pts = back;
+                    }
+                }
+                if pts.len() >= 2 {
+                    out.push(LevelCurve {
+                        level,
+                        points: pts,
+                        closed,
+                        is_separatrix: sep,
+                    });
+                }
+            }
+        }
+        for &c in cells {
+            self.seen[c as usize] = 0;
+        }
+    }
+}
+
+fn push_point(pts: &mut Vec<[f64; 2]>, p: [f64; 2]) {
+    if pts.last() != Some(&p) {
+        pts.push(p);
+    }
+}
+
+/// Move each vertex onto the exact level with Newton steps along ∇H (the
+/// gradient from the formula's jet). A step is kept only when it lowers
+/// |H − level| and is no longer than the spacing of the neighbouring
+/// vertices; vertices where H or ∇H is not finite stay where they are.
 pub fn refine_curve(sys: &System, curve: &mut LevelCurve) {
-    let _ = (sys, curve);
+    let level = curve.level;
+    let n = curve.points.len();
+    if n < 2 {
+        return;
+    }
+    let original = curve.points.clone();
+    let dist = |a: [f64; 2], b: [f64; 2]| (a[0] - b[0]).hypot(a[1] - b[1]);
+    for k in 0..n {
+        let x0 = original[k];
+        let prev = if k > 0 {
+            dist(x0, original[k - 1])
+        } else {
+            0.0
+        };
+        let next = if k + 1 < n {
+            dist(x0, original[k + 1])
+        } else {
+            0.0
+        };
+        let limit = prev.max(next);
+        if limit <= 0.0 || limit.is_nan() {
+            continue;
+        }
+        let mut x = x0;
+        let mut jet = sys.jet(x[0], x[1]);
+        for _ in 0..REFINE_ITERATIONS {
+            let r = jet.h - level;
+            let g2 = jet.hq * jet.hq + jet.hp * jet.hp;
+            if !r.is_finite() || !g2.is_finite() || g2 <= 0.0 {
+                break;
+            }
+            let step = [-r * jet.hq / g2, -r * jet.hp / g2];
+            let len = step[0].hypot(step[1]);
+            let cand = [x[0] + step[0], x[1] + step[1]];
+            if dist(cand, x0) > limit {
+                break;
+            }
+            let cj = sys.jet(cand[0], cand[1]);
+            let better = (cj.h - level).abs() < r.abs();
+            if !better {
+                break;
+            }
+            x = cand;
+            jet = cj;
+            if len <= REFINE_STEP_REL * limit {
+                break;
+            }
+        }
+        curve.points[k] = x;
+    }
+    if curve.closed && n > 2 {
+        curve.points[n - 1] = curve.points[0];
+    }
 }

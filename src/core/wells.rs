@@ -22,6 +22,10 @@ pub struct Well {
     pub depth: Option<f64>,
     /// Index of the saddle whose level bounds the well.
     pub escape_saddle: Option<usize>,
+    /// The energy at which the well's region first touches the window edge
+    /// or a blank (undefined) area, when that happens below the escape
+    /// energy: then part of the well lies out of view.
+    pub edge_energy: Option<f64>,
 }
 
 /// How a saddle's separatrix continues.

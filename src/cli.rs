@@ -1,0 +1,453 @@
+//! The command line: clap subcommands over the same core API the explorer
+//! uses. Every subcommand that needs a system takes [`SystemArgs`] (a session
+//! file and/or `--formula`, `--set`, `--window`) and calls
+//! [`SystemArgs::resolve`]; it then formats core results as a table or JSON.
+//! Bad input is a [`CliError`], which `main` prints and exits with code 2.
+
+use crate::core::Cancel;
+use crate::core::analysis::{Analysis, analyze};
+use crate::core::equilibria::EquilibriumKind;
+use crate::core::formula::Formula;
+use crate::core::system::System;
+use crate::core::window::Window;
+use crate::session::{self, Parameter, Session};
+use clap::{Args, Parser, Subcommand};
+use std::fmt::{self, Write as _};
+use std::path::PathBuf;
+
+/// The whole command line.
+#[derive(Debug, Parser)]
+#[command(
+    name = "phasewright",
+    version,
+    about = "Workbench for conservative one-degree-of-freedom Hamiltonian systems H(q, p)",
+    long_about = "Workbench for conservative one-degree-of-freedom Hamiltonian systems H(q, p).\n\
+                  Without a subcommand, opens the desktop explorer."
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Option<Command>,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Open a session file in the desktop explorer.
+    Open {
+        /// The session file (JSON).
+        file: PathBuf,
+    },
+    /// Find equilibria, wells and separatrix connections and print them.
+    Analyze(AnalyzeArgs),
+}
+
+/// Which system to work on: a session file, a formula, or a session file
+/// with some of its values overridden. Shared by every subcommand that needs
+/// a system.
+#[derive(Debug, Clone, Default, Args)]
+pub struct SystemArgs {
+    /// A session file to start from (JSON).
+    #[arg(value_name = "SESSION.json")]
+    pub session: Option<PathBuf>,
+    /// The Hamiltonian H(q, p), e.g. "p^2/2 - cos(q)"; replaces the session's formula.
+    #[arg(long, value_name = "H")]
+    pub formula: Option<String>,
+    /// Set a parameter, e.g. --set k=0.5 (repeatable).
+    #[arg(long = "set", value_name = "NAME=VALUE")]
+    pub set: Vec<String>,
+    /// The phase-space window: QMIN,QMAX,PMIN,PMAX.
+    #[arg(long, value_name = "QMIN,QMAX,PMIN,PMAX", allow_hyphen_values = true)]
+    pub window: Option<String>,
+}
+
+/// Arguments of `analyze`.
+#[derive(Debug, Clone, Args)]
+pub struct AnalyzeArgs {
+    #[command(flatten)]
+    pub system: SystemArgs,
+    /// Print JSON instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Bad input on the command line or in a file it names.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CliError(pub String);
+
+impl fmt::Display for CliError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.0)
+    }
+}
+
+impl std::error::Error for CliError {}
+
+/// A resolved system: the session after overrides, its compiled system and
+/// window, and the warnings met on the way (printed on stderr by `main`).
+#[derive(Debug, Clone)]
+pub struct Resolved {
+    pub session: Session,
+    pub system: System,
+    pub window: Window,
+    pub warnings: Vec<String>,
+}
+
+impl SystemArgs {
+    /// Load the session (if any), apply `--formula`, `--set` and `--window`,
+    /// check the result like a loaded file and compile it.
+    pub fn resolve(&self) -> Result<Resolved, CliError> {
+        let (mut session, mut warnings) = match (&self.session, &self.formula) {
+            (Some(path), _) => session::load_file(path)
+                .map_err(|e| CliError(format!("{}: {e}", path.display())))?,
+            (None, Some(f)) => (Session::blank(f), Vec::new()),
+            (None, None) => {
+                return Err(CliError(
+                    "give a session file or --formula \"H(q, p)\"".to_string(),
+                ));
+            }
+        };
+        if self.session.is_some()
+            && self.formula.is_none()
+            && self.set.is_empty()
+            && self.window.is_none()
+        {
+            return finish(session, warnings);
+        }
+        if let Some(f) = &self.formula {
+            session.formula = f.clone();
+        }
+        if let Some(w) = &self.window {
+            session.view = parse_window(w)?;
+        }
+        let formula =
+            Formula::compile(&session.formula).map_err(|e| CliError(format!("--formula: {e}")))?;
+        for item in &self.set {
+            let (name, value) = parse_set(item)?;
+            if formula.param_index(&name).is_none() {
+                return Err(CliError(format!(
+                    "--set {item}: the formula has no parameter `{name}` (it has: {})",
+                    if formula.params().is_empty() {
+                        "none".to_string()
+                    } else {
+                        formula.params().join(", ")
+                    }
+                )));
+            }
+            match session.parameters.iter_mut().find(|p| p.name == name) {
+                Some(p) => {
+                    p.value = value;
+                    p.min = p.min.min(value);
+                    p.max = p.max.max(value);
+                }
+                None => {
+                    let (lo, hi) = session::DEFAULT_PARAM_RANGE;
+                    session.parameters.push(Parameter {
+                        name,
+                        value,
+                        min: lo.min(value),
+                        max: hi.max(value),
+                        step: None,
+                    });
+                }
+            }
+        }
+        for w in session.validate().map_err(|e| CliError(e.to_string()))? {
+            if !warnings.contains(&w) {
+                warnings.push(w);
+            }
+        }
+        finish(session, warnings)
+    }
+}
+
+fn finish(session: Session, warnings: Vec<String>) -> Result<Resolved, CliError> {
+    let system = session.system().map_err(|e| CliError(e.to_string()))?;
+    let window = session.view;
+    Ok(Resolved {
+        session,
+        system,
+        window,
+        warnings,
+    })
+}
+
+/// Parse "QMIN,QMAX,PMIN,PMAX" into a checked window.
+pub fn parse_window(text: &str) -> Result<Window, CliError> {
+    let parts: Vec<&str> = text.split(',').map(str::trim).collect();
+    if parts.len() != 4 {
+        return Err(CliError(format!(
+            "--window {text}: expected four numbers QMIN,QMAX,PMIN,PMAX (found {})",
+            parts.len()
+        )));
+    }
+    let mut v = [0.0; 4];
+    for (i, (slot, part)) in v.iter_mut().zip(&parts).enumerate() {
+        *slot = parse_number(part).ok_or_else(|| {
+            CliError(format!(
+                "--window {text}: value {} (\"{part}\") is not a finite number",
+                i + 1
+            ))
+        })?;
+    }
+    Window::new(v[0], v[1], v[2], v[3]).map_err(|e| CliError(format!("--window {text}: {e}")))
+}
+
+/// Parse "NAME=VALUE".
+pub fn parse_set(text: &str) -> Result<(String, f64), CliError> {
+    let Some((name, value)) = text.split_once('=') else {
+        return Err(CliError(format!(
+            "--set {text}: expected NAME=VALUE, e.g. --set k=0.5"
+        )));
+    };
+    let name = name.trim();
+    if name.is_empty() {
+        return Err(CliError(format!("--set {text}: the name is empty")));
+    }
+    let value = parse_number(value.trim()).ok_or_else(|| {
+        CliError(format!(
+            "--set {text}: \"{}\" is not a finite number",
+            value.trim()
+        ))
+    })?;
+    Ok((name.to_string(), value))
+}
+
+fn parse_number(s: &str) -> Option<f64> {
+    s.parse::<f64>().ok().filter(|v| v.is_finite())
+}
+
+/// Run a subcommand that prints its results; returns the text for stdout.
+/// Warnings go to stderr as they are met.
+pub fn run(command: &Command) -> Result<String, CliError> {
+    match command {
+        Command::Analyze(args) => run_analyze(args),
+        Command::Open { .. } => Err(CliError(
+            "`open` starts the desktop explorer; it has no text output".to_string(),
+        )),
+    }
+}
+
+fn print_warnings(warnings: &[String]) {
+    for w in warnings {
+        eprintln!("warning: {w}");
+    }
+}
+
+/// `analyze`: equilibria, wells, connections, diagnostics.
+pub fn run_analyze(args: &AnalyzeArgs) -> Result<String, CliError> {
+    let r = args.system.resolve()?;
+    print_warnings(&r.warnings);
+    let a = analyze(
+        &r.system,
+        &r.window,
+        &r.session.analysis_config(),
+        &Cancel::never(),
+    );
+    if args.json {
+        Ok(analysis_json(&r, &a))
+    } else {
+        Ok(analysis_table(&r, &a))
+    }
+}
+
+/// The analysis as JSON: formula, parameters, window, equilibria, wells,
+/// connections and diagnostics.
+pub fn analysis_json(r: &Resolved, a: &Analysis) -> String {
+    let parameters: serde_json::Map<String, serde_json::Value> = r
+        .session
+        .parameters
+        .iter()
+        .map(|p| (p.name.clone(), serde_json::Value::from(p.value)))
+        .collect();
+    #[derive(serde::Serialize)]
+    struct Out<'a> {
+        formula: &'a str,
+        parameters: serde_json::Map<String, serde_json::Value>,
+        window: &'a Window,
+        equilibria: &'a [crate::core::equilibria::Equilibrium],
+        wells: &'a [crate::core::wells::Well],
+        connections: &'a [crate::core::wells::Connection],
+        diagnostics: &'a [crate::core::Diagnostic],
+        cancelled: bool,
+    }
+    let out = Out {
+        formula: &r.session.formula,
+        parameters,
+        window: &a.window,
+        equilibria: &a.equilibria,
+        wells: &a.wells,
+        connections: &a.connections,
+        diagnostics: &a.diagnostics,
+        cancelled: a.cancelled,
+    };
+    serde_json::to_string_pretty(&out).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+}
+
+/// A number for a table: fixed digits, without "-0".
+fn num(v: f64) -> String {
+    let v = if v == 0.0 { 0.0 } else { v };
+    if v.is_finite() && v != 0.0 && (v.abs() >= 1e6 || v.abs() < 1e-4) {
+        format!("{v:.5e}")
+    } else {
+        format!("{v:.6}")
+    }
+}
+
+fn complex(re: f64, im: f64) -> String {
+    let re = if re == 0.0 { 0.0 } else { re };
+    if im == 0.0 {
+        num(re)
+    } else if re == 0.0 {
+        format!("{}i", num(im))
+    } else {
+        let sign = if im < 0.0 { '-' } else { '+' };
+        format!("{}{sign}{}i", num(re), num(im.abs()))
+    }
+}
+
+fn kind_name(k: EquilibriumKind) -> &'static str {
+    match k {
+        EquilibriumKind::Center => "center",
+        EquilibriumKind::Saddle => "saddle",
+        EquilibriumKind::Degenerate => "degenerate",
+    }
+}
+
+/// Left-aligned columns, two spaces apart.
+fn table(out: &mut String, header: &[&str], rows: &[Vec<String>]) {
+    let mut width: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
+    for row in rows {
+        for (w, cell) in width.iter_mut().zip(row) {
+            *w = (*w).max(cell.chars().count());
+        }
+    }
+    let line = |out: &mut String, cells: Vec<&str>| {
+        let mut s = String::from(" ");
+        for (cell, w) in cells.iter().zip(&width) {
+            s.push(' ');
+            s.push_str(cell);
+            s.extend(std::iter::repeat_n(' ', w + 1 - cell.chars().count()));
+        }
+        let _ = writeln!(out, "{}", s.trim_end());
+    };
+    line(out, header.to_vec());
+    for row in rows {
+        line(out, row.iter().map(String::as_str).collect());
+    }
+}
+
+/// The analysis as readable tables.
+pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
+    if !r.session.parameters.is_empty() {
+        let list: Vec<String> = r
+            .session
+            .parameters
+            .iter()
+            .map(|p| format!("{} = {}", p.name, p.value))
+            .collect();
+        let _ = writeln!(out, "parameters: {}", list.join(", "));
+    }
+    let w = &a.window;
+    let _ = writeln!(
+        out,
+        "window: q in [{}, {}], p in [{}, {}]",
+        w.qmin, w.qmax, w.pmin, w.pmax
+    );
+
+    let _ = writeln!(out, "\nEquilibria ({})", a.equilibria.len());
+    let rows: Vec<Vec<String>> = a
+        .equilibria
+        .iter()
+        .enumerate()
+        .map(|(i, e)| {
+            vec![
+                format!("{i}"),
+                num(e.q),
+                num(e.p),
+                num(e.energy),
+                kind_name(e.kind).to_string(),
+                format!(
+                    "{}, {}",
+                    complex(e.eigenvalues[0][0], e.eigenvalues[0][1]),
+                    complex(e.eigenvalues[1][0], e.eigenvalues[1][1])
+                ),
+            ]
+        })
+        .collect();
+    if rows.is_empty() {
+        let _ = writeln!(out, "  none in view");
+    } else {
+        table(
+            &mut out,
+            &["#", "q", "p", "H", "kind", "eigenvalues"],
+            &rows,
+        );
+    }
+
+    let _ = writeln!(out, "\nWells ({})", a.wells.len());
+    let rows: Vec<Vec<String>> = a
+        .wells
+        .iter()
+        .map(|wl| {
+            vec![
+                format!("#{}", wl.center),
+                num(wl.q),
+                num(wl.p),
+                num(wl.energy),
+                wl.escape_energy.map_or("none in view".to_string(), num),
+                wl.depth.map_or("-".to_string(), num),
+                wl.escape_saddle
+                    .map_or("-".to_string(), |s| format!("#{s}")),
+            ]
+        })
+        .collect();
+    if rows.is_empty() {
+        let _ = writeln!(out, "  none");
+    } else {
+        table(
+            &mut out,
+            &[
+                "center",
+                "q",
+                "p",
+                "H",
+                "escape energy",
+                "depth",
+                "via saddle",
+            ],
+            &rows,
+        );
+    }
+
+    let _ = writeln!(out, "\nSeparatrix connections ({})", a.connections.len());
+    let rows: Vec<Vec<String>> = a
+        .connections
+        .iter()
+        .map(|c| {
+            vec![
+                format!("{:?}", c.kind).to_lowercase(),
+                format!("#{}", c.from),
+                format!("#{}", c.to),
+                num(c.energy),
+            ]
+        })
+        .collect();
+    if rows.is_empty() {
+        let _ = writeln!(out, "  none");
+    } else {
+        table(&mut out, &["kind", "from", "to", "H"], &rows);
+    }
+
+    if !a.diagnostics.is_empty() || a.cancelled {
+        let _ = writeln!(out, "\nDiagnostics");
+        for d in &a.diagnostics {
+            let _ = writeln!(out, "  {:?}: {}", d.severity, d.message);
+        }
+        if a.cancelled {
+            let _ = writeln!(out, "  the analysis was stopped early; results are partial");
+        }
+    }
+    out
+}

@@ -1,0 +1,348 @@
+//! Time steppers for Hamilton's equations q' = ∂H/∂p, p' = −∂H/∂q.
+//!
+//! One file per method family: [`splitting`] (explicit compositions for
+//! separable H), [`gauss`] (implicit Gauss–Legendre collocation for any H) and
+//! [`dopri`] (an adaptive embedded Runge–Kutta pair with dense output). The
+//! [`Integrator`] holds the chosen method and its work counters; each step also
+//! returns ∫ p dq over the step, integrated with the same method, so the orbit
+//! code gets the action without a second pass.
+
+pub mod dopri;
+pub mod gauss;
+pub mod splitting;
+
+use super::system::System;
+use std::fmt;
+
+/// A point of phase space at a time.
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+pub struct State {
+    pub q: f64,
+    pub p: f64,
+    pub t: f64,
+}
+
+impl State {
+    pub fn is_finite(&self) -> bool {
+        self.q.is_finite() && self.p.is_finite() && self.t.is_finite()
+    }
+}
+
+/// The integration methods, with the stable names used in session files and on
+/// the command line.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Method {
+    /// Yoshida-4 when H is separable and does not depend on t, Gauss–Legendre
+    /// with 3 stages otherwise.
+    Auto,
+    /// Störmer–Verlet, order 2, explicit, separable H only.
+    Verlet,
+    /// Yoshida's 4th-order composition of Störmer–Verlet, separable H only.
+    Yoshida4,
+    /// Yoshida's 6th-order composition (solution A), separable H only.
+    Yoshida6,
+    /// Implicit midpoint rule (Gauss–Legendre, 1 stage), order 2, any H.
+    Midpoint,
+    /// Gauss–Legendre collocation with 2 stages, order 4, any H.
+    Gauss4,
+    /// Gauss–Legendre collocation with 3 stages, order 6, any H.
+    Gauss6,
+    /// Dormand–Prince 5(4), adaptive, with dense output; not symplectic.
+    Dopri5,
+}
+
+/// A method name that is not one of [`Method::ALL`].
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct UnknownMethod(pub String);
+
+impl fmt::Display for UnknownMethod {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "unknown integration method '{}'; valid names: {}",
+            self.0,
+            Method::names().join(", ")
+        )
+    }
+}
+
+impl std::error::Error for UnknownMethod {}
+
+impl Method {
+    pub const ALL: [Method; 8] = [
+        Method::Auto,
+        Method::Verlet,
+        Method::Yoshida4,
+        Method::Yoshida6,
+        Method::Midpoint,
+        Method::Gauss4,
+        Method::Gauss6,
+        Method::Dopri5,
+    ];
+
+    /// The stable name ("auto", "verlet", "yoshida4", "yoshida6", "midpoint",
+    /// "gauss4", "gauss6", "dopri5").
+    pub fn name(self) -> &'static str {
+        match self {
+            Method::Auto => "auto",
+            Method::Verlet => "verlet",
+            Method::Yoshida4 => "yoshida4",
+            Method::Yoshida6 => "yoshida6",
+            Method::Midpoint => "midpoint",
+            Method::Gauss4 => "gauss4",
+            Method::Gauss6 => "gauss6",
+            Method::Dopri5 => "dopri5",
+        }
+    }
+
+    pub fn names() -> Vec<&'static str> {
+        Method::ALL.iter().map(|m| m.name()).collect()
+    }
+
+    /// The method with this stable name (case and surrounding blanks ignored).
+    pub fn from_name(name: &str) -> Result<Method, UnknownMethod> {
+        let key = name.trim().to_ascii_lowercase();
+        Method::ALL
+            .iter()
+            .copied()
+            .find(|m| m.name() == key)
+            .ok_or_else(|| UnknownMethod(name.to_string()))
+    }
+
+    /// The concrete method `Auto` stands for with this system; other methods
+    /// are returned unchanged.
+    pub fn resolve(self, sys: &System) -> Method {
+        match self {
+            Method::Auto if sys.is_separable() && !sys.depends_on_time() => Method::Yoshida4,
+            Method::Auto => Method::Gauss6,
+            m => m,
+        }
+    }
+
+    /// Classical order of accuracy (`Auto`: the order of what it resolves to for
+    /// a separable H).
+    pub fn order(self) -> u32 {
+        match self {
+            Method::Verlet | Method::Midpoint => 2,
+            Method::Auto | Method::Yoshida4 | Method::Gauss4 => 4,
+            Method::Yoshida6 | Method::Gauss6 => 6,
+            Method::Dopri5 => 5,
+        }
+    }
+
+    pub fn is_symplectic(self) -> bool {
+        !matches!(self, Method::Dopri5)
+    }
+
+    /// True for the explicit compositions, which need H = T(p) + V(q).
+    pub fn needs_separable(self) -> bool {
+        matches!(self, Method::Verlet | Method::Yoshida4 | Method::Yoshida6)
+    }
+
+    pub fn is_adaptive(self) -> bool {
+        matches!(self, Method::Dopri5)
+    }
+
+    /// Default number of steps per local oscillation period 2π/ω (see
+    /// `orbit::default_step`): enough for a period to about 1e-10 relative on
+    /// smooth orbits with the high-order methods; the order-2 methods are far
+    /// less accurate at the same cost. For `Dopri5` this only sets the first
+    /// trial step.
+    pub fn default_steps_per_period(self) -> f64 {
+        match self {
+            Method::Verlet | Method::Midpoint => 2000.0,
+            Method::Auto | Method::Yoshida4 => 2000.0,
+            Method::Yoshida6 => 300.0,
+            Method::Gauss4 => 600.0,
+            Method::Gauss6 => 120.0,
+            Method::Dopri5 => 100.0,
+        }
+    }
+}
+
+impl fmt::Display for Method {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// Why a step could not be taken.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum StepError {
+    /// The stage equations of an implicit method did not converge.
+    SolverFailed {
+        t: f64,
+        iterations: u32,
+        increment: f64,
+    },
+    /// H or its derivatives were NaN or infinite at a point the step needed.
+    NonFinite { t: f64 },
+    /// The adaptive method could not meet its tolerance without shrinking the
+    /// step below what the time can resolve.
+    StepTooSmall { t: f64, step: f64 },
+}
+
+impl fmt::Display for StepError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            StepError::SolverFailed {
+                t,
+                iterations,
+                increment,
+            } => write!(
+                f,
+                "the implicit stage equations did not converge at t = {t} ({iterations} Newton iterations, last increment {increment:e}); try a smaller step"
+            ),
+            StepError::NonFinite { t } => {
+                write!(f, "H or its derivatives are not finite near t = {t}")
+            }
+            StepError::StepTooSmall { t, step } => write!(
+                f,
+                "the adaptive step fell to {step:e} at t = {t}: the tolerance cannot be met there"
+            ),
+        }
+    }
+}
+
+impl std::error::Error for StepError {}
+
+/// Why an integrator could not be set up.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum IntegratorError {
+    /// An explicit composition was asked for a formula that mixes q and p (or depends on t).
+    NotSeparable(Method),
+}
+
+impl fmt::Display for IntegratorError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            IntegratorError::NotSeparable(m) => write!(
+                f,
+                "method '{m}' needs H = T(p) + V(q) without t; this formula mixes q and p or depends on t — use 'gauss6', 'gauss4', 'midpoint' or 'auto'"
+            ),
+        }
+    }
+}
+
+impl std::error::Error for IntegratorError {}
+
+/// Work done so far.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, serde::Serialize)]
+pub struct Counters {
+    /// Steps accepted (a partial step to locate a crossing counts as one).
+    pub steps: u64,
+    /// Forward passes for first derivatives: a full field (q', p') counts one,
+    /// and so does a single kick (∂H/∂q) or drift (∂H/∂p) of a splitting method.
+    pub field_evaluations: u64,
+    /// Forward passes for second derivatives (the exact Hessian for Newton).
+    pub jet_evaluations: u64,
+    /// Newton iterations of the implicit methods.
+    pub newton_iterations: u64,
+    /// Trial steps the adaptive method rejected.
+    pub rejected_steps: u64,
+}
+
+/// The result of one step: the new state and ∫ p dq along the step.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Step {
+    pub state: State,
+    pub p_dq: f64,
+}
+
+/// One method ready to step a system.
+#[derive(Clone, Debug)]
+pub struct Integrator {
+    method: Method,
+    kind: Kind,
+    pub counters: Counters,
+}
+
+#[derive(Clone, Debug)]
+enum Kind {
+    Splitting(splitting::Composition),
+    Gauss(gauss::Collocation),
+    Dopri(dopri::Dopri5),
+}
+
+impl Integrator {
+    /// Set up `method` (after resolving `Auto`) for `sys`.
+    pub fn new(sys: &System, method: Method) -> Result<Integrator, IntegratorError> {
+        let method = method.resolve(sys);
+        let kind = match method {
+            Method::Verlet | Method::Yoshida4 | Method::Yoshida6 => {
+                if !sys.is_separable() || sys.depends_on_time() {
+                    return Err(IntegratorError::NotSeparable(method));
+                }
+                Kind::Splitting(splitting::Composition::new(method))
+            }
+            Method::Midpoint => Kind::Gauss(gauss::Collocation::new(1)),
+            Method::Gauss4 => Kind::Gauss(gauss::Collocation::new(2)),
+            Method::Auto | Method::Gauss6 => Kind::Gauss(gauss::Collocation::new(3)),
+            Method::Dopri5 => Kind::Dopri(dopri::Dopri5::new(dopri::DEFAULT_TOLERANCE)),
+        };
+        Ok(Integrator {
+            method,
+            kind,
+            counters: Counters::default(),
+        })
+    }
+
+    /// The concrete method in use.
+    pub fn method(&self) -> Method {
+        self.method
+    }
+
+    /// For the adaptive method: set the relative tolerance (ignored by the others).
+    pub fn set_tolerance(&mut self, tolerance: f64) {
+        if let Kind::Dopri(d) = &mut self.kind {
+            d.set_tolerance(tolerance);
+        }
+    }
+
+    /// One step of size `h` (negative integrates backward) from `s`. The
+    /// adaptive method takes exactly `h` too; use [`Integrator::adaptive_step`]
+    /// for error control.
+    pub fn step(&mut self, sys: &System, s: &State, h: f64) -> Result<Step, StepError> {
+        let out = match &mut self.kind {
+            Kind::Splitting(c) => c.step(sys, s, h, &mut self.counters),
+            Kind::Gauss(g) => g.step(sys, s, h, &mut self.counters),
+            Kind::Dopri(d) => d.step(sys, s, h, &mut self.counters).map(|(st, _)| st),
+        }?;
+        self.counters.steps += 1;
+        if out.state.is_finite() && out.p_dq.is_finite() {
+            Ok(out)
+        } else {
+            Err(StepError::NonFinite { t: s.t })
+        }
+    }
+
+    /// A step with error control: tries `h`, shrinks it until the error is
+    /// within tolerance, and returns the step taken with the proposed next
+    /// step. Fixed-step methods take `h` and propose `h` again.
+    pub fn adaptive_step(
+        &mut self,
+        sys: &System,
+        s: &State,
+        h: f64,
+    ) -> Result<(Step, f64, f64), StepError> {
+        match &mut self.kind {
+            Kind::Dopri(d) => {
+                let r = d.adaptive_step(sys, s, h, &mut self.counters)?;
+                self.counters.steps += 1;
+                Ok(r)
+            }
+            _ => self.step(sys, s, h).map(|st| (st, h, h)),
+        }
+    }
+
+    /// For the adaptive method after a step: the state at fraction `theta` ∈ [0, 1]
+    /// of the last step from its continuous extension (no new evaluations).
+    pub fn dense(&self, theta: f64) -> Option<[f64; 2]> {
+        match &self.kind {
+            Kind::Dopri(d) => d.dense(theta),
+            _ => None,
+        }
+    }
+}

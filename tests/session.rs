@@ -1,0 +1,519 @@
+//! The session file: loading, every kind of bad file named by its field,
+//! exact round trips, atomic saves, and a loader that never panics.
+
+use phasewright::session::{
+    self, FORMAT_NAME, FORMAT_VERSION, LevelSettings, MAX_DURATION, MAX_GRID, MAX_LEVELS,
+    MAX_ORBITS, Parameter, SeededOrbit, Session, load, save_atomic, write_atomic,
+};
+use proptest::prelude::*;
+
+const GOOD: &str = r##"{
+  "format": "phasewright-session",
+  "version": 1,
+  "title": "tilted lattice",
+  "notes": "look at the saddle",
+  "formula": "p^2/2 - a*cos(q) - b*q",
+  "parameters": [
+    { "name": "a", "value": 1.0, "min": 0.0, "max": 2.0, "step": 0.01 },
+    { "name": "b", "value": 0.1, "min": -1.0, "max": 1.0 }
+  ],
+  "view": { "qmin": -7.0, "qmax": 7.0, "pmin": -3.0, "pmax": 3.0 },
+  "levels": { "count": 30, "grid": 300, "refine": true },
+  "orbits": [
+    { "q0": 0.5, "p0": 0.0, "duration": 20.0, "method": "verlet", "colour": "#1a2b3c" }
+  ]
+}"##;
+
+/// GOOD with `from` replaced by `to` (exactly once).
+fn bad(from: &str, to: &str) -> String {
+    assert_eq!(
+        GOOD.matches(from).count(),
+        1,
+        "pattern {from:?} must occur once"
+    );
+    GOOD.replace(from, to)
+}
+
+fn error_of(text: &str) -> session::SessionError {
+    match load(text) {
+        Ok(_) => panic!("expected an error for:\n{text}"),
+        Err(e) => e,
+    }
+}
+
+#[test]
+fn good_file_loads_with_all_values() {
+    let (s, warnings) = load(GOOD).expect("loads");
+    assert!(warnings.is_empty(), "{warnings:?}");
+    assert_eq!(s.title, "tilted lattice");
+    assert_eq!(s.parameters.len(), 2);
+    assert_eq!(s.parameters[0].step, Some(0.01));
+    assert_eq!(s.view.qmin, -7.0);
+    assert_eq!(s.levels.grid, 300);
+    assert!(s.levels.refine);
+    assert_eq!(s.orbits[0].method, "verlet");
+    assert_eq!(s.orbits[0].colour.as_deref(), Some("#1a2b3c"));
+}
+
+#[test]
+fn system_from_session_uses_parameter_values() {
+    let s = Session::from_json(GOOD).expect("loads");
+    let sys = s.system().expect("system");
+    // H(0.5, 0) = -1·cos(0.5) - 0.1·0.5, direct evaluation of the formula.
+    let expected = -(0.5f64).cos() - 0.05;
+    assert!((sys.energy(0.5, 0.0) - expected).abs() < 1e-15);
+    assert_eq!(sys.param("b"), Some(0.1));
+}
+
+#[test]
+fn minimal_file_gets_defaults() {
+    let text = r#"{"format": "phasewright-session", "version": 1, "formula": "p^2/2 + q^2/2"}"#;
+    let (s, w) = load(text).expect("loads");
+    assert!(w.is_empty());
+    assert_eq!(s.levels, LevelSettings::default());
+    assert!(s.orbits.is_empty());
+    assert_eq!(s.orbits, Vec::<SeededOrbit>::new());
+}
+
+#[test]
+fn error_display_names_field_and_problem() {
+    let e = error_of(&bad(
+        r#""min": -1.0, "max": 1.0"#,
+        r#""min": 3.0, "max": 2.0"#,
+    ));
+    assert_eq!(
+        e.to_string(),
+        "field `parameters[1].min`: must be less than max (3 ≥ 2)"
+    );
+}
+
+#[test]
+fn invalid_json_reports_line_and_column() {
+    let text = GOOD.replace(
+        r#""title": "tilted lattice","#,
+        r#""title": "tilted lattice""#,
+    );
+    let e = error_of(&text);
+    assert_eq!(e.field, "");
+    assert!(e.problem.contains("not valid JSON"), "{e}");
+    assert!(e.problem.contains("line 5, column"), "{e}");
+}
+
+#[test]
+fn empty_and_non_object_files_are_refused() {
+    assert!(error_of("").problem.contains("not valid JSON"));
+    assert!(error_of("[1, 2]").problem.contains("an array"));
+    assert!(error_of("42").problem.contains("a number"));
+}
+
+#[test]
+fn wrong_format_is_named() {
+    let e = error_of(&bad(r#""phasewright-session""#, r#""something-else""#));
+    assert_eq!(e.field, "format");
+    assert!(e.problem.contains("something-else"), "{e}");
+    let e = error_of(&bad(r#""format": "phasewright-session","#, ""));
+    assert_eq!(e.field, "format");
+}
+
+#[test]
+fn newer_version_is_refused_with_both_versions() {
+    let e = error_of(&bad(r#""version": 1"#, r#""version": 3"#));
+    assert_eq!(e.field, "version");
+    assert_eq!(
+        e.problem,
+        format!(
+            "written by a newer phasewright (version 3); this one reads up to {FORMAT_VERSION}"
+        )
+    );
+    let e = error_of(&bad(r#""version": 1"#, r#""version": "one""#));
+    assert_eq!(e.field, "version");
+    let e = error_of(&bad(r#""version": 1"#, r#""version": 0"#));
+    assert_eq!(e.field, "version");
+}
+
+#[test]
+fn wrong_types_are_named_with_the_field_path() {
+    let e = error_of(&bad(r#""max": 2.0"#, r#""max": "two""#));
+    assert_eq!(e.field, "parameters[0].max");
+    assert!(e.problem.contains("expected a number"), "{e}");
+    assert!(e.problem.contains("line"), "{e}");
+
+    let e = error_of(&bad(r#""grid": 300"#, r#""grid": -3"#));
+    assert_eq!(e.field, "levels.grid");
+
+    let e = error_of(&bad(r#""refine": true"#, r#""refine": "yes""#));
+    assert_eq!(e.field, "levels.refine");
+
+    let e = error_of(&bad(r#""q0": 0.5"#, r#""q0": null"#));
+    assert_eq!(e.field, "orbits[0].q0");
+
+    let e = error_of(&bad(r#""qmax": 7.0"#, r#""qmax": [7]"#));
+    assert_eq!(e.field, "view.qmax");
+}
+
+#[test]
+fn missing_fields_are_named() {
+    let e = error_of(&bad(r#""formula": "p^2/2 - a*cos(q) - b*q","#, ""));
+    assert_eq!(e.field, "formula");
+    assert!(e.problem.starts_with("missing"), "{e}");
+
+    let e = error_of(&bad(r#""min": -1.0, "#, ""));
+    assert_eq!(e.field, "parameters[1].min");
+    assert!(e.problem.starts_with("missing"), "{e}");
+
+    let e = error_of(&bad(
+        r#""formula": "p^2/2 - a*cos(q) - b*q""#,
+        r#""formula": "  ""#,
+    ));
+    assert_eq!(e.field, "formula");
+}
+
+#[test]
+fn formula_that_does_not_compile_gives_its_column() {
+    let e = error_of(&bad("p^2/2 - a*cos(q) - b*q", "p^2/2 - a*cos(q) - b*"));
+    assert_eq!(e.field, "formula");
+    assert!(e.problem.contains("column"), "{e}");
+}
+
+#[test]
+fn parameter_value_outside_range_is_refused() {
+    let e = error_of(&bad(r#""value": 1.0"#, r#""value": 5.0"#));
+    assert_eq!(e.field, "parameters[0].value");
+    assert!(e.problem.contains("[0, 2]"), "{e}");
+}
+
+#[test]
+fn parameter_step_must_be_positive() {
+    let e = error_of(&bad(r#""step": 0.01"#, r#""step": 0"#));
+    assert_eq!(e.field, "parameters[0].step");
+    let e = error_of(&bad(r#""step": 0.01"#, r#""step": -1"#));
+    assert_eq!(e.field, "parameters[0].step");
+}
+
+#[test]
+fn duplicate_and_empty_parameter_names_are_refused() {
+    let e = error_of(&bad(r#""name": "b""#, r#""name": "a""#));
+    assert_eq!(e.field, "parameters[1].name");
+    let e = error_of(&bad(r#""name": "b""#, r#""name": """#));
+    assert_eq!(e.field, "parameters[1].name");
+}
+
+#[test]
+fn numbers_too_large_for_f64_are_refused() {
+    // JSON has no NaN or infinity; a literal beyond f64 is the way to write one.
+    let e = error_of(&bad(r#""qmin": -7.0"#, r#""qmin": -1e999"#));
+    assert!(e.problem.contains("out of range"), "{e}");
+}
+
+#[test]
+fn non_finite_values_built_in_code_are_refused_by_validate() {
+    let mut s = Session::from_json(GOOD).expect("loads");
+    s.parameters[1].value = f64::NAN;
+    let e = s.clone().validate().expect_err("NaN value");
+    assert_eq!(e.field, "parameters[1].value");
+    s = Session::from_json(GOOD).expect("loads");
+    s.view.pmax = f64::INFINITY;
+    assert_eq!(s.validate().expect_err("inf").field, "view.pmax");
+    let mut s = Session::from_json(GOOD).expect("loads");
+    s.orbits[0].duration = f64::NAN;
+    assert_eq!(s.validate().expect_err("NaN").field, "orbits[0].duration");
+}
+
+#[test]
+fn window_min_not_below_max_is_refused() {
+    let e = error_of(&bad(
+        r#""qmin": -7.0, "qmax": 7.0"#,
+        r#""qmin": 7.0, "qmax": 7.0"#,
+    ));
+    assert_eq!(
+        e.to_string(),
+        "field `view.qmin`: must be less than qmax (7 ≥ 7)"
+    );
+    let e = error_of(&bad(r#""pmin": -3.0"#, r#""pmin": 4.0"#));
+    assert_eq!(e.field, "view.pmin");
+}
+
+#[test]
+fn orbit_problems_are_named() {
+    let e = error_of(&bad(r#""method": "verlet""#, r#""method": "fastest""#));
+    assert_eq!(e.field, "orbits[0].method");
+    assert!(e.problem.contains("fastest"), "{e}");
+    let e = error_of(&bad(r##""#1a2b3c""##, r#""red""#));
+    assert_eq!(e.field, "orbits[0].colour");
+    let e = error_of(&bad(r##""#1a2b3c""##, r##""#12345g""##));
+    assert_eq!(e.field, "orbits[0].colour");
+    let e = error_of(&bad(r#""duration": 20.0"#, r#""duration": 0"#));
+    assert_eq!(e.field, "orbits[0].duration");
+}
+
+#[test]
+fn unused_parameter_is_a_warning() {
+    let text = bad(
+        r#"{ "name": "b", "value": 0.1, "min": -1.0, "max": 1.0 }"#,
+        r#"{ "name": "b", "value": 0.1, "min": -1.0, "max": 1.0 },
+    { "name": "zeta", "value": 0.0, "min": -1.0, "max": 1.0 }"#,
+    );
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(s.parameters.len(), 3);
+    assert_eq!(w.len(), 1, "{w:?}");
+    assert!(w[0].contains("zeta"), "{w:?}");
+}
+
+#[test]
+fn formula_parameter_missing_from_list_is_added_with_warning() {
+    let text = bad(
+        r#",
+    { "name": "b", "value": 0.1, "min": -1.0, "max": 1.0 }"#,
+        "",
+    );
+    let (s, w) = load(&text).expect("loads");
+    let b = s.parameter("b").expect("b added");
+    assert_eq!(b.value, session::DEFAULT_PARAM_VALUE);
+    assert_eq!((b.min, b.max), session::DEFAULT_PARAM_RANGE);
+    assert_eq!(w.len(), 1);
+    assert!(w[0].contains("`b`"), "{w:?}");
+    assert!(s.system().is_ok());
+}
+
+#[test]
+fn values_above_caps_load_clamped_with_warnings() {
+    let text = bad(
+        r#""count": 30, "grid": 300"#,
+        r#""count": 5000, "grid": 100000"#,
+    )
+    .replace(r#""duration": 20.0"#, r#""duration": -5e7"#);
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(s.levels.grid, MAX_GRID);
+    assert_eq!(s.levels.count, MAX_LEVELS);
+    assert_eq!(s.orbits[0].duration, -MAX_DURATION);
+    assert_eq!(w.len(), 3, "{w:?}");
+    assert!(w.iter().any(|m| m.starts_with("levels.grid")));
+    assert!(w.iter().any(|m| m.starts_with("levels.count")));
+    assert!(w.iter().any(|m| m.starts_with("orbits[0].duration")));
+}
+
+#[test]
+fn too_many_orbits_keep_the_first_ones() {
+    let mut s = Session::from_json(GOOD).expect("loads");
+    let orbit = s.orbits[0].clone();
+    s.orbits = (0..MAX_ORBITS + 6)
+        .map(|i| SeededOrbit {
+            q0: i as f64 * 0.01,
+            ..orbit.clone()
+        })
+        .collect();
+    let (back, w) = load(&s.to_json_pretty()).expect("loads");
+    assert_eq!(back.orbits.len(), MAX_ORBITS);
+    assert_eq!(
+        back.orbits[MAX_ORBITS - 1].q0,
+        (MAX_ORBITS - 1) as f64 * 0.01
+    );
+    assert!(w[0].contains("keeping the first"), "{w:?}");
+}
+
+#[test]
+fn round_trip_keeps_every_value() {
+    let a = Session::from_json(GOOD).expect("loads");
+    let b = Session::from_json(&a.to_json_pretty()).expect("reloads");
+    assert_eq!(a, b);
+    assert_eq!(a.to_json_pretty(), b.to_json_pretty());
+}
+
+#[test]
+fn save_atomic_writes_a_file_that_loads_back() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let path = dir.path().join("s.json");
+    let s = Session::from_json(GOOD).expect("loads");
+    save_atomic(&path, &s).expect("saves");
+    let back = session::load_file(&path).expect("reloads").0;
+    assert_eq!(back, s);
+    // Only the target is left in the folder: no temporary files.
+    let names: Vec<_> = std::fs::read_dir(dir.path())
+        .expect("read dir")
+        .filter_map(|e| e.ok())
+        .map(|e| e.file_name())
+        .collect();
+    assert_eq!(names, vec![std::ffi::OsString::from("s.json")]);
+}
+
+#[test]
+fn failed_write_midway_leaves_old_file_intact() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let path = dir.path().join("s.json");
+    let old = Session::from_json(GOOD).expect("loads");
+    save_atomic(&path, &old).expect("first save");
+    let before = std::fs::read(&path).expect("read");
+
+    let result = write_atomic(&path, |w| {
+        w.write_all(b"{\"format\": \"phasewright-ses")?;
+        Err(std::io::Error::other("disk full (simulated)"))
+    });
+    let err = result.expect_err("the writer failed");
+    assert_eq!(err.path, path);
+    assert!(err.to_string().contains("disk full"), "{err}");
+    assert_eq!(std::fs::read(&path).expect("read"), before);
+    assert_eq!(std::fs::read_dir(dir.path()).expect("dir").count(), 1);
+}
+
+#[test]
+fn save_into_missing_folder_reports_the_path() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let path = dir.path().join("no-such-folder").join("s.json");
+    let s = Session::from_json(GOOD).expect("loads");
+    let err = save_atomic(&path, &s).expect_err("folder missing");
+    assert_eq!(err.path, path);
+    assert!(err.to_string().contains("no-such-folder"), "{err}");
+}
+
+#[test]
+fn save_over_a_folder_fails_and_keeps_it() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let target = dir.path().join("taken");
+    std::fs::create_dir(&target).expect("mkdir");
+    std::fs::write(target.join("inside.txt"), b"keep").expect("write");
+    let s = Session::from_json(GOOD).expect("loads");
+    assert!(save_atomic(&target, &s).is_err());
+    assert_eq!(
+        std::fs::read(target.join("inside.txt")).expect("read"),
+        b"keep"
+    );
+    assert_eq!(std::fs::read_dir(dir.path()).expect("dir").count(), 1);
+}
+
+#[test]
+fn loading_a_missing_file_says_so() {
+    let e = session::load_file(std::path::Path::new("/no/such/file.json")).expect_err("missing");
+    assert!(e.problem.contains("cannot read"), "{e}");
+}
+
+// ---- property tests ----
+
+fn finite() -> impl Strategy<Value = f64> {
+    prop_oneof![
+        -1e6..1e6f64,
+        any::<f64>().prop_filter("finite", |v| v.is_finite()),
+        Just(0.1),
+        Just(-0.0),
+        Just(1.0 / 3.0),
+    ]
+}
+
+fn parameter(name: String) -> impl Strategy<Value = Parameter> {
+    (
+        finite(),
+        finite(),
+        0.0..1.0f64,
+        proptest::option::of(1e-9..1e3f64),
+    )
+        .prop_filter_map("min < max", move |(a, b, t, step)| {
+            let (min, max) = if a < b { (a, b) } else { (b, a) };
+            let value = min + t * (max - min);
+            (min < max && value.is_finite() && value >= min && value <= max).then(|| Parameter {
+                name: name.clone(),
+                value,
+                min,
+                max,
+                step,
+            })
+        })
+}
+
+fn orbit() -> impl Strategy<Value = SeededOrbit> {
+    (
+        finite(),
+        finite(),
+        prop_oneof![1e-6..MAX_DURATION, -MAX_DURATION..-1e-6],
+        prop::sample::select(session::ORBIT_METHODS.to_vec()),
+        proptest::option::of("#[0-9a-fA-F]{6}"),
+    )
+        .prop_map(|(q0, p0, duration, method, colour)| SeededOrbit {
+            q0,
+            p0,
+            duration,
+            method: method.to_string(),
+            colour,
+        })
+}
+
+fn session_strategy() -> impl Strategy<Value = Session> {
+    (
+        ".{0,40}",
+        ".{0,80}",
+        parameter("a".into()),
+        parameter("b".into()),
+        (-1e3..1e3f64, 1e-3..1e3f64, -1e3..1e3f64, 1e-3..1e3f64),
+        (0..=MAX_LEVELS, 16..=MAX_GRID, any::<bool>()),
+        prop::collection::vec(orbit(), 0..4),
+    )
+        .prop_map(
+            |(title, notes, a, b, (q0, w, p0, h), (count, grid, refine), orbits)| Session {
+                format: FORMAT_NAME.into(),
+                version: FORMAT_VERSION,
+                title,
+                notes,
+                formula: "p^2/2 + a*q^2/2 + b*q^4/4".into(),
+                parameters: vec![a, b],
+                view: phasewright::core::window::Window {
+                    qmin: q0,
+                    qmax: q0 + w,
+                    pmin: p0,
+                    pmax: p0 + h,
+                },
+                levels: LevelSettings {
+                    count,
+                    grid,
+                    refine,
+                },
+                orbits,
+            },
+        )
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(200))]
+
+    #[test]
+    fn generated_sessions_round_trip_exactly(s in session_strategy()) {
+        let (first, w) = load(&s.to_json_pretty()).expect("a generated session loads");
+        prop_assert!(w.is_empty(), "{:?}", w);
+        prop_assert_eq!(&first, &s);
+        let second = Session::from_json(&first.to_json_pretty()).expect("reloads");
+        prop_assert_eq!(&second, &first);
+        // Bit-exact numbers, not just equal ones.
+        for (x, y) in first.parameters.iter().zip(&second.parameters) {
+            prop_assert_eq!(x.value.to_bits(), y.value.to_bits());
+        }
+    }
+
+    #[test]
+    fn random_text_never_panics(text in ".{0,200}") {
+        let _ = load(&text);
+    }
+
+    #[test]
+    fn mutated_session_never_panics_and_errors_name_something(
+        at in 0usize..2000, len in 0usize..8, insert in ".{0,6}"
+    ) {
+        let mut chars: Vec<char> = GOOD.chars().collect();
+        let at = at.min(chars.len());
+        let end = (at + len).min(chars.len());
+        chars.splice(at..end, insert.chars());
+        let text: String = chars.into_iter().collect();
+        if let Err(e) = load(&text) {
+            prop_assert!(!e.problem.is_empty());
+        }
+    }
+}
+
+#[test]
+fn parameter_named_like_a_constant_gets_a_specific_warning() {
+    // `e` is Euler's number in formulas, so a parameter of that name is never read.
+    let text = bad(r#""name": "b""#, r#""name": "e""#).replace("- b*q", "- e*q");
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(s.parameters[1].name, "e");
+    assert!(
+        w.iter()
+            .any(|m| m.contains("built-in name") && m.contains("`e`")),
+        "{w:?}"
+    );
+}
