@@ -35,8 +35,7 @@
 //! W. H. Press et al., *Numerical Recipes* (3rd ed., 2007) §4.6 (Gauss–Kronrod),
 //! §17.1 (Runge–Kutta); M. Hénon, Physica D 5 (1982) 412 (landing on a section).
 
-use super::continuation::kind_from_hessian;
-use super::equilibria::{EquilibriumConfig, EquilibriumKind};
+use super::equilibria::{EquilibriumConfig, EquilibriumKind, classify, find_equilibria};
 use super::system::System;
 use super::window::Window;
 use super::{Cancel, Diagnostic};
@@ -211,7 +210,7 @@ pub fn backbone(
         p: center[1],
     })?;
     let jc = sys.jet(qc, pc);
-    let kind = kind_from_hessian(jc.hqq, jc.hqp, jc.hpp);
+    let kind = classify(sys, qc, pc, window).kind;
     if kind != EquilibriumKind::Center {
         return Err(BackboneError::NotACenter { q: qc, p: pc, kind });
     }
@@ -612,13 +611,12 @@ impl Well<'_> {
         cfg: &EquilibriumConfig,
         cancel: &Cancel,
     ) -> Option<f64> {
-        super::continuation::seeds_at(self.sys, window, cfg, cancel)
+        find_equilibria(self.sys, window, cfg, cancel)
+            .0
             .into_iter()
-            .filter_map(|[q, p]| {
-                let j = self.sys.jet(q, p);
-                let depth = self.sigma * (j.h - self.ec);
-                (kind_from_hessian(j.hqq, j.hqp, j.hpp) == EquilibriumKind::Saddle && depth > 0.0)
-                    .then_some(depth)
+            .filter_map(|e| {
+                let depth = self.sigma * (e.energy - self.ec);
+                (e.kind == EquilibriumKind::Saddle && depth > 0.0).then_some(depth)
             })
             .min_by(f64::total_cmp)
     }

@@ -27,7 +27,7 @@
 //! (detection of bifurcation points, branch switching); H. B. Keller, *Lectures
 //! on Numerical Methods in Bifurcation Problems* (Tata Institute 1987) §3–5.
 
-use super::equilibria::{EquilibriumConfig, EquilibriumKind, find_equilibria};
+use super::equilibria::{EquilibriumConfig, EquilibriumKind, classify, find_equilibria};
 use super::system::System;
 use super::window::Window;
 use super::{Cancel, Diagnostic};
@@ -50,8 +50,6 @@ const BRANCH_POINT_FINE_STEP: f64 = 1e-5;
 const MATCH_TOL: f64 = 1e-6;
 /// A branch whose tangent's μ-component is below this (scaled) is tangent to μ = const.
 const FLAT_TANGENT_TOL: f64 = 1e-6;
-/// |det Hess| below this fraction of the Hessian's squared size is degenerate.
-const DEGENERATE_REL: f64 = 1e-9;
 
 /// How continuation steps are taken; lengths are in scaled units where the
 /// window and the parameter range have size 1.
@@ -553,19 +551,6 @@ pub(crate) fn distance_to_polyline<const N: usize>(y: &Vector<N>, points: &[Vect
         best = best.min((y - (w[0] + d * s)).norm());
     }
     best
-}
-
-/// The kind of an equilibrium from the (q, p) Hessian entries.
-pub(crate) fn kind_from_hessian(hqq: f64, hqp: f64, hpp: f64) -> EquilibriumKind {
-    let det = hqq * hpp - hqp * hqp;
-    let size = hqq.abs().max(hpp.abs()).max(hqp.abs());
-    if !det.is_finite() || det.abs() <= DEGENERATE_REL * size * size {
-        EquilibriumKind::Degenerate
-    } else if det > 0.0 {
-        EquilibriumKind::Center
-    } else {
-        EquilibriumKind::Saddle
-    }
 }
 
 // ---------------------------------------------------------------------------
@@ -1076,61 +1061,14 @@ impl Tracer<'_> {
 }
 
 /// Seeds for the branches at one end of the range: the equilibria in view.
-pub(crate) fn seeds_at(
+fn seeds_at(
     sys: &System,
     window: &Window,
     cfg: &EquilibriumConfig,
     cancel: &Cancel,
 ) -> Vec<[f64; 2]> {
     let (found, _) = find_equilibria(sys, window, cfg, cancel);
-    if !found.is_empty() {
-        return found.iter().map(|e| [e.q, e.p]).collect();
-    }
-    grid_seeds(sys, window, cancel)
-}
-
-/// A plain grid-and-Newton search for critical points of H, used only while
-/// the equilibrium search returns nothing.
-fn grid_seeds(sys: &System, window: &Window, cancel: &Cancel) -> Vec<[f64; 2]> {
-    const CELLS: usize = 24;
-    let mut out: Vec<[f64; 2]> = Vec::new();
-    let tol = 1e-9 * window.diagonal();
-    for i in 0..CELLS {
-        if cancel.is_cancelled() {
-            break;
-        }
-        for k in 0..CELLS {
-            let mut q = window.qmin + (i as f64 + 0.5) / CELLS as f64 * window.width();
-            let mut p = window.pmin + (k as f64 + 0.5) / CELLS as f64 * window.height();
-            let mut ok = false;
-            for _ in 0..50 {
-                let j = sys.jet(q, p);
-                let det = j.hessian_det();
-                if !j.is_finite() || det == 0.0 {
-                    break;
-                }
-                let dq = -(j.hpp * j.hq - j.hqp * j.hp) / det;
-                let dp = -(-j.hqp * j.hq + j.hqq * j.hp) / det;
-                q += dq;
-                p += dp;
-                if !window.contains(q, p) {
-                    break;
-                }
-                if dq.abs().max(dp.abs()) < tol * 1e-3 {
-                    ok = true;
-                    break;
-                }
-            }
-            if ok
-                && !out
-                    .iter()
-                    .any(|e| (e[0] - q).abs().max((e[1] - p).abs()) < tol * 100.0)
-            {
-                out.push([q, p]);
-            }
-        }
-    }
-    out
+    found.iter().map(|e| [e.q, e.p]).collect()
 }
 
 /// Trace every branch of equilibria of `sys` as the parameter `param` moves
@@ -1259,17 +1197,17 @@ pub fn sweep_index(
                 .map(|y| {
                     let x = curve.x(y);
                     let s = curve.at(x[2]);
-                    let j = s.jet(x[0], x[1]);
+                    let e = classify(&s, x[0], x[1], window);
                     let kind = if is_bifurcation(y) {
                         EquilibriumKind::Degenerate
                     } else {
-                        kind_from_hessian(j.hqq, j.hqp, j.hpp)
+                        e.kind
                     };
                     BranchPoint {
                         param: x[2],
                         q: x[0],
                         p: x[1],
-                        energy: j.h,
+                        energy: e.energy,
                         kind,
                     }
                 })
