@@ -222,3 +222,54 @@ fn a_saddle_has_no_backbone() {
         "{err:?}"
     );
 }
+
+#[test]
+fn backbone_command_prints_rows_as_csv() {
+    // Pendulum: the first row is the small-oscillation limit T = 2π, and every
+    // row has T = 4K((1 + E)/2) (from memory, K from the ellip crate).
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args([
+            "backbone",
+            "--formula",
+            "p^2/2 - cos(q)",
+            "--window",
+            "-4,4,-3,3",
+            "--center",
+            "0.1,0",
+            "--csv",
+        ])
+        .output()
+        .expect("the binary runs");
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let text = String::from_utf8_lossy(&o.stdout);
+    let mut lines = text.lines();
+    assert_eq!(
+        lines.next(),
+        Some("energy,period,frequency,action,amplitude")
+    );
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| l.split(',').map(|v| v.parse().expect("number")).collect())
+        .collect();
+    assert_eq!(rows.len(), 200);
+    assert!(rel(rows[0][1], 2.0 * PI) < 1e-14);
+    let r = &rows[100];
+    let k = ellip::ellipk((1.0 + r[0]) / 2.0).expect("K");
+    assert!(rel(r[1], 4.0 * k) < 1e-10);
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args([
+            "backbone",
+            "--formula",
+            "p^2/2 - cos(q)",
+            "--center",
+            "1,2,3",
+        ])
+        .output()
+        .expect("the binary runs");
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--center"));
+}

@@ -224,3 +224,123 @@ fn imperfect_pitchfork_fold_curve_is_the_cusp_27eps2_eq_4mu3() {
         "{c:?}"
     );
 }
+
+fn binary(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+#[test]
+fn sweep_command_reports_the_imperfect_pitchfork_fold_as_json() {
+    // μ = (27ε²/4)^(1/3) = 0.25649639200150 for ε = 0.05 (cusp catastrophe; closed form).
+    let o = binary(&[
+        "sweep",
+        "--formula",
+        "p^2/2 + q^4/4 - mu*q^2/2 - 0.05*q",
+        "--param",
+        "mu",
+        "--from",
+        "-1",
+        "--to",
+        "1",
+        "--window",
+        "-2,2,-1,1",
+        "--json",
+    ]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON");
+    let bifs = v["bifurcations"].as_array().expect("bifurcations");
+    assert_eq!(bifs.len(), 1);
+    assert_eq!(bifs[0]["kind"], "saddle-node");
+    let mu = bifs[0]["param"].as_f64().expect("param");
+    assert!((mu - 0.25649639200150).abs() < 1e-8, "mu = {mu}");
+    assert!((bifs[0]["q"].as_f64().expect("q") + 0.29240177382129).abs() < 1e-8);
+    let branches = v["branches"].as_array().expect("branches");
+    assert_eq!(branches.len(), 3);
+    for b in branches {
+        let p = &b["points"][0];
+        for key in ["param", "q", "p", "energy"] {
+            assert!(p[key].is_f64(), "{key} in {p}");
+        }
+        assert!(["center", "saddle", "degenerate"].contains(&p["kind"].as_str().expect("kind")));
+    }
+}
+
+#[test]
+fn sweep_command_csv_names_the_parameter_and_bad_input_exits_2() {
+    let o = binary(&[
+        "sweep",
+        "--formula",
+        "p^2/2 + q^3/3 - a*q",
+        "--param",
+        "a",
+        "--from",
+        "-1",
+        "--to",
+        "1",
+        "--csv",
+    ]);
+    assert_eq!(o.status.code(), Some(0));
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert_eq!(text.lines().next(), Some("record,branch,a,q,p,energy,kind"));
+    // One saddle-node at a = 0, q = 0 (saddle-node normal form; closed form).
+    let fold: Vec<&str> = text
+        .lines()
+        .filter(|l| l.starts_with("bifurcation"))
+        .collect();
+    assert_eq!(fold.len(), 1);
+    assert!(fold[0].ends_with("saddle-node"));
+    for bad in [
+        vec!["--param", "b", "--from", "-1", "--to", "1"],
+        vec!["--param", "a", "--from", "x", "--to", "1"],
+        vec!["--param", "a", "--from", "1", "--to", "1"],
+    ] {
+        let mut args = vec!["sweep", "--formula", "p^2/2 + q^3/3 - a*q"];
+        args.extend(bad);
+        let o = binary(&args);
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(
+            !err.contains("panicked") && err.contains("phasewright:"),
+            "{err}"
+        );
+    }
+}
+
+#[test]
+fn folds_command_lists_the_cusp() {
+    // The cusp of 27ε² = 4μ³ sits at the origin (cusp catastrophe; closed form).
+    let o = binary(&[
+        "folds",
+        "--formula",
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        "--params",
+        "mu,eps",
+        "--box",
+        "-0.5,1,-0.2,0.2",
+        "--csv",
+    ]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert_eq!(text.lines().next(), Some("record,curve,mu,eps,q,p,energy"));
+    let cusps: Vec<&str> = text.lines().filter(|l| l.starts_with("cusp")).collect();
+    assert_eq!(cusps.len(), 1);
+    let mu: f64 = cusps[0]
+        .split(',')
+        .nth(2)
+        .and_then(|s| s.parse().ok())
+        .expect("mu");
+    assert!(mu.abs() < 1e-8);
+}
