@@ -17,19 +17,17 @@ fn median(mut t: Vec<Duration>) -> Duration {
     t[t.len() / 2]
 }
 
+/// The median time of RUNS calls and the last result.
 fn time<T>(mut f: impl FnMut() -> T) -> (Duration, T) {
-    let mut times = Vec::with_capacity(RUNS);
-    let mut last = None;
-    for _ in 0..RUNS {
+    let start = Instant::now();
+    let mut out = f();
+    let mut times = vec![start.elapsed()];
+    for _ in 1..RUNS {
         let start = Instant::now();
-        let out = f();
+        out = f();
         times.push(start.elapsed());
-        last = Some(out);
     }
-    match last {
-        Some(out) => (median(times), out),
-        None => unreachable!("RUNS > 0"),
-    }
+    (median(times), out)
 }
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
