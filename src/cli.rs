@@ -770,7 +770,7 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
                     full(pt.q),
                     full(pt.p),
                     full(pt.energy),
-                    kind_name(pt.kind)
+                    crate::scene::kind_name(pt.kind)
                 );
             }
         }
@@ -817,7 +817,7 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
             let (first, last) = (b.points.first()?, b.points.last()?);
             Some(vec![
                 format!("{i}"),
-                kind_name(b.kind).to_string(),
+                crate::scene::kind_name(b.kind).to_string(),
                 format!("{}", b.points.len()),
                 format!("({}, {})", num(first.param), num(first.q)),
                 format!("({}, {})", num(last.param), num(last.q)),
