@@ -601,6 +601,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 wl.depth.map_or("-".to_string(), num),
                 wl.escape_saddle
                     .map_or("-".to_string(), |s| format!("#{s}")),
+                wl.edge_energy.map_or("-".to_string(), num),
             ]
         })
         .collect();
@@ -617,6 +618,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 "escape energy",
                 "depth",
                 "via saddle",
+                "meets edge at H",
             ],
             &rows,
         );
