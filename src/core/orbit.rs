@@ -341,6 +341,23 @@ pub fn default_step(sys: &System, method: Method, q0: f64, p0: f64, t0: f64, dur
     h.copysign(duration)
 }
 
+/// Local periods 2π/ω integrated when the caller gives no duration.
+pub const DEFAULT_DURATION_PERIODS: f64 = 100.0;
+
+/// A duration for "run until the orbit closes": [`DEFAULT_DURATION_PERIODS`]
+/// local periods 2π/ω at the start (see [`local_rate`]), or that many time
+/// units when the start has no local rate.
+pub fn default_duration(sys: &System, q0: f64, p0: f64, t0: f64) -> f64 {
+    let jet = sys.jet_t(q0, p0, t0);
+    let rate = if jet.is_finite() {
+        local_rate(&jet)
+    } else {
+        0.0
+    };
+    let period = if rate > 0.0 { 2.0 * PI / rate } else { 1.0 };
+    DEFAULT_DURATION_PERIODS * period
+}
+
 /// True when H(q + 2π, p) = H(q, p) at a few points of `bounds` (and H uses q).
 pub fn is_periodic_in_q(sys: &System, bounds: &Window, t: f64) -> bool {
     if !sys.formula().uses_q() {
@@ -494,7 +511,8 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         // First return to the section through the start, transverse to the flow.
         if orbit.period.is_none() {
             let shift = if periodic {
-                ((next.q - start.q) / Q_PERIOD).round() * Q_PERIOD
+                // `+ 0.0` turns a rounded −0 into 0.
+                ((next.q - start.q) / Q_PERIOD).round() * Q_PERIOD + 0.0
             } else {
                 0.0
             };
