@@ -140,15 +140,17 @@ pub fn sample_grid(sys: &System, window: &Window, nq: usize, np: usize) -> Grid 
     for (j, row) in values.chunks_exact_mut(nq).enumerate() {
         let p = lattice(window.pmin, window.pmax, j, np);
         program.eval_row(&qs, p, row);
+        let mut bad = 0usize;
         for v in row.iter_mut() {
-            if v.is_finite() {
-                lo = lo.min(*v);
-                hi = hi.max(*v);
-            } else {
+            if !v.is_finite() {
                 *v = f64::NAN;
-                nonfinite += 1;
+                bad += 1;
             }
         }
+        nonfinite += bad;
+        // f64::min/max skip the NaN just stored.
+        lo = row.iter().fold(lo, |a, &b| a.min(b));
+        hi = row.iter().fold(hi, |a, &b| a.max(b));
     }
     let total = nq * np;
     Grid {
@@ -209,6 +211,9 @@ pub fn level_curves(grid: &Grid, levels: &[Level]) -> Vec<LevelCurve> {
     curves
 }
 
+/// Band of a vertex where H is NaN.
+const BLANK: u32 = u32::MAX;
+
 /// For each level, the cells whose value range contains it (compressed rows).
 struct Buckets {
     start: Vec<usize>,
@@ -216,61 +221,58 @@ struct Buckets {
 }
 
 impl Buckets {
+    /// Each vertex gets its band, the number of levels at or below its value
+    /// (NaN: `BLANK`); a cell contains level k exactly when its smallest corner
+    /// band ≤ k < its largest, so the per-cell test is integer only.
     fn build(grid: &Grid, levels: &[f64]) -> Buckets {
         let (nq, np) = (grid.nq, grid.np);
         let cq = nq - 1;
-        let ncell = cq * (np - 1);
-        // Row-wise min/max of horizontal neighbours; an empty range marks NaN.
-        let pair = |a: f64, b: f64| -> (f64, f64) {
-            if a.is_nan() || b.is_nan() {
-                (f64::INFINITY, f64::NEG_INFINITY)
-            } else {
-                (a.min(b), a.max(b))
+        let mut band = vec![0u32; nq * np];
+        let mut last = 0usize;
+        for (b, &v) in band.iter_mut().zip(&grid.values) {
+            if v.is_nan() {
+                *b = BLANK;
+                continue;
             }
-        };
-        let mut lo = vec![0.0; ncell];
-        let mut hi = vec![0.0; ncell];
-        let mut below: Vec<(f64, f64)> = grid.values[..nq]
-            .windows(2)
-            .map(|w| pair(w[0], w[1]))
-            .collect();
-        let mut above = below.clone();
-        let mut count = vec![0usize; levels.len() + 1];
+            // Neighbouring samples share a band or sit in the next one: step from
+            // the last band instead of searching.
+            while last < levels.len() && levels[last] <= v {
+                last += 1;
+            }
+            while last > 0 && levels[last - 1] > v {
+                last -= 1;
+            }
+            *b = last as u32;
+        }
+        // Cells that contain at least one level, with their level index range.
+        let mut crossed: Vec<(u32, u32, u32)> = Vec::new();
+        let mut start = vec![0usize; levels.len() + 1];
         for j in 0..np - 1 {
-            let row = &grid.values[(j + 1) * nq..(j + 2) * nq];
-            for (a, w) in above.iter_mut().zip(row.windows(2)) {
-                *a = pair(w[0], w[1]);
-            }
+            let (r0, r1) = (
+                &band[j * nq..(j + 1) * nq],
+                &band[(j + 1) * nq..(j + 2) * nq],
+            );
             for i in 0..cq {
-                let (l, h) = (below[i].0.min(above[i].0), below[i].1.max(above[i].1));
-                let c = j * cq + i;
-                lo[c] = l;
-                hi[c] = h;
-                if l < h {
-                    let k0 = levels.partition_point(|&v| v <= l);
-                    let k1 = levels.partition_point(|&v| v <= h);
-                    for n in &mut count[k0 + 1..k1 + 1] {
+                let k = [r0[i], r0[i + 1], r1[i], r1[i + 1]];
+                let hi = k[0].max(k[1]).max(k[2]).max(k[3]);
+                let lo = k[0].min(k[1]).min(k[2]).min(k[3]);
+                if lo < hi && hi != BLANK {
+                    crossed.push(((j * cq + i) as u32, lo, hi));
+                    for n in &mut start[lo as usize + 1..hi as usize + 1] {
                         *n += 1;
                     }
                 }
             }
-            std::mem::swap(&mut below, &mut above);
         }
-        let mut start = count;
         for k in 1..start.len() {
             start[k] += start[k - 1];
         }
         let mut fill = start.clone();
         let mut cells = vec![0u32; start[levels.len()]];
-        for c in 0..ncell {
-            let (l, h) = (lo[c], hi[c]);
-            if l < h {
-                let k0 = levels.partition_point(|&v| v <= l);
-                let k1 = levels.partition_point(|&v| v <= h);
-                for f in &mut fill[k0..k1] {
-                    cells[*f] = c as u32;
-                    *f += 1;
-                }
+        for &(c, lo, hi) in &crossed {
+            for f in &mut fill[lo as usize..hi as usize] {
+                cells[*f] = c;
+                *f += 1;
             }
         }
         Buckets { start, cells }
@@ -295,6 +297,14 @@ struct Tracer<'a> {
 /// Edges of a cell: 0 bottom (v0–v1), 1 right (v1–v2), 2 top (v3–v2), 3 left (v0–v3),
 /// with corners v0 = (i, j), v1 = (i+1, j), v2 = (i+1, j+1), v3 = (i, j+1).
 const OPPOSITE: [u8; 4] = [2, 3, 0, 1];
+
+/// A cell by index and by column and row.
+#[derive(Clone, Copy)]
+struct At {
+    c: usize,
+    i: usize,
+    j: usize,
+}
 
 /// The corner values of one cell, less the level.
 #[derive(Clone, Copy)]
@@ -358,8 +368,16 @@ impl<'a> Tracer<'a> {
         }
     }
 
-    fn cell(&self, c: usize, level: f64) -> Option<Cell> {
-        let (i, j) = (c % self.cq, c / self.cq);
+    fn at(&self, c: usize) -> At {
+        At {
+            c,
+            i: c % self.cq,
+            j: c / self.cq,
+        }
+    }
+
+    fn cell(&self, at: At, level: f64) -> Option<Cell> {
+        let At { i, j, .. } = at;
         let nq = self.grid.nq;
         let v = &self.grid.values;
         let b = j * nq + i;
@@ -377,21 +395,37 @@ impl<'a> Tracer<'a> {
     }
 
     /// The cell across edge `e` of cell c, if inside the grid.
-    fn neighbour(&self, c: usize, e: u8) -> Option<usize> {
-        let (i, j) = (c % self.cq, c / self.cq);
+    fn neighbour(&self, at: At, e: u8) -> Option<At> {
+        let At { c, i, j } = at;
         match e {
-            0 if j > 0 => Some(c - self.cq),
-            1 if i + 1 < self.cq => Some(c + 1),
-            2 if j + 1 < self.cp => Some(c + self.cq),
-            3 if i > 0 => Some(c - 1),
+            0 if j > 0 => Some(At {
+                c: c - self.cq,
+                i,
+                j: j - 1,
+            }),
+            1 if i + 1 < self.cq => Some(At {
+                c: c + 1,
+                i: i + 1,
+                j,
+            }),
+            2 if j + 1 < self.cp => Some(At {
+                c: c + self.cq,
+                i,
+                j: j + 1,
+            }),
+            3 if i > 0 => Some(At {
+                c: c - 1,
+                i: i - 1,
+                j,
+            }),
             _ => None,
         }
     }
 
     /// Where the level crosses edge e of cell c. Computed from the edge's two
     /// grid vertices in a fixed order, so both cells sharing the edge agree.
-    fn point(&self, c: usize, cell: &Cell, e: u8) -> [f64; 2] {
-        let (i, j) = (c % self.cq, c / self.cq);
+    fn point(&self, at: At, cell: &Cell, e: u8) -> [f64; 2] {
+        let At { i, j, .. } = at;
         let (k0, k1, di0, dj0, di1, dj1) = match e {
             0 => (0, 1, 0, 0, 1, 0),
             1 => (1, 2, 1, 0, 1, 1),
@@ -420,13 +454,13 @@ impl<'a> Tracer<'a> {
     /// Walk from cell c leaving through edge `exit`, appending crossings to
     /// `pts`. Returns true when the walk came back to an edge already used
     /// (the curve closed).
-    fn walk(&mut self, mut c: usize, mut exit: u8, level: f64, pts: &mut Vec<[f64; 2]>) -> bool {
+    fn walk(&mut self, mut c: At, mut exit: u8, level: f64, pts: &mut Vec<[f64; 2]>) -> bool {
         loop {
             let Some(n) = self.neighbour(c, exit) else {
                 return false;
             };
             let entry = OPPOSITE[exit as usize];
-            if self.is_seen(n, entry) {
+            if self.is_seen(n.c, entry) {
                 return true;
             }
             let Some(cell) = self.cell(n, level) else {
@@ -435,8 +469,8 @@ impl<'a> Tracer<'a> {
             let Some(next) = cell.exit(entry) else {
                 return false;
             };
-            self.mark(n, entry);
-            self.mark(n, next);
+            self.mark(n.c, entry);
+            self.mark(n.c, next);
             push_point(pts, self.point(n, &cell, next));
             c = n;
             exit = next;
@@ -445,19 +479,19 @@ impl<'a> Tracer<'a> {
 
     fn trace_level(&mut self, level: f64, sep: bool, cells: &[u32], out: &mut Vec<LevelCurve>) {
         for &c in cells {
-            let c = c as usize;
+            let c = self.at(c as usize);
             let Some(cell) = self.cell(c, level) else {
                 continue;
             };
             for entry in 0..4u8 {
-                if self.is_seen(c, entry) {
+                if self.is_seen(c.c, entry) {
                     continue;
                 }
                 let Some(exit) = cell.exit(entry) else {
                     continue;
                 };
-                self.mark(c, entry);
-                self.mark(c, exit);
+                self.mark(c.c, entry);
+                self.mark(c.c, exit);
                 let mut pts = vec![self.point(c, &cell, entry)];
                 push_point(&mut pts, self.point(c, &cell, exit));
                 let closed = self.walk(c, exit, level, &mut pts);

@@ -1,5 +1,5 @@
 //! The computational core: pure functions over plain data. Never imports a view
-//! crate (egui, egui_plot, rfd, clap) or touches the file system.
+//! crate, the command-line parser, or the file system (tests/architecture.rs checks).
 pub mod analysis;
 pub mod contour;
 pub mod equilibria;

@@ -269,7 +269,8 @@ impl System {
         if let Some(m) = r.v2.0.as_ref() {
             for (i, row) in hess.iter_mut().enumerate() {
                 for (j, h) in row.iter_mut().enumerate() {
-                    *h = m[(i, j)];
+                    // the two mixed partials may differ in the last bit; use their mean
+                    *h = 0.5 * (m[(i, j)] + m[(j, i)]);
                 }
             }
         }

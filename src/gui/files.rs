@@ -1,0 +1,214 @@
+//! Files the explorer touches: session files (through the session loader),
+//! the bundled examples, the data directory with the recovery file and the
+//! recent-files list, and native file dialogs run off the UI thread.
+
+use crate::session::Session;
+use std::path::{Path, PathBuf};
+use std::sync::mpsc::{Receiver, channel};
+use std::time::{Duration, Instant};
+
+/// Environment variable that moves the data directory (recovery file, recent files).
+pub const DATA_DIR_ENV: &str = "PHASEWRIGHT_DATA_DIR";
+/// Environment variable that turns native dialogs off (the in-app path prompt is used).
+pub const NO_NATIVE_DIALOG_ENV: &str = "PHASEWRIGHT_NO_NATIVE_DIALOG";
+
+const RECOVERY_FILE: &str = "recovery.json";
+const RECENT_FILE: &str = "recent.json";
+const RECENT_MAX: usize = 10;
+
+/// Example sessions compiled into the binary: (file name, text).
+pub const EXAMPLES: &[(&str, &str)] = &[
+    (
+        "biased-resonator.json",
+        include_str!("../../sessions/biased-resonator.json"),
+    ),
+    (
+        "loaded-strut.json",
+        include_str!("../../sessions/loaded-strut.json"),
+    ),
+    (
+        "imperfect-strut.json",
+        include_str!("../../sessions/imperfect-strut.json"),
+    ),
+    (
+        "barrier-crossing.json",
+        include_str!("../../sessions/barrier-crossing.json"),
+    ),
+    (
+        "diatomic-bond.json",
+        include_str!("../../sessions/diatomic-bond.json"),
+    ),
+    (
+        "tilted-lattice.json",
+        include_str!("../../sessions/tilted-lattice.json"),
+    ),
+];
+
+/// The session shown when nothing else is given and no example loads.
+pub fn builtin_session() -> Session {
+    let mut s = Session::blank("p^2/2 + q^2/2");
+    s.title = "Harmonic oscillator".into();
+    s
+}
+
+/// The first bundled example, or the built-in session.
+pub fn startup_session() -> Session {
+    EXAMPLES
+        .first()
+        .and_then(|(_, text)| parse_session(text).ok())
+        .map(|(s, _)| s)
+        .unwrap_or_else(builtin_session)
+}
+
+/// Read a session from text: the session plus the loader's warnings, or the loader's message.
+pub fn parse_session(text: &str) -> Result<(Session, Vec<String>), String> {
+    crate::session::load(text).map_err(|e| e.to_string())
+}
+
+/// Read a session file.
+pub fn load_session(path: &Path) -> Result<(Session, Vec<String>), String> {
+    crate::session::load_file(path).map_err(|e| format!("{}: {e}", path.display()))
+}
+
+/// Write a session file (whole file replaced at once; a failed save keeps the old file).
+pub fn save_session(session: &Session, path: &Path) -> Result<(), String> {
+    crate::session::save_atomic(path, session).map_err(|e| e.to_string())
+}
+
+fn write_text(path: &Path, text: &str) -> Result<(), String> {
+    crate::session::write_atomic(path, |w| w.write_all(text.as_bytes())).map_err(|e| e.to_string())
+}
+
+/// The user's data directory for phasewright: `$PHASEWRIGHT_DATA_DIR`, else
+/// `$XDG_DATA_HOME/phasewright`, else `~/.local/share/phasewright`.
+pub fn default_data_dir() -> Option<PathBuf> {
+    if let Some(d) = std::env::var_os(DATA_DIR_ENV).filter(|d| !d.is_empty()) {
+        return Some(PathBuf::from(d));
+    }
+    if let Some(d) = std::env::var_os("XDG_DATA_HOME").filter(|d| !d.is_empty()) {
+        return Some(PathBuf::from(d).join("phasewright"));
+    }
+    std::env::var_os("HOME")
+        .filter(|d| !d.is_empty())
+        .map(|h| PathBuf::from(h).join(".local/share/phasewright"))
+}
+
+/// The recovery file and recent list in one directory.
+#[derive(Clone, Debug)]
+pub struct DataDir {
+    pub dir: PathBuf,
+}
+
+impl DataDir {
+    pub fn recovery_path(&self) -> PathBuf {
+        self.dir.join(RECOVERY_FILE)
+    }
+
+    /// A recovery file left by a session that did not end cleanly.
+    pub fn pending_recovery(&self) -> Option<Session> {
+        let text = std::fs::read_to_string(self.recovery_path()).ok()?;
+        parse_session(&text).ok().map(|(s, _)| s)
+    }
+
+    pub fn write_recovery(&self, session: &Session) -> Result<(), String> {
+        std::fs::create_dir_all(&self.dir)
+            .map_err(|e| format!("cannot create {}: {e}", self.dir.display()))?;
+        save_session(session, &self.recovery_path())
+    }
+
+    pub fn clear_recovery(&self) {
+        let _ = std::fs::remove_file(self.recovery_path());
+    }
+
+    pub fn recent(&self) -> Vec<PathBuf> {
+        std::fs::read_to_string(self.dir.join(RECENT_FILE))
+            .ok()
+            .and_then(|t| serde_json::from_str::<Vec<PathBuf>>(&t).ok())
+            .unwrap_or_default()
+    }
+
+    /// Put `path` first in the recent list; returns the new list.
+    pub fn add_recent(&self, path: &Path) -> Vec<PathBuf> {
+        let mut list = self.recent();
+        list.retain(|p| p != path);
+        list.insert(0, path.to_path_buf());
+        list.truncate(RECENT_MAX);
+        if std::fs::create_dir_all(&self.dir).is_ok()
+            && let Ok(text) = serde_json::to_string_pretty(&list)
+        {
+            let _ = write_text(&self.dir.join(RECENT_FILE), &text);
+        }
+        list
+    }
+}
+
+/// Which native dialog is open.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum DialogPurpose {
+    Open,
+    SaveAs,
+}
+
+/// A native dialog running on its own thread.
+pub struct PendingDialog {
+    pub purpose: DialogPurpose,
+    started: Instant,
+    rx: Receiver<Option<PathBuf>>,
+}
+
+/// What became of a native dialog.
+pub enum DialogOutcome {
+    Chosen(PathBuf),
+    Cancelled,
+    /// The dialog could not be shown (no portal, no helper): ask in the app instead.
+    Unavailable,
+}
+
+/// A dialog that answers "nothing chosen" faster than this was never shown.
+const DIALOG_MIN_HUMAN: Duration = Duration::from_millis(250);
+
+impl PendingDialog {
+    /// Start a native dialog, or None when native dialogs are turned off.
+    pub fn start(
+        purpose: DialogPurpose,
+        start_dir: Option<PathBuf>,
+        file_name: &str,
+    ) -> Option<PendingDialog> {
+        if std::env::var_os(NO_NATIVE_DIALOG_ENV).is_some_and(|v| !v.is_empty() && v != "0") {
+            return None;
+        }
+        let (tx, rx) = channel();
+        let name = file_name.to_string();
+        let spawned = std::thread::Builder::new()
+            .name("phasewright-dialog".into())
+            .spawn(move || {
+                let mut d = rfd::FileDialog::new().add_filter("phasewright session", &["json"]);
+                if let Some(dir) = start_dir {
+                    d = d.set_directory(dir);
+                }
+                let chosen = match purpose {
+                    DialogPurpose::Open => d.pick_file(),
+                    DialogPurpose::SaveAs => d.set_file_name(name).save_file(),
+                };
+                let _ = tx.send(chosen);
+            });
+        spawned.ok().map(|_| PendingDialog {
+            purpose,
+            started: Instant::now(),
+            rx,
+        })
+    }
+
+    /// The outcome once the dialog has closed.
+    pub fn poll(&self) -> Option<DialogOutcome> {
+        match self.rx.try_recv() {
+            Ok(Some(p)) => Some(DialogOutcome::Chosen(p)),
+            Ok(None) if self.started.elapsed() < DIALOG_MIN_HUMAN => {
+                Some(DialogOutcome::Unavailable)
+            }
+            Ok(None) => Some(DialogOutcome::Cancelled),
+            Err(std::sync::mpsc::TryRecvError::Empty) => None,
+            Err(std::sync::mpsc::TryRecvError::Disconnected) => Some(DialogOutcome::Unavailable),
+        }
+    }
+}

@@ -1,0 +1,76 @@
+//! The explorer's view of one integrated orbit: the core's result reduced to
+//! what the plot and the orbit table show. The integration itself is the
+//! core's; this file only builds the request and copies fields.
+
+use crate::core::Cancel;
+use crate::core::integrate::Method;
+use crate::core::orbit::{OrbitRequest, StopReason, integrate_orbit};
+use crate::core::system::System;
+use crate::core::window::Window;
+use crate::session::SeededOrbit;
+
+/// One orbit as the explorer shows it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OrbitOutcome {
+    /// Vertices as [q, p].
+    pub samples: Vec<[f64; 2]>,
+    pub energy: f64,
+    pub period: Option<f64>,
+    pub action: Option<f64>,
+    /// Angular frequency 2π / period.
+    pub frequency: Option<f64>,
+    /// Largest |H − H₀| relative to the energy scale.
+    pub energy_drift: Option<f64>,
+    /// Why integration ended, in words.
+    pub stop: String,
+    /// True when the orbit ended for a reason worth pointing out.
+    pub stopped_early: bool,
+}
+
+/// The method names the orbit editor offers.
+pub const METHODS: &[&str] = &crate::session::ORBIT_METHODS;
+
+/// Integrate one seeded orbit with the core's integrator. The orbit stops once
+/// it has closed; `duration` is the longest it runs otherwise.
+pub fn integrate(
+    sys: &System,
+    seeded: &SeededOrbit,
+    window: &Window,
+    cancel: &Cancel,
+) -> OrbitOutcome {
+    let method = match Method::from_name(&seeded.method) {
+        Ok(m) => m,
+        Err(e) => return refused(sys, seeded, e.to_string()),
+    };
+    let mut req = OrbitRequest::new(seeded.q0, seeded.p0, seeded.duration, window);
+    req.method = method;
+    req.stop_when_closed = true;
+    if let Err(e) = req.validate() {
+        return refused(sys, seeded, format!("{}: {}", e.field, e.problem));
+    }
+    let orbit = integrate_orbit(sys, &req, cancel);
+    let stopped_early = !matches!(orbit.stop, StopReason::Finished | StopReason::Closed);
+    OrbitOutcome {
+        samples: orbit.samples.iter().map(|s| [s.q, s.p]).collect(),
+        energy: orbit.energy,
+        period: orbit.period,
+        action: orbit.action,
+        frequency: orbit.frequency,
+        energy_drift: orbit.energy_drift.is_finite().then_some(orbit.energy_drift),
+        stop: orbit.stop.message(),
+        stopped_early,
+    }
+}
+
+fn refused(sys: &System, seeded: &SeededOrbit, why: String) -> OrbitOutcome {
+    OrbitOutcome {
+        samples: vec![[seeded.q0, seeded.p0]],
+        energy: sys.energy(seeded.q0, seeded.p0),
+        period: None,
+        action: None,
+        frequency: None,
+        energy_drift: None,
+        stop: why,
+        stopped_early: true,
+    }
+}

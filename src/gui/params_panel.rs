@@ -1,0 +1,143 @@
+//! Parameter rows: for each parameter a slider, its value, its range (min and
+//! max) and an optional step. A range with min ≥ max is refused with a message.
+
+use crate::session::Parameter;
+
+use super::Command;
+
+#[derive(Default)]
+pub struct ParamsPanel {
+    /// The last refused range edit: parameter name and the message.
+    refused: Option<(String, String)>,
+}
+
+impl ParamsPanel {
+    pub fn ui(
+        &mut self,
+        ui: &mut egui::Ui,
+        params: &[Parameter],
+        unused: &[String],
+    ) -> Vec<Command> {
+        let mut commands = Vec::new();
+        ui.strong("Parameters");
+        if params.is_empty() {
+            ui.small("The formula has no parameters.");
+        }
+        for par in params {
+            ui.separator();
+            self.row(ui, par, unused.contains(&par.name), &mut commands);
+        }
+        commands
+    }
+
+    fn row(
+        &mut self,
+        ui: &mut egui::Ui,
+        par: &Parameter,
+        unused: bool,
+        commands: &mut Vec<Command>,
+    ) {
+        ui.horizontal(|ui| {
+            ui.label(egui::RichText::new(&par.name).monospace().strong());
+            if unused {
+                ui.small("(no longer in the formula; removed shortly)");
+            }
+        });
+        let mut value = par.value;
+        let step = par.step.filter(|s| *s > 0.0);
+        let mut slider = egui::Slider::new(&mut value, par.min..=par.max).show_value(false);
+        if let Some(s) = step {
+            slider = slider.step_by(s);
+        }
+        let r = ui
+            .add(slider)
+            .on_hover_text(format!("{} = {}", par.name, par.value));
+        accessible_name(&r, egui::Role::Slider, &format!("{} slider", par.name));
+        if r.changed() || r.drag_stopped() {
+            commands.push(Command::SetParam {
+                name: par.name.clone(),
+                value,
+                dragging: r.dragged(),
+            });
+        }
+        egui::Grid::new(("param-grid", &par.name))
+            .num_columns(4)
+            .show(ui, |ui| {
+                let mut v = par.value;
+                ui.label("value");
+                let resp = ui.add(
+                    egui::DragValue::new(&mut v)
+                        .range(par.min..=par.max)
+                        .speed((par.max - par.min) / 500.0)
+                        .max_decimals(6),
+                );
+                let resp = resp.on_hover_text(format!("value of {}", par.name));
+                accessible_name(
+                    &resp,
+                    egui::Role::SpinButton,
+                    &format!("{} value", par.name),
+                );
+                if resp.changed() {
+                    commands.push(Command::SetParam {
+                        name: par.name.clone(),
+                        value: v,
+                        dragging: resp.dragged(),
+                    });
+                }
+                ui.end_row();
+
+                let mut lo = par.min;
+                let mut hi = par.max;
+                let mut st = par.step.unwrap_or(0.0);
+                ui.label("min");
+                let rl = ui.add(egui::DragValue::new(&mut lo).speed(0.01).max_decimals(6));
+                accessible_name(&rl, egui::Role::SpinButton, &format!("{} min", par.name));
+                ui.label("max");
+                let rh = ui.add(egui::DragValue::new(&mut hi).speed(0.01).max_decimals(6));
+                accessible_name(&rh, egui::Role::SpinButton, &format!("{} max", par.name));
+                ui.end_row();
+                ui.label("step");
+                let rs = ui
+                    .add(
+                        egui::DragValue::new(&mut st)
+                            .range(0.0..=f64::MAX)
+                            .speed(0.001)
+                            .max_decimals(6),
+                    )
+                    .on_hover_text("0 = continuous");
+                accessible_name(&rs, egui::Role::SpinButton, &format!("{} step", par.name));
+                ui.end_row();
+                if rl.changed() || rh.changed() || rs.changed() {
+                    if lo < hi && lo.is_finite() && hi.is_finite() {
+                        self.refused = None;
+                        commands.push(Command::SetRange {
+                            name: par.name.clone(),
+                            min: lo,
+                            max: hi,
+                            step: (st > 0.0).then_some(st),
+                        });
+                    } else {
+                        self.refused = Some((
+                            par.name.clone(),
+                            format!(
+                                "{}: min ({lo}) must be less than max ({hi}); range kept",
+                                par.name
+                            ),
+                        ));
+                    }
+                }
+            });
+        if let Some((name, msg)) = &self.refused
+            && name == &par.name
+        {
+            ui.colored_label(ui.visuals().error_fg_color, msg);
+        }
+    }
+}
+
+/// Give a widget an accessible name (used by assistive tools and the GUI tests).
+pub fn accessible_name(response: &egui::Response, kind: egui::Role, name: &str) {
+    let enabled = response.enabled();
+    let name = name.to_string();
+    response.widget_info(move || egui::WidgetInfo::labeled(kind, enabled, name.clone()));
+}

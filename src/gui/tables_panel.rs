@@ -1,0 +1,291 @@
+//! Result tables under the plot: equilibria, wells and orbits. Each row is
+//! selectable (the plot highlights the selected item); orbit rows can be
+//! deleted and their method and duration edited.
+
+use crate::core::analysis::Analysis;
+use crate::core::equilibria::Equilibrium;
+use crate::session::SeededOrbit;
+use std::sync::Arc;
+
+use super::orbits::{METHODS, OrbitOutcome};
+use super::plot_panel::{eigen_text, kind_name};
+use super::{Command, Selection};
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Tab {
+    #[default]
+    Equilibria,
+    Wells,
+    Orbits,
+}
+
+#[derive(Default)]
+pub struct TablesPanel {
+    pub tab: Tab,
+}
+
+/// Text of the equilibria table: q, p, H, kind, eigenvalues, ω or λ.
+pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
+    eqs.iter()
+        .map(|e| {
+            let rate = match (e.omega, e.lambda) {
+                (Some(w), _) => format!("ω = {w:.5}"),
+                (None, Some(l)) => format!("λ = {l:.5}"),
+                _ => "—".into(),
+            };
+            [
+                format!("{:.5}", e.q),
+                format!("{:.5}", e.p),
+                format!("{:.6}", e.energy),
+                kind_name(e.kind).to_string(),
+                eigen_text(e),
+                rate,
+            ]
+        })
+        .collect()
+}
+
+/// Text of the wells table: center position, bottom energy, escape energy, depth.
+pub fn well_rows(a: &Analysis) -> Vec<[String; 4]> {
+    let opt = |v: Option<f64>| {
+        v.map_or("— (not bounded in view)".to_string(), |x| {
+            format!("{x:.6}")
+        })
+    };
+    a.wells
+        .iter()
+        .map(|w| {
+            [
+                format!("({:.4}, {:.4})", w.q, w.p),
+                format!("{:.6}", w.energy),
+                opt(w.escape_energy),
+                opt(w.depth),
+            ]
+        })
+        .collect()
+}
+
+/// Text of the orbits table: start, period, action, frequency, energy drift, stop reason.
+pub fn orbit_row(s: &SeededOrbit, o: Option<&OrbitOutcome>) -> [String; 6] {
+    let num = |v: Option<f64>| v.map_or("—".to_string(), |x| format!("{x:.5}"));
+    match o {
+        Some(o) => [
+            format!("({:.4}, {:.4})", s.q0, s.p0),
+            num(o.period),
+            num(o.action),
+            num(o.frequency),
+            o.energy_drift.map_or("—".into(), |d| format!("{d:.2e}")),
+            o.stop.clone(),
+        ],
+        None => [
+            format!("({:.4}, {:.4})", s.q0, s.p0),
+            "…".into(),
+            "…".into(),
+            "…".into(),
+            "…".into(),
+            "computing".into(),
+        ],
+    }
+}
+
+impl TablesPanel {
+    pub fn ui(
+        &mut self,
+        ui: &mut egui::Ui,
+        analysis: Option<&Analysis>,
+        orbits: &[SeededOrbit],
+        outcomes: &[Option<Arc<OrbitOutcome>>],
+        selection: Selection,
+    ) -> Vec<Command> {
+        let mut commands = Vec::new();
+        ui.horizontal(|ui| {
+            let ne = analysis.map_or(0, |a| a.equilibria.len());
+            let nw = analysis.map_or(0, |a| a.wells.len());
+            ui.selectable_value(&mut self.tab, Tab::Equilibria, format!("Equilibria ({ne})"));
+            ui.selectable_value(&mut self.tab, Tab::Wells, format!("Wells ({nw})"));
+            ui.selectable_value(
+                &mut self.tab,
+                Tab::Orbits,
+                format!("Orbits ({})", orbits.len()),
+            );
+        });
+        ui.separator();
+        egui::ScrollArea::vertical()
+            .auto_shrink([false, false])
+            .show(ui, |ui| match self.tab {
+                Tab::Equilibria => {
+                    let rows = analysis
+                        .map(|a| equilibrium_rows(&a.equilibria))
+                        .unwrap_or_default();
+                    if rows.is_empty() {
+                        ui.label("No equilibria in view.");
+                    }
+                    table(
+                        ui,
+                        "eq-table",
+                        &["#", "q", "p", "H", "kind", "eigenvalues", "ω or λ"],
+                        &rows,
+                        |i| Selection::Equilibrium(i),
+                        selection,
+                        &mut commands,
+                    );
+                }
+                Tab::Wells => {
+                    let rows = analysis.map(well_rows).unwrap_or_default();
+                    if rows.is_empty() {
+                        ui.label("No wells in view (a well needs a center).");
+                    }
+                    table(
+                        ui,
+                        "well-table",
+                        &["#", "center", "H at center", "escape energy", "depth"],
+                        &rows,
+                        |i| Selection::Well(i),
+                        selection,
+                        &mut commands,
+                    );
+                }
+                Tab::Orbits => self.orbit_table(ui, orbits, outcomes, selection, &mut commands),
+            });
+        commands
+    }
+
+    fn orbit_table(
+        &mut self,
+        ui: &mut egui::Ui,
+        orbits: &[SeededOrbit],
+        outcomes: &[Option<Arc<OrbitOutcome>>],
+        selection: Selection,
+        commands: &mut Vec<Command>,
+    ) {
+        if orbits.is_empty() {
+            ui.label("No orbits yet: click in the plot to launch one.");
+            return;
+        }
+        egui::Grid::new("orbit-table")
+            .striped(true)
+            .num_columns(10)
+            .show(ui, |ui| {
+                for h in [
+                    "#",
+                    "start (q, p)",
+                    "period",
+                    "action",
+                    "frequency ω",
+                    "energy drift",
+                    "stopped",
+                    "method",
+                    "duration",
+                    "",
+                ] {
+                    ui.strong(h);
+                }
+                ui.end_row();
+                for (i, s) in orbits.iter().enumerate() {
+                    let row = orbit_row(s, outcomes.get(i).and_then(|o| o.as_deref()));
+                    if ui
+                        .selectable_label(selection == Selection::Orbit(i), format!("{}", i + 1))
+                        .clicked()
+                    {
+                        commands.push(Command::Select(Selection::Orbit(i)));
+                    }
+                    let early = outcomes
+                        .get(i)
+                        .and_then(|o| o.as_deref())
+                        .is_some_and(|o| o.stopped_early);
+                    for (k, cell) in row.iter().enumerate() {
+                        if k == 5 && early {
+                            ui.colored_label(ui.visuals().warn_fg_color, cell);
+                        } else {
+                            ui.label(cell);
+                        }
+                    }
+                    let mut method = s.method.clone();
+                    egui::ComboBox::from_id_salt(("orbit-method", i))
+                        .selected_text(&method)
+                        .show_ui(ui, |ui| {
+                            for m in METHODS {
+                                ui.selectable_value(&mut method, m.to_string(), *m);
+                            }
+                        });
+                    let mut duration = s.duration;
+                    let rd = ui.add(
+                        egui::DragValue::new(&mut duration)
+                            .speed(0.5)
+                            .max_decimals(3),
+                    );
+                    super::params_panel::accessible_name(
+                        &rd,
+                        egui::Role::SpinButton,
+                        &format!("orbit {} duration", i + 1),
+                    );
+                    if method != s.method
+                        || (rd.changed() && duration.is_finite() && duration != 0.0)
+                    {
+                        let mut edited = s.clone();
+                        edited.method = method;
+                        edited.duration = duration;
+                        commands.push(Command::EditOrbit {
+                            index: i,
+                            orbit: edited,
+                            dragging: rd.dragged(),
+                        });
+                    }
+                    if ui
+                        .button("Delete")
+                        .on_hover_text(format!("delete orbit {}", i + 1))
+                        .clicked()
+                    {
+                        commands.push(Command::DeleteOrbit(i));
+                    }
+                    ui.end_row();
+                }
+            });
+    }
+}
+
+fn table<const N: usize>(
+    ui: &mut egui::Ui,
+    id: &str,
+    header: &[&str],
+    rows: &[[String; N]],
+    select: impl Fn(usize) -> Selection,
+    selection: Selection,
+    commands: &mut Vec<Command>,
+) {
+    if rows.is_empty() {
+        return;
+    }
+    egui::Grid::new(id)
+        .striped(true)
+        .num_columns(N + 1)
+        .show(ui, |ui| {
+            for h in header {
+                ui.strong(*h);
+            }
+            ui.end_row();
+            for (i, row) in rows.iter().enumerate() {
+                let sel = select(i);
+                if ui
+                    .selectable_label(selection == sel, format!("{}", i + 1))
+                    .clicked()
+                {
+                    commands.push(Command::Select(if selection == sel {
+                        Selection::None
+                    } else {
+                        sel
+                    }));
+                }
+                for cell in row {
+                    if ui.selectable_label(selection == sel, cell).clicked() {
+                        commands.push(Command::Select(if selection == sel {
+                            Selection::None
+                        } else {
+                            sel
+                        }));
+                    }
+                }
+                ui.end_row();
+            }
+        });
+}
