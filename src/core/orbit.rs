@@ -434,12 +434,12 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         orbit.motion = Motion::Unbounded;
         return orbit;
     }
-    orbit.samples.push(Sample {
+    let first = Sample {
         t: start.t,
         q: start.q,
         p: start.p,
         h: h0,
-    });
+    };
 
     let method = integrator.method();
     let h = match req.step {
@@ -454,6 +454,7 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
     if speed0 == 0.0 || (rate0 > 0.0 && speed0 / rate0 < EQUILIBRIUM_FRACTION * length) {
         orbit.stop = StopReason::AtEquilibrium;
         orbit.motion = Motion::Equilibrium;
+        orbit.samples.push(first);
         return orbit;
     }
     let sense = h.signum();
@@ -464,8 +465,7 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         req.bounds.diagonal() / BOUNDS_FACTOR / SAMPLE_SEGMENTS_PER_VIEW,
         req.max_samples,
     );
-    thinner.first(orbit.samples[0]);
-    orbit.samples.clear();
+    thinner.first(first);
 
     let mut y = start;
     let mut p_dq_total = 0.0;

@@ -95,7 +95,9 @@ impl Collocation {
                 padded[(i, j)] = a[i][j];
             }
         }
-        let inverse = padded.try_inverse().unwrap_or_else(nalgebra::Matrix3::identity);
+        let inverse = padded
+            .try_inverse()
+            .unwrap_or_else(nalgebra::Matrix3::identity);
         let mut a_inv = [[0.0; MAX_STAGES]; MAX_STAGES];
         for (i, row) in a_inv.iter_mut().enumerate() {
             for (j, v) in row.iter_mut().enumerate() {
