@@ -43,6 +43,8 @@ pub enum Command {
     Analyze(AnalyzeArgs),
     /// Integrate one orbit from (q0, p0): period, action, frequency, energy error.
     Orbit(OrbitArgs),
+    /// Draw a figure (SVG or PNG by the output's extension).
+    Render(RenderArgs),
 }
 
 /// Which system to work on: a session file, a formula, or a session file
@@ -101,6 +103,45 @@ pub struct OrbitArgs {
     /// Print the samples as CSV (t,q,p,H).
     #[arg(long)]
     pub csv: bool,
+}
+
+/// What a figure shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum FigureView {
+    /// Level curves, equilibria and the session's orbits in the phase plane.
+    Portrait,
+    /// Equilibria against one parameter.
+    Diagram,
+    /// Period against energy in the well of one center.
+    Backbone,
+}
+
+/// Arguments of `render`.
+#[derive(Debug, Clone, Args)]
+pub struct RenderArgs {
+    #[command(flatten)]
+    pub system: SystemArgs,
+    /// The figure file to write: FILE.svg or FILE.png.
+    #[arg(short = 'o', long = "output", value_name = "FILE.svg|FILE.png")]
+    pub output: PathBuf,
+    /// Size in pixels, WIDTHxHEIGHT.
+    #[arg(long, value_name = "WxH", default_value = "1000x750")]
+    pub size: String,
+    /// What to draw.
+    #[arg(long, value_enum, default_value_t = FigureView::Portrait)]
+    pub view: FigureView,
+    /// Diagram: the parameter to move.
+    #[arg(long, value_name = "NAME")]
+    pub param: Option<String>,
+    /// Diagram: where the parameter starts.
+    #[arg(long, value_name = "A", allow_hyphen_values = true)]
+    pub from: Option<f64>,
+    /// Diagram: where the parameter ends.
+    #[arg(long, value_name = "B", allow_hyphen_values = true)]
+    pub to: Option<f64>,
+    /// Backbone: the center whose well to follow (default: the first center).
+    #[arg(long, value_name = "Q,P", allow_hyphen_values = true)]
+    pub center: Option<String>,
 }
 
 /// Bad input on the command line or in a file it names.
@@ -255,6 +296,7 @@ pub fn run(command: &Command) -> Result<String, CliError> {
     match command {
         Command::Analyze(args) => run_analyze(args),
         Command::Orbit(args) => run_orbit(args),
+        Command::Render(args) => run_render(args),
         Command::Open { .. } => Err(CliError(
             "`open` starts the desktop explorer; it has no text output".to_string(),
         )),
@@ -434,6 +476,48 @@ pub fn orbit_table(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
         let _ = writeln!(out, "note: {}", d.message);
     }
     out
+}
+
+/// `render`: build the scene the view asks for and write it as SVG or PNG.
+pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
+    use crate::render::{FigureFormat, FigureSize, figure_bytes};
+    let format = FigureFormat::from_path(&args.output).ok_or_else(|| {
+        CliError(format!(
+            "-o {}: the file name must end in .svg or .png",
+            args.output.display()
+        ))
+    })?;
+    let size = FigureSize::parse(&args.size).map_err(|e| CliError(format!("--size: {e}")))?;
+    let r = args.system.resolve()?;
+    print_warnings(&r.warnings);
+    let scene = match args.view {
+        FigureView::Portrait => portrait_scene(&r),
+        FigureView::Diagram | FigureView::Backbone => {
+            return Err(CliError(format!(
+                "--view {}: this figure is not available yet",
+                match args.view {
+                    FigureView::Diagram => "diagram",
+                    _ => "backbone",
+                }
+            )));
+        }
+    };
+    let bytes = figure_bytes(&scene, size, format).map_err(|e| CliError(e.to_string()))?;
+    session::write_atomic(&args.output, |w| w.write_all(&bytes))
+        .map_err(|e| CliError(e.to_string()))?;
+    Ok(format!(
+        "wrote {} ({}x{} px, {} curves, {} marks)",
+        args.output.display(),
+        size.width,
+        size.height,
+        scene.curves.len(),
+        scene.marks.len()
+    ))
+}
+
+/// The phase portrait of a resolved session: level curves, equilibria, orbits, the session's title.
+pub fn portrait_scene(r: &Resolved) -> crate::scene::Scene {
+    crate::render::session_portrait(&r.session, &r.system, &r.window, &Cancel::never())
 }
 
 /// The analysis as JSON: formula, parameters, window, equilibria, wells,

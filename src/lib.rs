@@ -5,4 +5,6 @@ pub mod cli;
 pub mod core;
 #[cfg(feature = "gui")]
 pub mod gui;
+pub mod render;
+pub mod scene;
 pub mod session;

@@ -1,0 +1,99 @@
+//! Time the figure pipeline on every example session: analysis, scene, SVG
+//! text and PNG rasterisation at 1600x1200, best of several runs each.
+//!
+//! Run: `cargo run --release --no-default-features --example bench_render`
+
+use phasewright::core::Cancel;
+use phasewright::core::analysis::analyze;
+use phasewright::render::png::rasterize;
+use phasewright::render::{FigureSize, to_svg};
+use phasewright::scene::Scene;
+use std::path::Path;
+use std::time::{Duration, Instant};
+
+const RUNS: usize = 5;
+
+fn best<T>(mut f: impl FnMut() -> T) -> (Duration, T) {
+    let mut best = Duration::MAX;
+    let mut last = None;
+    for _ in 0..RUNS {
+        let t = Instant::now();
+        let v = f();
+        best = best.min(t.elapsed());
+        last = Some(v);
+    }
+    match last {
+        Some(v) => (best, v),
+        None => (best, f()),
+    }
+}
+
+fn ms(d: Duration) -> String {
+    format!("{:8.1}", d.as_secs_f64() * 1e3)
+}
+
+fn main() {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("sessions");
+    let mut files: Vec<_> = match std::fs::read_dir(&dir) {
+        Ok(rd) => rd
+            .filter_map(|e| e.ok().map(|e| e.path()))
+            .filter(|p| p.extension().is_some_and(|x| x == "json"))
+            .collect(),
+        Err(e) => {
+            eprintln!("cannot read {}: {e}", dir.display());
+            return;
+        }
+    };
+    files.sort();
+    let size = FigureSize {
+        width: 1600,
+        height: 1200,
+    };
+    println!(
+        "best of {RUNS} runs, PNG at {}x{} (milliseconds)",
+        size.width, size.height
+    );
+    println!(
+        "{:<22} {:>8} {:>8} {:>8} {:>8} {:>8} {:>9}",
+        "session", "analyze", "scene", "svg", "png", "total", "svg bytes"
+    );
+    for path in files {
+        let name = path
+            .file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        let session = match phasewright::session::load_file(&path) {
+            Ok((s, _)) => s,
+            Err(e) => {
+                eprintln!("{name}: {e}");
+                continue;
+            }
+        };
+        let sys = match session.system() {
+            Ok(s) => s,
+            Err(e) => {
+                eprintln!("{name}: {e}");
+                continue;
+            }
+        };
+        let cfg = session.analysis_config();
+        let (t_analyze, a) = best(|| analyze(&sys, &session.view, &cfg, &Cancel::never()));
+        let (t_scene, scene) = best(|| Scene::portrait(&sys, &a).with_title(&session.title));
+        let (t_svg, svg) = best(|| to_svg(&scene, size));
+        let (t_png, png) = best(|| rasterize(&svg, 1.0));
+        if let Err(e) = png {
+            eprintln!("{name}: {e}");
+            continue;
+        }
+        let total = t_analyze + t_scene + t_svg + t_png;
+        println!(
+            "{name:<22} {} {} {} {} {} {:>9}",
+            ms(t_analyze),
+            ms(t_scene),
+            ms(t_svg),
+            ms(t_png),
+            ms(total),
+            svg.len()
+        );
+    }
+}

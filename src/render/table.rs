@@ -1,0 +1,356 @@
+//! Tables of results as CSV and JSON: equilibria, wells and the other lists
+//! the core produces. One `Table` type, one CSV writer, one JSON writer; the
+//! builders below only choose columns. Numbers keep full precision (the
+//! shortest text that reads back as the same f64); a missing value is an
+//! empty CSV field and a JSON null.
+
+use crate::core::equilibria::{DegenerateShape, Equilibrium};
+use crate::core::orbit::Orbit;
+use crate::core::wells::Well;
+use crate::scene::kind_name;
+use serde_json::{Map, Value};
+
+/// One cell.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Cell {
+    Number(f64),
+    Integer(i64),
+    Text(String),
+    Empty,
+}
+
+impl From<f64> for Cell {
+    fn from(v: f64) -> Self {
+        Cell::Number(v)
+    }
+}
+
+impl From<Option<f64>> for Cell {
+    fn from(v: Option<f64>) -> Self {
+        v.map_or(Cell::Empty, Cell::Number)
+    }
+}
+
+impl From<usize> for Cell {
+    fn from(v: usize) -> Self {
+        i64::try_from(v).map_or(Cell::Empty, Cell::Integer)
+    }
+}
+
+impl From<Option<usize>> for Cell {
+    fn from(v: Option<usize>) -> Self {
+        v.map_or(Cell::Empty, Cell::from)
+    }
+}
+
+impl From<&str> for Cell {
+    fn from(v: &str) -> Self {
+        Cell::Text(v.to_string())
+    }
+}
+
+/// A column: the key used in JSON and the CSV header text (name and unit).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Column {
+    pub key: String,
+    pub header: String,
+}
+
+impl Column {
+    pub fn new(key: &str, header: &str) -> Column {
+        Column {
+            key: key.to_string(),
+            header: header.to_string(),
+        }
+    }
+
+    /// A column whose key is also its header.
+    pub fn plain(key: &str) -> Column {
+        Column::new(key, key)
+    }
+}
+
+/// Rows under named columns.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Table {
+    pub columns: Vec<Column>,
+    pub rows: Vec<Vec<Cell>>,
+}
+
+/// Full-precision text of an f64 that Rust's parser reads back exactly
+/// (`NaN`, `inf`, `-inf` for the non-finite ones).
+pub fn number_text(v: f64) -> String {
+    format!("{v:?}")
+}
+
+fn csv_field(text: &str) -> String {
+    if text.contains([',', '"', '\n', '\r']) || text.starts_with(' ') || text.ends_with(' ') {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
+impl Table {
+    pub fn new(columns: Vec<Column>) -> Table {
+        Table {
+            columns,
+            rows: Vec::new(),
+        }
+    }
+
+    /// Add a row (missing trailing cells are empty, extra cells are dropped).
+    pub fn push(&mut self, mut row: Vec<Cell>) {
+        row.resize(self.columns.len(), Cell::Empty);
+        self.rows.push(row);
+    }
+
+    /// CSV: a header row, then one line per row (RFC 4180 quoting).
+    pub fn to_csv(&self) -> String {
+        let mut out = String::new();
+        let header: Vec<String> = self.columns.iter().map(|c| csv_field(&c.header)).collect();
+        out.push_str(&header.join(","));
+        out.push('\n');
+        for row in &self.rows {
+            let fields: Vec<String> = row
+                .iter()
+                .map(|c| match c {
+                    Cell::Number(v) => number_text(*v),
+                    Cell::Integer(i) => i.to_string(),
+                    Cell::Text(t) => csv_field(t),
+                    Cell::Empty => String::new(),
+                })
+                .collect();
+            out.push_str(&fields.join(","));
+            out.push('\n');
+        }
+        out
+    }
+
+    /// JSON: an array of objects keyed by column key (non-finite numbers become null).
+    pub fn to_json_value(&self) -> Value {
+        let rows = self
+            .rows
+            .iter()
+            .map(|row| {
+                let mut obj = Map::new();
+                for (col, cell) in self.columns.iter().zip(row) {
+                    let v = match cell {
+                        Cell::Number(v) => {
+                            serde_json::Number::from_f64(*v).map_or(Value::Null, Value::Number)
+                        }
+                        Cell::Integer(i) => Value::from(*i),
+                        Cell::Text(t) => Value::String(t.clone()),
+                        Cell::Empty => Value::Null,
+                    };
+                    obj.insert(col.key.clone(), v);
+                }
+                Value::Object(obj)
+            })
+            .collect();
+        Value::Array(rows)
+    }
+
+    /// Pretty-printed JSON text of `to_json_value`.
+    pub fn to_json(&self) -> String {
+        serde_json::to_string_pretty(&self.to_json_value()).unwrap_or_else(|_| "[]".to_string())
+    }
+
+    /// Columns for the parameter values, so every row says where it was computed.
+    fn with_parameters(mut self, params: &[(String, f64)]) -> Table {
+        let n = self.columns.len();
+        for (name, _) in params {
+            self.columns
+                .push(Column::new(&format!("param_{name}"), name));
+        }
+        for row in &mut self.rows {
+            row.truncate(n);
+            row.extend(params.iter().map(|(_, v)| Cell::Number(*v)));
+        }
+        self
+    }
+}
+
+/// The parameters of a system as (name, value) pairs, for table columns.
+pub fn parameter_pairs(sys: &crate::core::system::System) -> Vec<(String, f64)> {
+    sys.formula()
+        .params()
+        .iter()
+        .cloned()
+        .zip(sys.params().iter().copied())
+        .collect()
+}
+
+fn shape_name(shape: DegenerateShape) -> &'static str {
+    match shape {
+        DegenerateShape::NonlinearCenter => "nonlinear-center",
+        DegenerateShape::NoExtremum => "no-extremum",
+    }
+}
+
+/// One row per equilibrium: position, energy, kind, eigenvalues, ω and period
+/// (centers), λ and directions (saddles), then the parameter values.
+pub fn equilibria_table(equilibria: &[Equilibrium], params: &[(String, f64)]) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("q"),
+        Column::plain("p"),
+        Column::new("energy", "H"),
+        Column::plain("kind"),
+        Column::new("eig1_re", "eigenvalue 1 re [1/time]"),
+        Column::new("eig1_im", "eigenvalue 1 im [1/time]"),
+        Column::new("eig2_re", "eigenvalue 2 re [1/time]"),
+        Column::new("eig2_im", "eigenvalue 2 im [1/time]"),
+        Column::new("hessian_det", "det Hessian"),
+        Column::new("omega", "omega [rad/time]"),
+        Column::new("small_period", "small-oscillation period [time]"),
+        Column::new("lambda", "lambda [1/time]"),
+        Column::new("stable_dq", "stable direction q"),
+        Column::new("stable_dp", "stable direction p"),
+        Column::new("unstable_dq", "unstable direction q"),
+        Column::new("unstable_dp", "unstable direction p"),
+        Column::plain("degenerate"),
+    ]);
+    for e in equilibria {
+        let dir = |d: Option<[f64; 2]>, i: usize| Cell::from(d.map(|v| v[i]));
+        t.push(vec![
+            e.q.into(),
+            e.p.into(),
+            e.energy.into(),
+            kind_name(e.kind).into(),
+            e.eigenvalues[0][0].into(),
+            e.eigenvalues[0][1].into(),
+            e.eigenvalues[1][0].into(),
+            e.eigenvalues[1][1].into(),
+            e.hessian_det.into(),
+            e.omega.into(),
+            e.small_period.into(),
+            e.lambda.into(),
+            dir(e.stable_dir, 0),
+            dir(e.stable_dir, 1),
+            dir(e.unstable_dir, 0),
+            dir(e.unstable_dir, 1),
+            e.degenerate.map_or(Cell::Empty, |s| shape_name(s).into()),
+        ]);
+    }
+    t.with_parameters(params)
+}
+
+/// One row per well: its center, energy, escape energy, depth and bounding saddle.
+pub fn wells_table(wells: &[Well], params: &[(String, f64)]) -> Table {
+    let mut t = Table::new(vec![
+        Column::new("center", "center index"),
+        Column::plain("q"),
+        Column::plain("p"),
+        Column::new("energy", "H at center"),
+        Column::new("escape_energy", "escape energy H"),
+        Column::new("depth", "depth (H)"),
+        Column::new("escape_saddle", "escape saddle index"),
+    ]);
+    for w in wells {
+        t.push(vec![
+            w.center.into(),
+            w.q.into(),
+            w.p.into(),
+            w.energy.into(),
+            w.escape_energy.into(),
+            w.depth.into(),
+            w.escape_saddle.into(),
+        ]);
+    }
+    t.with_parameters(params)
+}
+
+/// The samples of one orbit: t, q, p and H at each stored point.
+pub fn orbit_samples_table(orbit: &Orbit, params: &[(String, f64)]) -> Table {
+    let mut t = Table::new(vec![
+        Column::new("t", "t [time]"),
+        Column::plain("q"),
+        Column::plain("p"),
+        Column::new("h", "H"),
+    ]);
+    for s in &orbit.samples {
+        t.push(vec![s.t.into(), s.q.into(), s.p.into(), s.h.into()]);
+    }
+    t.with_parameters(params)
+}
+
+/// One row of measurements per orbit: start, energy, period, frequency,
+/// action, motion, energy error and how it stopped.
+pub fn orbit_measurements_table(orbits: &[Orbit], params: &[(String, f64)]) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("q0"),
+        Column::plain("p0"),
+        Column::new("energy", "H"),
+        Column::new("period", "period [time]"),
+        Column::new("frequency", "frequency [rad/time]"),
+        Column::new("action", "action I [H*time]"),
+        Column::new("q_advance", "q advance per period"),
+        Column::plain("motion"),
+        Column::new("energy_error", "max |H - H0|"),
+        Column::new("energy_drift", "energy drift (relative)"),
+        Column::plain("method"),
+        Column::new("step", "step [time]"),
+        Column::plain("steps"),
+        Column::plain("stop"),
+    ]);
+    for o in orbits {
+        let start = o.samples.first();
+        let motion = serde_json::to_value(o.motion)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default();
+        t.push(vec![
+            start.map(|s| s.q).into(),
+            start.map(|s| s.p).into(),
+            o.energy.into(),
+            o.period.into(),
+            o.frequency.into(),
+            o.action.into(),
+            o.q_advance.into(),
+            Cell::Text(motion),
+            o.energy_error.into(),
+            o.energy_drift.into(),
+            o.method.name().into(),
+            o.step.into(),
+            i64::try_from(o.steps).map_or(Cell::Empty, Cell::Integer),
+            o.stop.name().into(),
+        ]);
+    }
+    t.with_parameters(params)
+}
+
+/// Parse CSV text written by `Table::to_csv` back into header and rows of
+/// fields (quoted fields unquoted). For checks and for reading our own tables.
+pub fn parse_csv(text: &str) -> Vec<Vec<String>> {
+    let mut rows = Vec::new();
+    let mut row = Vec::new();
+    let mut field = String::new();
+    let mut quoted = false;
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        match (quoted, c) {
+            (true, '"') => {
+                if chars.peek() == Some(&'"') {
+                    field.push('"');
+                    chars.next();
+                } else {
+                    quoted = false;
+                }
+            }
+            (true, c) => field.push(c),
+            (false, '"') => quoted = true,
+            (false, ',') => row.push(std::mem::take(&mut field)),
+            (false, '\n') => {
+                row.push(std::mem::take(&mut field));
+                rows.push(std::mem::take(&mut row));
+            }
+            (false, '\r') => {}
+            (false, c) => field.push(c),
+        }
+    }
+    if !field.is_empty() || !row.is_empty() {
+        row.push(field);
+        rows.push(row);
+    }
+    rows
+}

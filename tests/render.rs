@@ -1,0 +1,433 @@
+//! Figures and tables: the SVG parses and holds one path per level curve and
+//! one mark per equilibrium, the PNG has the requested size and the markers'
+//! colours where the equilibria are, tables keep every digit.
+
+use phasewright::core::Cancel;
+use phasewright::core::analysis::Analysis;
+use phasewright::core::contour::{Grid, LevelCurve};
+use phasewright::core::equilibria::{Equilibrium, EquilibriumKind};
+use phasewright::core::system::System;
+use phasewright::core::window::Window;
+use phasewright::render::png::rasterize;
+use phasewright::render::table::{equilibria_table, parameter_pairs, parse_csv};
+use phasewright::render::{FigureSize, to_svg};
+use phasewright::scene::{self, Scene, marker_for, nice_ticks};
+use std::f64::consts::PI;
+
+/// The pendulum H = p²/2 − k·cos q. Its level curves have the closed form
+/// p = ±sqrt(2(E + k cos q)); the separatrix E = k is p = ±2·sqrt(k)·cos(q/2);
+/// the center (0, 0) has H = −k, the saddles (±π, 0) have H = k
+/// (common practice: the textbook pendulum portrait).
+fn pendulum() -> (System, Analysis) {
+    let k = 1.0;
+    let sys = System::from_source("p^2/2 - k*cos(q)", &[("k", k)]).unwrap();
+    let window = Window::new(-4.0, 4.0, -3.0, 3.0).unwrap();
+    let mut curves = Vec::new();
+    let n = 400;
+    // Librations: closed curves inside the separatrix.
+    for e in [-0.8, -0.4, 0.0, 0.4, 0.8] {
+        let qmax = (-e / k).acos();
+        let mut upper: Vec<[f64; 2]> = (0..=n)
+            .map(|i| {
+                let q = -qmax + 2.0 * qmax * i as f64 / n as f64;
+                [q, (2.0 * (e + k * q.cos())).max(0.0).sqrt()]
+            })
+            .collect();
+        let lower: Vec<[f64; 2]> = upper.iter().rev().map(|&[q, p]| [q, -p]).collect();
+        upper.extend(lower);
+        curves.push(LevelCurve {
+            level: e,
+            points: upper,
+            closed: true,
+            is_separatrix: false,
+        });
+    }
+    // Rotations and the separatrix: open curves across the window, p > 0 and p < 0.
+    for (e, sep) in [(k, true), (1.6, false), (2.5, false), (3.4, false)] {
+        for sign in [1.0, -1.0] {
+            let points = (0..=n)
+                .map(|i| {
+                    let q = -4.0 + 8.0 * i as f64 / n as f64;
+                    [q, sign * (2.0 * (e + k * q.cos())).max(0.0).sqrt()]
+                })
+                .collect();
+            curves.push(LevelCurve {
+                level: e,
+                points,
+                closed: false,
+                is_separatrix: sep,
+            });
+        }
+    }
+    let eq = |q: f64, kind: EquilibriumKind| {
+        let mut e = phasewright::core::equilibria::classify(&sys, q, 0.0, &window);
+        e.kind = kind;
+        e
+    };
+    let equilibria: Vec<Equilibrium> = vec![
+        eq(-PI, EquilibriumKind::Saddle),
+        eq(0.0, EquilibriumKind::Center),
+        eq(PI, EquilibriumKind::Saddle),
+    ];
+    let analysis = Analysis {
+        window,
+        grid: Grid {
+            window,
+            nq: 0,
+            np: 0,
+            values: Vec::new(),
+            nonfinite_fraction: 0.0,
+            range: Some((-k, 4.5 + k)),
+        },
+        curves,
+        equilibria,
+        wells: Vec::new(),
+        connections: Vec::new(),
+        diagnostics: Vec::new(),
+        cancelled: false,
+    };
+    (sys, analysis)
+}
+
+fn pendulum_scene() -> (Scene, Analysis) {
+    let (sys, a) = pendulum();
+    let mut s = Scene::portrait(&sys, &a);
+    // A rotation orbit above the separatrix, traced left to right (q' = p > 0).
+    let orbit: Vec<[f64; 2]> = (0..=200)
+        .map(|i| {
+            let q = -4.0 + 8.0 * i as f64 / 200.0;
+            [q, (2.0 * (2.0 + q.cos())).sqrt()]
+        })
+        .collect();
+    s.add_orbit(&orbit, None);
+    (s, a)
+}
+
+fn has_class(node: &roxmltree::Node, class: &str) -> bool {
+    node.attribute("class")
+        .is_some_and(|c| c.split_whitespace().any(|w| w == class))
+}
+
+#[test]
+fn svg_has_one_path_per_level_curve_and_one_mark_per_equilibrium() {
+    let (s, a) = pendulum_scene();
+    let svg = to_svg(&s, FigureSize::default());
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let levels = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("path") && has_class(n, "level"))
+        .count();
+    let separatrices = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("path") && has_class(n, "separatrix"))
+        .count();
+    let marks = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("g") && has_class(n, "equilibrium"))
+        .count();
+    assert_eq!(levels, a.curves.len());
+    assert_eq!(levels, 13);
+    // The separatrix of the pendulum is two arcs, upper and lower (closed form above).
+    assert_eq!(separatrices, 2);
+    assert_eq!(marks, a.equilibria.len());
+    assert_eq!(marks, 3);
+    let saddles = doc
+        .descendants()
+        .filter(|n| n.attribute("data-kind") == Some("saddle") && has_class(n, "mark"))
+        .count();
+    assert_eq!(saddles, 2);
+    // Arrows of the orbit: three per orbit.
+    let arrows = doc
+        .descendants()
+        .filter(|n| has_class(n, "orbit-arrow"))
+        .count();
+    assert_eq!(arrows, 3);
+}
+
+#[test]
+fn svg_escapes_text_and_keeps_it_as_text() {
+    let (sys, a) = pendulum();
+    let s = Scene::portrait(&sys, &a).with_title("Well <A> & \"B\"");
+    let svg = to_svg(&s, FigureSize::default());
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let title = doc
+        .descendants()
+        .find(|n| has_class(n, "title"))
+        .and_then(|n| n.text())
+        .unwrap();
+    assert_eq!(title, "Well <A> & \"B\"");
+    let caption = doc
+        .descendants()
+        .find(|n| has_class(n, "caption"))
+        .and_then(|n| n.text())
+        .unwrap();
+    assert_eq!(caption, "H = p^2/2 - k*cos(q) with k = 1");
+}
+
+#[test]
+fn png_has_requested_size_and_marker_colours_at_equilibria() {
+    let (s, _) = pendulum_scene();
+    let size = FigureSize {
+        width: 1200,
+        height: 900,
+    };
+    let svg = to_svg(&s, size);
+    let pixmap = rasterize(&svg, 1.0).unwrap();
+    assert_eq!((pixmap.width(), pixmap.height()), (1200, 900));
+    // Not blank: many pixels differ from white.
+    let dark = pixmap
+        .pixels()
+        .iter()
+        .filter(|p| p.red() < 200 || p.green() < 200 || p.blue() < 200)
+        .count();
+    assert!(dark > 10_000, "only {dark} drawn pixels");
+    // The mark's centre in pixels: read it back from the SVG the PNG was made from.
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let view: Vec<f64> = doc
+        .root_element()
+        .attribute("viewBox")
+        .unwrap()
+        .split(' ')
+        .map(|v| v.parse().unwrap())
+        .collect();
+    let scale = 1200.0 / view[2];
+    for m in doc
+        .descendants()
+        .filter(|n| n.has_tag_name("g") && has_class(n, "equilibrium"))
+    {
+        let kind = match m.attribute("data-kind") {
+            Some("center") => EquilibriumKind::Center,
+            Some("saddle") => EquilibriumKind::Saddle,
+            _ => EquilibriumKind::Degenerate,
+        };
+        let (cx, cy) = marker_centre(&m);
+        let (px, py) = ((cx * scale).floor() as u32, (cy * scale).floor() as u32);
+        let p = pixmap.pixel(px, py).unwrap();
+        let want = marker_for(kind).colour;
+        let close = |a: u8, b: u8| (i32::from(a) - i32::from(b)).abs() <= 24;
+        assert!(
+            close(p.red(), want.0) && close(p.green(), want.1) && close(p.blue(), want.2),
+            "{kind:?} at ({px},{py}) is {:?}, want {want:?}",
+            (p.red(), p.green(), p.blue())
+        );
+    }
+}
+
+/// The centre of a mark group: its first circle's centre, or the midpoint of its first path.
+fn marker_centre(g: &roxmltree::Node) -> (f64, f64) {
+    if let Some(c) = g.children().find(|n| n.has_tag_name("circle")) {
+        let v = |a| c.attribute(a).unwrap().parse::<f64>().unwrap();
+        return (v("cx"), v("cy"));
+    }
+    let d = g
+        .children()
+        .find(|n| n.has_tag_name("path"))
+        .and_then(|n| n.attribute("d"))
+        .unwrap();
+    let nums: Vec<f64> = d
+        .split(|c: char| c == 'M' || c == 'L' || c == ' ' || c == 'Z')
+        .filter(|s| !s.is_empty())
+        .map(|s| s.parse().unwrap())
+        .collect();
+    // Cross: M x-h y-h L x+h y+h …; midpoint of the first stroke.
+    ((nums[0] + nums[2]) / 2.0, (nums[1] + nums[3]) / 2.0)
+}
+
+#[test]
+fn ticks_step_by_one_two_or_five_times_a_power_of_ten() {
+    // Steps 1, 2, 5 × 10^k (common practice for axis ticks).
+    let (t, step) = nice_ticks(-4.0, 4.0, 8);
+    assert_eq!(step, 1.0);
+    assert_eq!(t, vec![-4.0, -3.0, -2.0, -1.0, 0.0, 1.0, 2.0, 3.0, 4.0]);
+    let (t, step) = nice_ticks(0.0, 0.013, 6);
+    assert!((step - 0.002).abs() < 1e-15);
+    assert_eq!(t.len(), 7);
+    let (_, step) = nice_ticks(-1.0, 5.5, 5);
+    assert_eq!(step, 2.0);
+    let (_, step) = nice_ticks(10.0, 270.0, 5);
+    assert_eq!(step, 50.0);
+    assert_eq!(scene::tick_label(-0.5, 0.5), "\u{2212}0.5");
+    assert_eq!(scene::tick_label(2.0, 1.0), "2");
+}
+
+#[test]
+fn energy_scale_rises_in_lightness() {
+    // CIE 1976 L* from sRGB (IEC 61966-2-1 transfer curve, Rec. 709 luminance weights).
+    fn lightness(c: scene::Rgb) -> f64 {
+        let lin = |v: u8| {
+            let v = f64::from(v) / 255.0;
+            if v <= 0.04045 {
+                v / 12.92
+            } else {
+                ((v + 0.055) / 1.055).powf(2.4)
+            }
+        };
+        let y = 0.2126 * lin(c.0) + 0.7152 * lin(c.1) + 0.0722 * lin(c.2);
+        if y > 216.0 / 24389.0 {
+            116.0 * y.cbrt() - 16.0
+        } else {
+            y * 24389.0 / 27.0
+        }
+    }
+    let ls: Vec<f64> = (0..=50)
+        .map(|i| lightness(scene::energy_colour(i as f64 / 50.0)))
+        .collect();
+    for w in ls.windows(2) {
+        assert!(
+            w[1] >= w[0] - 0.3,
+            "lightness falls: {} then {}",
+            w[0],
+            w[1]
+        );
+    }
+    assert!(
+        ls[50] - ls[0] > 50.0,
+        "range of lightness {}..{}",
+        ls[0],
+        ls[50]
+    );
+}
+
+#[test]
+fn equilibria_csv_keeps_every_digit() {
+    let (sys, a) = pendulum();
+    let params = parameter_pairs(&sys);
+    let table = equilibria_table(&a.equilibria, &params);
+    let rows = parse_csv(&table.to_csv());
+    assert_eq!(rows[0][0], "q");
+    assert_eq!(rows[0].last().map(String::as_str), Some("k"));
+    assert_eq!(rows.len(), a.equilibria.len() + 1);
+    for (row, e) in rows[1..].iter().zip(&a.equilibria) {
+        // π and −π must come back bit for bit.
+        assert_eq!(row[0].parse::<f64>().unwrap().to_bits(), e.q.to_bits());
+        assert_eq!(row[2].parse::<f64>().unwrap().to_bits(), e.energy.to_bits());
+    }
+    let json: serde_json::Value = serde_json::from_str(&table.to_json()).unwrap();
+    assert_eq!(json[0]["q"].as_f64().unwrap(), -PI);
+    assert_eq!(json[0]["kind"], "saddle");
+    let _ = Cancel::never();
+}
+
+#[test]
+fn figure_size_parse_rejects_bad_text_with_a_reason() {
+    assert_eq!(
+        FigureSize::parse("1600x1200"),
+        Ok(FigureSize {
+            width: 1600,
+            height: 1200
+        })
+    );
+    assert!(
+        FigureSize::parse("1600")
+            .unwrap_err()
+            .contains("WIDTHxHEIGHT")
+    );
+    assert!(FigureSize::parse("0x100").unwrap_err().contains("width 0"));
+    assert!(
+        FigureSize::parse("800xabc")
+            .unwrap_err()
+            .contains("height 'abc'")
+    );
+}
+
+fn sessions_dir() -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("sessions")
+}
+
+fn session_files() -> Vec<std::path::PathBuf> {
+    let mut files: Vec<_> = std::fs::read_dir(sessions_dir())
+        .unwrap()
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|x| x == "json"))
+        .collect();
+    files.sort();
+    files
+}
+
+#[test]
+fn every_session_svg_matches_its_analysis() {
+    let files = session_files();
+    assert!(files.len() >= 3, "too few sessions: {files:?}");
+    for path in files {
+        let (session, _) = phasewright::session::load_file(&path).unwrap();
+        let sys = session.system().unwrap();
+        let a = phasewright::core::analysis::analyze(
+            &sys,
+            &session.view,
+            &session.analysis_config(),
+            &Cancel::never(),
+        );
+        let s = Scene::portrait(&sys, &a).with_title(&session.title);
+        let svg = to_svg(&s, FigureSize::default());
+        let doc =
+            roxmltree::Document::parse(&svg).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+        let levels = doc
+            .descendants()
+            .filter(|n| n.has_tag_name("path") && has_class(n, "level"))
+            .count();
+        let marks = doc
+            .descendants()
+            .filter(|n| n.has_tag_name("g") && has_class(n, "equilibrium"))
+            .count();
+        assert!(!a.curves.is_empty(), "{}: no level curves", path.display());
+        assert_eq!(levels, a.curves.len(), "{}", path.display());
+        assert_eq!(marks, a.equilibria.len(), "{}", path.display());
+    }
+}
+
+fn run(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn render_command_writes_every_session_as_png_of_the_requested_size() {
+    let dir = tempfile::tempdir().unwrap();
+    for path in session_files() {
+        let out = dir.path().join("figure.png");
+        let o = run(&[
+            "render",
+            path.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--size",
+            "640x480",
+        ]);
+        assert!(
+            o.status.success(),
+            "{}: {}",
+            path.display(),
+            String::from_utf8_lossy(&o.stderr)
+        );
+        let bytes = std::fs::read(&out).unwrap();
+        let pixmap = resvg::tiny_skia::Pixmap::decode_png(&bytes).unwrap();
+        assert_eq!((pixmap.width(), pixmap.height()), (640, 480));
+    }
+}
+
+#[test]
+fn render_command_refuses_bad_input_with_exit_2() {
+    let dir = tempfile::tempdir().unwrap();
+    let session = sessions_dir().join("biased-resonator.json");
+    let session = session.to_str().unwrap();
+    let svg = dir.path().join("f.svg");
+    let svg = svg.to_str().unwrap();
+    let cases: [(&[&str], &str); 4] = [
+        (&["render", session, "-o", "figure.gif"], ".svg or .png"),
+        (&["render", session, "-o", svg, "--size", "big"], "--size"),
+        (
+            &["render", session, "-o", svg, "--size", "10x10"],
+            "outside",
+        ),
+        (&["render", "no-such.json", "-o", svg], "no-such.json"),
+    ];
+    for (args, needle) in cases {
+        let o = run(args);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(needle), "{args:?}: {err}");
+    }
+    assert!(!dir.path().join("f.svg").exists());
+}
