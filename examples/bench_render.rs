@@ -1,13 +1,12 @@
-//! Time the figure pipeline on every example session: analysis, scene, SVG
-//! text and PNG rasterisation at 1600x1200, best of several runs each.
+//! Time the figure pipeline on every example session: analysis with the
+//! session's orbits, scene, SVG text and PNG rasterisation at 1600x1200,
+//! best of several runs each.
 //!
 //! Run: `cargo run --release --no-default-features --example bench_render`
 
 use phasewright::core::Cancel;
-use phasewright::core::analysis::analyze;
 use phasewright::render::png::rasterize;
-use phasewright::render::{FigureSize, to_svg};
-use phasewright::scene::Scene;
+use phasewright::render::{FigureSize, portrait_data, portrait_scene, to_svg};
 use std::path::Path;
 use std::time::{Duration, Instant};
 
@@ -55,7 +54,7 @@ fn main() {
     );
     println!(
         "{:<22} {:>8} {:>8} {:>8} {:>8} {:>8} {:>9}",
-        "session", "analyze", "scene", "svg", "png", "total", "svg bytes"
+        "session", "compute", "scene", "svg", "png", "total", "svg bytes"
     );
     for path in files {
         let name = path
@@ -76,9 +75,9 @@ fn main() {
                 continue;
             }
         };
-        let cfg = session.analysis_config();
-        let (t_analyze, a) = best(|| analyze(&sys, &session.view, &cfg, &Cancel::never()));
-        let (t_scene, scene) = best(|| Scene::portrait(&sys, &a).with_title(&session.title));
+        let (t_analyze, data) =
+            best(|| portrait_data(&session, &sys, &session.view, &Cancel::never()));
+        let (t_scene, scene) = best(|| portrait_scene(&session, &sys, &data));
         let (t_svg, svg) = best(|| to_svg(&scene, size));
         let (t_png, png) = best(|| rasterize(&svg, 1.0));
         if let Err(e) = png {

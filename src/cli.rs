@@ -6,7 +6,6 @@
 
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, analyze};
-use crate::core::equilibria::EquilibriumKind;
 use crate::core::formula::Formula;
 use crate::core::integrate::Method;
 use crate::core::orbit::{Orbit, OrbitRequest, StopReason, default_duration, integrate_orbit};
@@ -142,6 +141,20 @@ pub struct RenderArgs {
     /// Backbone: the center whose well to follow (default: the first center).
     #[arg(long, value_name = "Q,P", allow_hyphen_values = true)]
     pub center: Option<String>,
+    /// With -o FILE.csv or FILE.json: which table of the portrait to write.
+    #[arg(long, value_enum, default_value_t = PortraitTable::Equilibria)]
+    pub table: PortraitTable,
+}
+
+/// The tables behind a portrait.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum PortraitTable {
+    Equilibria,
+    Wells,
+    /// One row of measurements per seeded orbit.
+    Orbits,
+    /// Every stored sample of every seeded orbit.
+    Samples,
 }
 
 /// Bad input on the command line or in a file it names.
@@ -383,6 +396,15 @@ pub fn run_orbit(args: &OrbitArgs) -> Result<String, CliError> {
     }
 }
 
+/// The session's parameter values by name, for JSON output.
+fn parameter_map(r: &Resolved) -> serde_json::Map<String, serde_json::Value> {
+    r.session
+        .parameters
+        .iter()
+        .map(|p| (p.name.clone(), serde_json::Value::from(p.value)))
+        .collect()
+}
+
 /// The orbit's samples as CSV with a header.
 pub fn orbit_csv(orbit: &Orbit) -> String {
     let mut out = String::from("t,q,p,H\n");
@@ -394,12 +416,7 @@ pub fn orbit_csv(orbit: &Orbit) -> String {
 
 /// The orbit's measurements as JSON (samples left out; see `--csv`).
 pub fn orbit_json(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
-    let parameters: serde_json::Map<String, serde_json::Value> = r
-        .session
-        .parameters
-        .iter()
-        .map(|p| (p.name.clone(), serde_json::Value::from(p.value)))
-        .collect();
+    let parameters = parameter_map(r);
     let v = serde_json::json!({
         "formula": r.session.formula,
         "parameters": parameters,
@@ -478,20 +495,43 @@ pub fn orbit_table(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
     out
 }
 
-/// `render`: build the scene the view asks for and write it as SVG or PNG.
+/// `render`: build the scene the view asks for and write it as SVG or PNG,
+/// or write the numbers behind it as CSV or JSON.
 pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
-    use crate::render::{FigureFormat, FigureSize, figure_bytes};
-    let format = FigureFormat::from_path(&args.output).ok_or_else(|| {
-        CliError(format!(
-            "-o {}: the file name must end in .svg or .png",
+    use crate::render::{FigureFormat, FigureSize};
+    let ext = args
+        .output
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(str::to_ascii_lowercase);
+    let table = matches!(ext.as_deref(), Some("csv" | "json"));
+    let format = FigureFormat::from_path(&args.output);
+    if format.is_none() && !table {
+        return Err(CliError(format!(
+            "-o {}: the file name must end in .svg or .png (a figure) or .csv or .json (a table)",
             args.output.display()
-        ))
-    })?;
+        )));
+    }
     let size = FigureSize::parse(&args.size).map_err(|e| CliError(format!("--size: {e}")))?;
     let r = args.system.resolve()?;
     print_warnings(&r.warnings);
-    let scene = match args.view {
-        FigureView::Portrait => portrait_scene(&r),
+    let (bytes, summary) = match args.view {
+        FigureView::Portrait => {
+            let data =
+                crate::render::portrait_data(&r.session, &r.system, &r.window, &Cancel::never());
+            if table {
+                let t = portrait_table(&r, &data, args.table);
+                let text = if ext.as_deref() == Some("csv") {
+                    t.to_csv()
+                } else {
+                    t.to_json()
+                };
+                (text.into_bytes(), format!("{} rows", t.rows.len()))
+            } else {
+                let scene = crate::render::portrait_scene(&r.session, &r.system, &data);
+                figure(&scene, size, format)?
+            }
+        }
         FigureView::Diagram | FigureView::Backbone => {
             return Err(CliError(format!(
                 "--view {}: this figure is not available yet",
@@ -502,33 +542,52 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
             )));
         }
     };
-    let bytes = figure_bytes(&scene, size, format).map_err(|e| CliError(e.to_string()))?;
     session::write_atomic(&args.output, |w| w.write_all(&bytes))
         .map_err(|e| CliError(e.to_string()))?;
-    Ok(format!(
-        "wrote {} ({}x{} px, {} curves, {} marks)",
-        args.output.display(),
-        size.width,
-        size.height,
-        scene.curves.len(),
-        scene.marks.len()
+    Ok(format!("wrote {} ({summary})", args.output.display()))
+}
+
+/// The bytes of a figure and a one-line summary of it.
+fn figure(
+    scene: &crate::scene::Scene,
+    size: crate::render::FigureSize,
+    format: Option<crate::render::FigureFormat>,
+) -> Result<(Vec<u8>, String), CliError> {
+    let format = format.unwrap_or(crate::render::FigureFormat::Svg);
+    let bytes =
+        crate::render::figure_bytes(scene, size, format).map_err(|e| CliError(e.to_string()))?;
+    Ok((
+        bytes,
+        format!(
+            "{}x{} px, {} curves, {} marks",
+            size.width,
+            size.height,
+            scene.curves.len(),
+            scene.marks.len()
+        ),
     ))
 }
 
-/// The phase portrait of a resolved session: level curves, equilibria, orbits, the session's title.
-pub fn portrait_scene(r: &Resolved) -> crate::scene::Scene {
-    crate::render::session_portrait(&r.session, &r.system, &r.window, &Cancel::never())
+/// The table of a portrait that `--table` names.
+fn portrait_table(
+    r: &Resolved,
+    data: &crate::render::PortraitData,
+    which: PortraitTable,
+) -> crate::render::table::Table {
+    use crate::render::table;
+    let params = table::parameter_pairs(&r.system);
+    match which {
+        PortraitTable::Equilibria => table::equilibria_table(&data.analysis.equilibria, &params),
+        PortraitTable::Wells => table::wells_table(&data.analysis.wells, &params),
+        PortraitTable::Orbits => table::orbit_measurements_table(&data.orbits, &params),
+        PortraitTable::Samples => table::orbits_samples_table(&data.orbits, &params),
+    }
 }
 
 /// The analysis as JSON: formula, parameters, window, equilibria, wells,
 /// connections and diagnostics.
 pub fn analysis_json(r: &Resolved, a: &Analysis) -> String {
-    let parameters: serde_json::Map<String, serde_json::Value> = r
-        .session
-        .parameters
-        .iter()
-        .map(|p| (p.name.clone(), serde_json::Value::from(p.value)))
-        .collect();
+    let parameters = parameter_map(r);
     #[derive(serde::Serialize)]
     struct Out<'a> {
         formula: &'a str,
@@ -572,14 +631,6 @@ fn complex(re: f64, im: f64) -> String {
     } else {
         let sign = if im < 0.0 { '-' } else { '+' };
         format!("{}{sign}{}i", num(re), num(im.abs()))
-    }
-}
-
-fn kind_name(k: EquilibriumKind) -> &'static str {
-    match k {
-        EquilibriumKind::Center => "center",
-        EquilibriumKind::Saddle => "saddle",
-        EquilibriumKind::Degenerate => "degenerate",
     }
 }
 
@@ -637,7 +688,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 num(e.q),
                 num(e.p),
                 num(e.energy),
-                kind_name(e.kind).to_string(),
+                crate::scene::kind_name(e.kind).to_string(),
                 format!(
                     "{}, {}",
                     complex(e.eigenvalues[0][0], e.eigenvalues[0][1]),

@@ -431,3 +431,63 @@ fn render_command_refuses_bad_input_with_exit_2() {
     }
     assert!(!dir.path().join("f.svg").exists());
 }
+
+#[test]
+fn render_command_csv_holds_the_analysis_values_bit_for_bit() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = sessions_dir().join("biased-resonator.json");
+    let csv = dir.path().join("equilibria.csv");
+    let o = run(&[
+        "render",
+        path.to_str().unwrap(),
+        "-o",
+        csv.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let rows = parse_csv(&std::fs::read_to_string(&csv).unwrap());
+    let (session, _) = phasewright::session::load_file(&path).unwrap();
+    let sys = session.system().unwrap();
+    let a = phasewright::core::analysis::analyze(
+        &sys,
+        &session.view,
+        &session.analysis_config(),
+        &Cancel::never(),
+    );
+    // The session's notes: a saddle-node has made a second well, so three
+    // equilibria (two centers, one saddle) lie in view.
+    assert_eq!(a.equilibria.len(), 3);
+    assert_eq!(rows.len(), a.equilibria.len() + 1);
+    let header = &rows[0];
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    for (row, e) in rows[1..].iter().zip(&a.equilibria) {
+        for (name, v) in [("q", e.q), ("p", e.p), ("H", e.energy)] {
+            let read: f64 = row[col(name)].parse().unwrap();
+            assert_eq!(
+                read.to_bits(),
+                v.to_bits(),
+                "{name}: {} vs {v:?}",
+                row[col(name)]
+            );
+        }
+        assert_eq!(row[col("b")], "2.3");
+    }
+    let json = dir.path().join("wells.json");
+    let o = run(&[
+        "render",
+        path.to_str().unwrap(),
+        "-o",
+        json.to_str().unwrap(),
+        "--table",
+        "wells",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    assert_eq!(v.as_array().unwrap().len(), a.wells.len());
+    for (row, w) in v.as_array().unwrap().iter().zip(&a.wells) {
+        assert_eq!(
+            row["energy"].as_f64().unwrap().to_bits(),
+            w.energy.to_bits()
+        );
+    }
+}

@@ -9,7 +9,7 @@ pub use png::{PngError, svg_to_png};
 pub use svg::{FigureSize, to_svg};
 
 use crate::core::Cancel;
-use crate::core::analysis::analyze;
+use crate::core::analysis::{Analysis, analyze};
 use crate::core::integrate::Method;
 use crate::core::orbit::{Orbit, OrbitRequest, integrate_orbit};
 use crate::core::system::System;
@@ -26,26 +26,58 @@ pub fn orbit_request(seed: &SeededOrbit, view: &Window) -> OrbitRequest {
     req
 }
 
-/// The phase portrait of a session: its analysis in `window` (usually the
-/// session's view), its title, and its seeded orbits with their colours.
+/// What a session's portrait is made from: the analysis of its window and
+/// its seeded orbits, integrated (an orbit whose request is invalid is skipped).
+#[derive(Clone, Debug)]
+pub struct PortraitData {
+    pub analysis: Analysis,
+    pub orbits: Vec<Orbit>,
+    /// The session's colour of each orbit, if it has one.
+    pub colours: Vec<Option<Rgb>>,
+}
+
+/// Analyse a session in `window` (usually its view) and integrate its orbits.
+pub fn portrait_data(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> PortraitData {
+    let analysis = analyze(sys, window, &session.analysis_config(), cancel);
+    let mut orbits = Vec::new();
+    let mut colours = Vec::new();
+    for seed in &session.orbits {
+        let req = orbit_request(seed, window);
+        if req.validate().is_err() {
+            continue;
+        }
+        orbits.push(integrate_orbit(sys, &req, cancel));
+        colours.push(seed.colour.as_deref().and_then(Rgb::parse_hex));
+    }
+    PortraitData {
+        analysis,
+        orbits,
+        colours,
+    }
+}
+
+/// The portrait scene of computed data: level curves, equilibria, orbits, the session's title.
+pub fn portrait_scene(session: &Session, sys: &System, data: &PortraitData) -> Scene {
+    let mut scene = Scene::portrait(sys, &data.analysis).with_title(&session.title);
+    for (orbit, colour) in data.orbits.iter().zip(&data.colours) {
+        scene.add_orbit(&orbit_points(orbit), *colour);
+    }
+    scene
+}
+
+/// The phase portrait of a session in one call (`portrait_data` then `portrait_scene`).
 pub fn session_portrait(
     session: &Session,
     sys: &System,
     window: &Window,
     cancel: &Cancel,
 ) -> Scene {
-    let a = analyze(sys, window, &session.analysis_config(), cancel);
-    let mut scene = Scene::portrait(sys, &a).with_title(&session.title);
-    for seed in &session.orbits {
-        let req = orbit_request(seed, window);
-        if req.validate().is_err() {
-            continue;
-        }
-        let orbit = integrate_orbit(sys, &req, cancel);
-        let colour = seed.colour.as_deref().and_then(Rgb::parse_hex);
-        scene.add_orbit(&orbit_points(&orbit), colour);
-    }
-    scene
+    portrait_scene(session, sys, &portrait_data(session, sys, window, cancel))
 }
 
 /// The [q, p] points of an orbit in time order.

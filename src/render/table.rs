@@ -260,16 +260,25 @@ pub fn wells_table(wells: &[Well], params: &[(String, f64)]) -> Table {
     t.with_parameters(params)
 }
 
-/// The samples of one orbit: t, q, p and H at each stored point.
-pub fn orbit_samples_table(orbit: &Orbit, params: &[(String, f64)]) -> Table {
+/// The samples of several orbits, each row tagged with its orbit's index.
+pub fn orbits_samples_table(orbits: &[Orbit], params: &[(String, f64)]) -> Table {
     let mut t = Table::new(vec![
+        Column::plain("orbit"),
         Column::new("t", "t [time]"),
         Column::plain("q"),
         Column::plain("p"),
         Column::new("h", "H"),
     ]);
-    for s in &orbit.samples {
-        t.push(vec![s.t.into(), s.q.into(), s.p.into(), s.h.into()]);
+    for (i, o) in orbits.iter().enumerate() {
+        for s in &o.samples {
+            t.push(vec![
+                i.into(),
+                s.t.into(),
+                s.q.into(),
+                s.p.into(),
+                s.h.into(),
+            ]);
+        }
     }
     t.with_parameters(params)
 }
