@@ -171,10 +171,12 @@ pub enum CurveRole {
     Branch { kind: EquilibriumKind },
     /// A backbone (period, frequency or action against energy).
     Backbone,
+    /// A reference line (an escape energy, a sweep's end).
+    Guide,
 }
 
 impl CurveRole {
-    /// The class name used in figures: `level`, `separatrix`, `orbit`, `branch`, `backbone`.
+    /// The class name used in figures: `level`, `separatrix`, `orbit`, `branch`, `backbone`, `guide`.
     pub fn class(&self) -> &'static str {
         match self {
             CurveRole::Level {
@@ -186,6 +188,7 @@ impl CurveRole {
             CurveRole::Orbit => "orbit",
             CurveRole::Branch { .. } => "branch",
             CurveRole::Backbone => "backbone",
+            CurveRole::Guide => "guide",
         }
     }
 }

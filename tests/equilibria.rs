@@ -50,7 +50,7 @@ fn assert_kinds(found: &[Equilibrium], expected: &[(f64, f64, EquilibriumKind)])
     );
     for (e, &(q, p, k)) in found.iter().zip(expected) {
         assert!(
-            (e.q - q).abs() < 1e-7 && (e.p - p).abs() < 1e-7 && e.kind == k,
+            (e.q - q).abs() < 1e-9 && (e.p - p).abs() < 1e-9 && e.kind == k,
             "found {got:?}, expected {expected:?}"
         );
     }
@@ -566,4 +566,39 @@ fn equilibria_off_the_momentum_axis_are_found_and_sorted() {
         &[(0.0, -1.0, Center), (0.0, 0.0, Saddle), (0.0, 1.0, Center)],
     );
     assert_close(found[0].omega.unwrap_or(f64::NAN), 2f64.sqrt(), 1e-12, "ω");
+}
+
+#[test]
+fn close_pair_just_past_the_fold_is_resolved_within_one_seed_cell() {
+    // H = p²/2 + q³/3 − μq with μ = r²: center at q = r, saddle at −r
+    // (closed form), both inside one seed cell of width ≈ 0.08.
+    for r in [1e-2, 1e-3, 1e-4] {
+        for (qmin, qmax) in [(-2.0, 2.0), (-1.98, 2.03), (-2.05, 1.93), (-1.0, 3.0)] {
+            let s = sys(SADDLE_NODE, &[("mu", r * r)]);
+            let found = find(&s, &win(qmin, qmax, -1.5, 1.5));
+            assert_kinds(
+                &found,
+                &[
+                    (-r, 0.0, EquilibriumKind::Saddle),
+                    (r, 0.0, EquilibriumKind::Center),
+                ],
+            );
+        }
+    }
+}
+
+#[test]
+fn close_triple_just_past_the_pitchfork_is_resolved() {
+    // H = p²/2 + q⁴/4 − μq²/2 with μ = r²: saddle at 0, centers at ±r (closed form).
+    use EquilibriumKind::*;
+    for r in [1e-2, 1e-3, 1e-4] {
+        for (qmin, qmax) in [(-2.0, 2.0), (-1.98, 2.03), (-2.05, 1.93), (-1.0, 3.0)] {
+            let s = sys(PITCHFORK, &[("mu", r * r)]);
+            let found = find(&s, &win(qmin, qmax, -1.5, 1.5));
+            assert_kinds(
+                &found,
+                &[(-r, 0.0, Center), (0.0, 0.0, Saddle), (r, 0.0, Center)],
+            );
+        }
+    }
 }

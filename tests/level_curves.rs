@@ -1,25 +1,13 @@
 //! Level curves against closed forms: circles of the harmonic oscillator,
 //! the saddle-cell rule, blank cells where H is undefined.
 
+mod common;
+use common::{system, window};
+
 use phasewright::core::contour::{
     Grid, Level, LevelCurve, even_levels, level_curves, refine_curve, sample_grid,
 };
 use phasewright::core::system::System;
-use phasewright::core::window::Window;
-
-fn system(src: &str) -> System {
-    match System::from_source(src, &[]) {
-        Ok(s) => s,
-        Err(e) => panic!("test formula {src} does not compile: {e}"),
-    }
-}
-
-fn window(qmin: f64, qmax: f64, pmin: f64, pmax: f64) -> Window {
-    match Window::new(qmin, qmax, pmin, pmax) {
-        Ok(w) => w,
-        Err(e) => panic!("test window: {e}"),
-    }
-}
 
 fn level(value: f64) -> Level {
     Level {

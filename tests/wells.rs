@@ -1,54 +1,23 @@
 //! Escape energies and separatrix connections against closed forms of the
 //! pendulum, the symmetric double well and the cubic well.
 //!
-//! The equilibria are built here from their known positions (so these tests do
-//! not depend on the equilibrium search); their kind comes from the sign of the
-//! Hessian determinant (common practice).
+//! The equilibria are placed at their known positions (so these tests do not
+//! depend on the equilibrium search) and classified by `equilibria::classify`.
+
+mod common;
+use common::{system, window};
 
 use phasewright::core::analysis::levels_to_draw;
 use phasewright::core::contour::{Grid, sample_grid};
-use phasewright::core::equilibria::{Equilibrium, EquilibriumKind};
+use phasewright::core::equilibria::{Equilibrium, EquilibriumKind, classify};
 use phasewright::core::system::System;
 use phasewright::core::wells::{Connection, ConnectionKind, Well, wells_and_connections};
 use phasewright::core::window::Window;
 use std::f64::consts::PI;
 
-fn system(src: &str) -> System {
-    match System::from_source(src, &[]) {
-        Ok(s) => s,
-        Err(e) => panic!("test formula {src} does not compile: {e}"),
-    }
-}
-
-fn window(qmin: f64, qmax: f64, pmin: f64, pmax: f64) -> Window {
-    match Window::new(qmin, qmax, pmin, pmax) {
-        Ok(w) => w,
-        Err(e) => panic!("test window: {e}"),
-    }
-}
-
-/// An equilibrium at a known critical point; directions left for the wells code to find.
+/// An equilibrium at a known critical point, classified by the project's classifier.
 fn equilibrium(sys: &System, q: f64, p: f64) -> Equilibrium {
-    let j = sys.jet(q, p);
-    let det = j.hessian_det();
-    Equilibrium {
-        q,
-        p,
-        energy: j.h,
-        kind: if det > 0.0 {
-            EquilibriumKind::Center
-        } else {
-            EquilibriumKind::Saddle
-        },
-        eigenvalues: [[0.0, 0.0], [0.0, 0.0]],
-        hessian_det: det,
-        omega: None,
-        small_period: None,
-        lambda: None,
-        stable_dir: None,
-        unstable_dir: None,
-        degenerate: None,
-    }
+    classify(sys, q, p, &window(-100.0, 100.0, -100.0, 100.0))
 }
 
 struct Case {
@@ -74,6 +43,23 @@ fn run(src: &str, w: Window, points: &[(f64, f64)], n: usize) -> Case {
     }
 }
 
+/// The pendulum H = p²/2 − cos q on [−7, 7] × [−3, 3] with its equilibria at
+/// multiples of π (closed form: H_q = sin q = 0, H_p = p = 0).
+fn pendulum() -> Case {
+    run(
+        "p^2/2 - cos(q)",
+        window(-7.0, 7.0, -3.0, 3.0),
+        &[
+            (-2.0 * PI, 0.0),
+            (-PI, 0.0),
+            (0.0, 0.0),
+            (PI, 0.0),
+            (2.0 * PI, 0.0),
+        ],
+        256,
+    )
+}
+
 fn well_at(case: &Case, index: usize) -> &Well {
     match case.wells.iter().find(|w| w.center == index) {
         Some(w) => w,
@@ -85,18 +71,7 @@ fn well_at(case: &Case, index: usize) -> &Well {
 fn pendulum_center_escapes_at_one_with_depth_two() {
     // H = p²/2 − cos q: centers at 0, ±2π (H = −1), saddles at ±π (H = 1); the
     // well at 0 is bounded by the separatrix level 1, depth 2 (closed form).
-    let case = run(
-        "p^2/2 - cos(q)",
-        window(-7.0, 7.0, -3.0, 3.0),
-        &[
-            (-2.0 * PI, 0.0),
-            (-PI, 0.0),
-            (0.0, 0.0),
-            (PI, 0.0),
-            (2.0 * PI, 0.0),
-        ],
-        256,
-    );
+    let case = pendulum();
     assert_eq!(case.wells.len(), 3, "{:?}", case.wells);
     let w = well_at(&case, 2);
     assert_eq!(w.escape_energy, Some(1.0));
@@ -117,18 +92,7 @@ fn pendulum_center_escapes_at_one_with_depth_two() {
 fn pendulum_saddles_are_joined_by_two_heteroclinic_arcs_on_the_closed_form() {
     // The pendulum separatrix is p = ±2 cos(q/2) between q = −π and π (closed form,
     // from H = 1: p² = 2(1 + cos q) = 4 cos²(q/2)); outer branches leave the window.
-    let case = run(
-        "p^2/2 - cos(q)",
-        window(-7.0, 7.0, -3.0, 3.0),
-        &[
-            (-2.0 * PI, 0.0),
-            (-PI, 0.0),
-            (0.0, 0.0),
-            (PI, 0.0),
-            (2.0 * PI, 0.0),
-        ],
-        256,
-    );
+    let case = pendulum();
     assert_eq!(case.connections.len(), 2, "{:?}", case.connections);
     let mut signs = Vec::new();
     for c in &case.connections {
@@ -307,6 +271,18 @@ fn analysis_of_the_pendulum_finds_its_wells_and_separatrix() {
             .iter()
             .all(|c| c.kind == ConnectionKind::Heteroclinic)
     );
+    // The wells at ±2π are cut by the edges q = ±7 (−cos 7 < 1): one note for both.
+    let notes: Vec<_> = a
+        .diagnostics
+        .iter()
+        .filter(|d| d.message.contains("reaches the window edge"))
+        .collect();
+    assert_eq!(notes.len(), 1, "{:?}", a.diagnostics);
+    assert!(
+        notes[0].message.contains("and 1 more well"),
+        "{}",
+        notes[0].message
+    );
     let seps: Vec<_> = a.curves.iter().filter(|c| c.is_separatrix).collect();
     assert!(!seps.is_empty());
     for c in seps {
@@ -336,5 +312,29 @@ fn analysis_of_the_double_well_finds_a_figure_eight() {
         a.connections
             .iter()
             .all(|c| c.kind == ConnectionKind::Homoclinic)
+    );
+}
+
+#[test]
+fn saddle_directions_are_found_when_not_given() {
+    // Without eigen-directions on the saddle the wells code takes them from the
+    // Jacobian; the double-well figure-eight (closed form as above) is found alike.
+    let sys = system("p^2/2 + q^4/4 - q^2/2");
+    let w = window(-2.0, 2.0, -1.5, 1.5);
+    let eqs: Vec<Equilibrium> = [(-1.0, 0.0), (0.0, 0.0), (1.0, 0.0)]
+        .iter()
+        .map(|&(q, p)| Equilibrium {
+            stable_dir: None,
+            unstable_dir: None,
+            ..equilibrium(&sys, q, p)
+        })
+        .collect();
+    let grid = sample_grid(&sys, &w, 128, 128);
+    let (_, connections) = wells_and_connections(&sys, &w, &grid, &eqs, &[]);
+    assert_eq!(connections.len(), 2, "{connections:?}");
+    assert!(
+        connections
+            .iter()
+            .all(|c| c.kind == ConnectionKind::Homoclinic && c.from == 1)
     );
 }

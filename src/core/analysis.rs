@@ -12,6 +12,9 @@ use super::{Cancel, Diagnostic};
 /// Fewest grid points per side an analysis uses.
 pub const MIN_ANALYSIS_GRID: usize = 16;
 
+/// Most evenly spaced levels an analysis draws.
+pub const MAX_ANALYSIS_LEVELS: usize = 1000;
+
 /// H counts as constant in view when its spread over the grid is below this
 /// fraction of its magnitude (or of 1 when H is near zero).
 const CONSTANT_SPREAD_REL: f64 = 1e-12;
@@ -67,6 +70,13 @@ pub struct Analysis {
 /// grid size out of range) come back as diagnostics.
 pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Cancel) -> Analysis {
     let mut diagnostics = Vec::new();
+    let nlevels = cfg.levels.min(MAX_ANALYSIS_LEVELS);
+    if nlevels != cfg.levels {
+        diagnostics.push(Diagnostic::warning(format!(
+            "{} levels asked for; drawing {nlevels}",
+            cfg.levels
+        )));
+    }
     let n = cfg.grid.clamp(MIN_ANALYSIS_GRID, MAX_GRID_SIDE);
     if n != cfg.grid {
         diagnostics.push(Diagnostic::warning(format!(
@@ -106,7 +116,7 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
         return out;
     }
 
-    let levels = levels_to_draw(&out.grid, cfg.levels, &out.equilibria);
+    let levels = levels_to_draw(&out.grid, nlevels, &out.equilibria);
     out.curves = super::contour::level_curves(&out.grid, &levels);
     if stop(cancel, &mut out) {
         return out;
@@ -125,20 +135,35 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
 
     let (wells, connections) =
         super::wells::wells_and_connections(sys, window, &out.grid, &out.equilibria, &out.curves);
-    for w in &wells {
-        if let (Some(edge), Some(escape)) = (w.edge_energy, w.escape_energy) {
-            out.diagnostics.push(Diagnostic::info(format!(
-                "the well around the center at (q = {:.6}, p = {:.6}) reaches the window edge \
-                 at H = {edge:.6}, below its escape energy {escape:.6}; widen the view to see \
-                 the whole well",
-                w.q, w.p
-            )));
-        }
+    if let Some(d) = edge_diagnostic(&wells) {
+        out.diagnostics.push(d);
     }
     out.wells = wells;
     out.connections = connections;
     stop(cancel, &mut out);
     out
+}
+
+/// One note for all wells whose region reaches the window edge below their
+/// escape energy (naming the first), so a wide lattice does not flood the list.
+fn edge_diagnostic(wells: &[Well]) -> Option<Diagnostic> {
+    let cut: Vec<&Well> = wells
+        .iter()
+        .filter(|w| w.edge_energy.is_some() && w.escape_energy.is_some())
+        .collect();
+    let first = cut.first()?;
+    let (edge, escape) = (first.edge_energy?, first.escape_energy?);
+    let others = match cut.len() {
+        1 => String::new(),
+        2 => " (and 1 more well)".to_string(),
+        n => format!(" (and {} more wells)", n - 1),
+    };
+    Some(Diagnostic::info(format!(
+        "the well around the center at (q = {:.6}, p = {:.6}) reaches the window edge at \
+         H = {edge:.6}, below its escape energy {escape:.6}{others}; widen the view to see \
+         whole wells",
+        first.q, first.p
+    )))
 }
 
 fn stop(cancel: &Cancel, out: &mut Analysis) -> bool {

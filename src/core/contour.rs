@@ -140,17 +140,10 @@ pub fn sample_grid(sys: &System, window: &Window, nq: usize, np: usize) -> Grid 
     for (j, row) in values.chunks_exact_mut(nq).enumerate() {
         let p = lattice(window.pmin, window.pmax, j, np);
         program.eval_row(&qs, p, row);
-        let mut bad = 0usize;
-        for v in row.iter_mut() {
-            if !v.is_finite() {
-                *v = f64::NAN;
-                bad += 1;
-            }
-        }
+        let (bad, row_lo, row_hi) = scan_row(row);
         nonfinite += bad;
-        // f64::min/max skip the NaN just stored.
-        lo = row.iter().fold(lo, |a, &b| a.min(b));
-        hi = row.iter().fold(hi, |a, &b| a.max(b));
+        lo = lo.min(row_lo);
+        hi = hi.max(row_hi);
     }
     let total = nq * np;
     Grid {
@@ -161,6 +154,35 @@ pub fn sample_grid(sys: &System, window: &Window, nq: usize, np: usize) -> Grid 
         nonfinite_fraction: nonfinite as f64 / total as f64,
         range: (nonfinite < total).then_some((lo, hi)),
     }
+}
+
+/// Store infinities as NaN; return the count of non-finite samples and the
+/// finite range of the row (lanes of four so the loop vectorises).
+fn scan_row(row: &mut [f64]) -> (usize, f64, f64) {
+    let mut bad = [0usize; 4];
+    let mut lo = [f64::INFINITY; 4];
+    let mut hi = [f64::NEG_INFINITY; 4];
+    let mut chunks = row.chunks_exact_mut(4);
+    for c in &mut chunks {
+        for k in 0..4 {
+            let v = if c[k].is_infinite() { f64::NAN } else { c[k] };
+            c[k] = v;
+            bad[k] += v.is_nan() as usize;
+            // Comparisons with NaN are false, so NaN never enters the range.
+            lo[k] = if v < lo[k] { v } else { lo[k] };
+            hi[k] = if v > hi[k] { v } else { hi[k] };
+        }
+    }
+    for v in chunks.into_remainder() {
+        if v.is_infinite() {
+            *v = f64::NAN;
+        }
+        bad[0] += v.is_nan() as usize;
+        lo[0] = if *v < lo[0] { *v } else { lo[0] };
+        hi[0] = if *v > hi[0] { *v } else { hi[0] };
+    }
+    let fold = |a: [f64; 4], f: fn(f64, f64) -> f64| f(f(a[0], a[1]), f(a[2], a[3]));
+    (bad.iter().sum(), fold(lo, f64::min), fold(hi, f64::max))
 }
 
 /// `n` levels evenly spaced strictly inside the grid's range: the range cut
@@ -227,35 +249,45 @@ impl Buckets {
     fn build(grid: &Grid, levels: &[f64]) -> Buckets {
         let (nq, np) = (grid.nq, grid.np);
         let cq = nq - 1;
-        let mut band = vec![0u32; nq * np];
-        let mut last = 0usize;
-        for (b, &v) in band.iter_mut().zip(&grid.values) {
-            if v.is_nan() {
-                *b = BLANK;
-                continue;
+        // Sentinels at both ends keep the band steps inside the array.
+        let mut padded = Vec::with_capacity(levels.len() + 2);
+        padded.push(f64::NEG_INFINITY);
+        padded.extend_from_slice(levels);
+        padded.push(f64::INFINITY);
+        let mut last = 1usize;
+        let mut band_row = |row: &[f64], out: &mut [u32]| {
+            for (b, &v) in out.iter_mut().zip(row) {
+                if v.is_nan() {
+                    *b = BLANK;
+                    continue;
+                }
+                // Neighbouring samples share a band or sit in the next one: step from
+                // the last band instead of searching (padded[last − 1] ≤ v < padded[last]).
+                while last <= levels.len() && padded[last] <= v {
+                    last += 1;
+                }
+                while last > 1 && padded[last - 1] > v {
+                    last -= 1;
+                }
+                *b = (last - 1) as u32;
             }
-            // Neighbouring samples share a band or sit in the next one: step from
-            // the last band instead of searching.
-            while last < levels.len() && levels[last] <= v {
-                last += 1;
-            }
-            while last > 0 && levels[last - 1] > v {
-                last -= 1;
-            }
-            *b = last as u32;
-        }
+        };
         // Cells that contain at least one level, with their level index range.
         let mut crossed: Vec<(u32, u32, u32)> = Vec::new();
         let mut start = vec![0usize; levels.len() + 1];
+        let (mut lo_row, mut hi_row) = (vec![0u32; cq], vec![0u32; cq]);
+        let (mut r0, mut r1) = (vec![0u32; nq], vec![0u32; nq]);
+        band_row(&grid.values[..nq], &mut r0);
         for j in 0..np - 1 {
-            let (r0, r1) = (
-                &band[j * nq..(j + 1) * nq],
-                &band[(j + 1) * nq..(j + 2) * nq],
-            );
-            for i in 0..cq {
-                let k = [r0[i], r0[i + 1], r1[i], r1[i + 1]];
-                let hi = k[0].max(k[1]).max(k[2]).max(k[3]);
-                let lo = k[0].min(k[1]).min(k[2]).min(k[3]);
+            band_row(&grid.values[(j + 1) * nq..(j + 2) * nq], &mut r1);
+            let corners = r0.iter().zip(&r0[1..]).zip(r1.iter().zip(&r1[1..]));
+            for ((lo, hi), ((a, b), (c, d))) in
+                lo_row.iter_mut().zip(hi_row.iter_mut()).zip(corners)
+            {
+                *lo = (*a).min(*b).min(*c).min(*d);
+                *hi = (*a).max(*b).max(*c).max(*d);
+            }
+            for (i, (&lo, &hi)) in lo_row.iter().zip(&hi_row).enumerate() {
                 if lo < hi && hi != BLANK {
                     crossed.push(((j * cq + i) as u32, lo, hi));
                     for n in &mut start[lo as usize + 1..hi as usize + 1] {
@@ -263,6 +295,7 @@ impl Buckets {
                     }
                 }
             }
+            std::mem::swap(&mut r0, &mut r1);
         }
         for k in 1..start.len() {
             start[k] += start[k - 1];

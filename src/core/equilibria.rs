@@ -14,14 +14,19 @@
 //! degenerate equilibrium (H ∝ q³ or q⁴ along one direction) Newton converges
 //! only linearly, so convergence is judged by the step length, and a point is
 //! accepted by a residual test scaled to the spread of H over the window.
-//! All lengths are measured in units of the window's sides, so the search does
-//! not depend on how q and p are scaled.
+//! Two or three equilibria inside one seed cell (just past a saddle-node or a
+//! pitchfork) are separated by deflation: around each new root whose softest
+//! curvature may vanish nearby, Newton is rerun on ∇H divided by the distance
+//! to the roots already known. All lengths are measured in units of the
+//! window's sides, so the search does not depend on how q and p are scaled.
 //!
 //! Properties: finds every equilibrium whose basin contains a seed; typical
 //! cost is one jet per lattice node plus a few per candidate.
 //!
 //! Reference: J. Nocedal and S. J. Wright, *Numerical Optimization*, 2nd ed.,
-//! Springer 2006, ch. 3 (line search) and ch. 10 (Levenberg–Marquardt).
+//! Springer 2006, ch. 3 (line search) and ch. 10 (Levenberg–Marquardt);
+//! P. E. Farrell, Á. Birkisson, S. W. Funke, SIAM J. Sci. Comput. 37 (2015)
+//! A2026 (deflation).
 //!
 //! # Classification
 //!
@@ -32,9 +37,11 @@
 //! linearisation does not decide and H is sampled on small circles to see
 //! whether it has a strict local extremum there.
 
+use super::formula::{FIRST_PARAM_SLOT, SLOT_P, SLOT_Q};
 use super::system::{Jet, System};
 use super::window::Window;
 use super::{Cancel, Diagnostic};
+use num_dual::Dual3_64;
 
 /// The type of an equilibrium.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
@@ -111,6 +118,10 @@ pub const MAX_SEEDS: usize = 2048;
 pub const ACCEPT_REL: f64 = 1e-9;
 /// Newton has converged when a step is shorter than this fraction of the window.
 pub const STEP_CONVERGED_REL: f64 = 1e-13;
+/// A point that Newton steps did not converge to (a minimum of |∇H| reached
+/// by other steps, which may be a near miss) is accepted only when |∇H| is
+/// below this fraction of the spread of H: rounding level.
+pub const ROUNDING_ACCEPT_REL: f64 = 1e-12;
 /// A point that meets the residual test after the last allowed iteration is
 /// still accepted when its last step was shorter than this fraction of the window.
 pub const STEP_ACCEPT_REL: f64 = 1e-6;
@@ -139,6 +150,19 @@ const MULTIPLE_RATIO_MIN: f64 = 0.4;
 const MULTIPLE_RATIO_MAX: f64 = 0.97;
 /// How much two successive ratios may differ to count as steady.
 const MULTIPLE_RATIO_DRIFT: f64 = 0.02;
+/// Most further roots that deflated searches add around one seed's root.
+const DEFLATION_EXTRAS: usize = 4;
+/// Distances (in seed cells) along a root's softest direction from which
+/// deflated searches start.
+const DEFLATION_OFFSETS_CELLS: [f64; 2] = [0.5, 0.1];
+/// How far (in seed cells) a deflated search may wander from its seed.
+const DEFLATION_REACH_CELLS: f64 = 2.0;
+/// Newton iterations allowed per deflated search.
+const DEFLATED_MAX_ITER: usize = 30;
+/// Shift of the deflation operator (in squared window units), so that it tends to one far away.
+const DEFLATION_SHIFT: f64 = 1.0;
+/// Soft curvature below this fraction of the Hessian's magnitude is zero.
+const FLAT_CURVATURE_REL: f64 = 1e-12;
 /// Backtracking halvings tried along a Newton direction.
 const LINE_SEARCH_HALVINGS: usize = 12;
 /// Armijo constant of the line search.
@@ -212,7 +236,7 @@ fn polish(
     sys: &System,
     s: Scale,
     escape: &Window,
-    accept: f64,
+    tol: Tol,
     max_iter: usize,
     q0: f64,
     p0: f64,
@@ -220,16 +244,18 @@ fn polish(
     let (mut q, mut p) = (q0, p0);
     let mut cur = local_at(sys, s, q, p)?;
     let mut last_step = f64::INFINITY;
-    let mut settled = false;
+    let mut end = End::Exhausted;
+    let mut by_newton = false;
     let mut lm = 0.0;
     let mut prev_len = f64::INFINITY;
     let mut prev_ratio = f64::NAN;
     for _ in 0..max_iter {
         if cur.merit == 0.0 {
-            settled = true;
+            end = End::Exact;
             break;
         }
         let mut next: Option<(f64, f64, Local, f64)> = None;
+        by_newton = true;
         // Newton direction, backtracking on |∇H|²; at a root of multiplicity m
         // successive steps shrink by (m − 1)/m, and m times the step is tried first
         let newton = solve2(cur.h, [-cur.g[0], -cur.g[1]]);
@@ -271,6 +297,7 @@ fn polish(
         }
         // Levenberg–Marquardt on |∇H|² when Newton fails
         if next.is_none() {
+            by_newton = false;
             let h = cur.h;
             let h2 = [
                 [
@@ -287,23 +314,23 @@ fn polish(
                 -(h[1][0] * cur.g[0] + h[1][1] * cur.g[1]),
             ];
             let mag2 = 0.5 * (h2[0][0] + h2[1][1]);
-            if hg[0] == 0.0 && hg[1] == 0.0 || !(mag2 > 0.0) {
-                settled = true;
+            if hg[0] == 0.0 && hg[1] == 0.0 || mag2.is_nan() || mag2 <= 0.0 {
+                end = End::Stalled;
                 break;
             }
-            if !(lm > 0.0) {
+            if lm <= 0.0 {
                 lm = LM_START_REL * mag2;
             }
             for _ in 0..LM_TRIES {
                 let m = [[h2[0][0] + lm, h2[0][1]], [h2[1][0], h2[1][1] + lm]];
                 if let Some(d) = solve2(m, hg) {
                     let (tq, tp) = (q + d[0] * s.wq, p + d[1] * s.wp);
-                    if let Some(t) = local_at(sys, s, tq, tp) {
-                        if t.merit < cur.merit {
-                            next = Some((tq, tp, t, d[0].hypot(d[1])));
-                            lm *= 0.1;
-                            break;
-                        }
+                    if let Some(t) = local_at(sys, s, tq, tp)
+                        && t.merit < cur.merit
+                    {
+                        next = Some((tq, tp, t, d[0].hypot(d[1])));
+                        lm *= 0.1;
+                        break;
                     }
                 }
                 lm *= 10.0;
@@ -311,7 +338,7 @@ fn polish(
         }
         let Some((nq, np, nl, step)) = next else {
             // no step lowers |∇H|²: a local minimum of the residual
-            settled = true;
+            end = End::Stalled;
             break;
         };
         q = nq;
@@ -322,13 +349,276 @@ fn polish(
             return None;
         }
         if step <= STEP_CONVERGED_REL {
-            settled = true;
+            end = End::Converged;
             break;
         }
     }
     let residual = cur.merit.sqrt();
-    let ok = residual <= accept && (settled || last_step <= STEP_ACCEPT_REL);
-    ok.then_some(Polished { q, p, residual })
+    tol.verdict(end, by_newton, residual, last_step)
+        .then_some(Polished { q, p, residual })
+}
+
+/// How an iteration ended.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum End {
+    /// ∇H is exactly zero.
+    Exact,
+    /// The last step was shorter than [`STEP_CONVERGED_REL`].
+    Converged,
+    /// No step lowers the residual: a local minimum of |∇H| (a root, or a near miss).
+    Stalled,
+    /// The iterations ran out.
+    Exhausted,
+}
+
+/// Residual limits for accepting a polished point.
+#[derive(Clone, Copy)]
+struct Tol {
+    /// For points Newton steps converged to.
+    accept: f64,
+    /// For points reached otherwise (a residual minimum may be a near miss,
+    /// so only rounding-level residuals pass).
+    strict: f64,
+}
+
+impl Tol {
+    fn verdict(&self, end: End, by_newton: bool, residual: f64, last_step: f64) -> bool {
+        match end {
+            End::Exact => true,
+            End::Converged if by_newton => residual <= self.accept,
+            End::Exhausted if by_newton && last_step <= STEP_ACCEPT_REL => residual <= self.accept,
+            _ => residual <= self.strict,
+        }
+    }
+}
+
+/// Roots next to the newest one in `found` that the lattice cannot separate
+/// (a pair or triple inside one seed cell near a fold). Only where the curvature
+/// of H along the root's softest direction may vanish within reach — a
+/// necessary condition for a second root on that line — deflated searches
+/// start from the seed's mirror image through the root, from mirror images of
+/// nearby known roots, and from points along the softest direction. Roots
+/// found so are searched around in turn.
+fn close_neighbours(
+    sys: &System,
+    s: Scale,
+    n: usize,
+    tol: Tol,
+    max_iter: usize,
+    seed: (f64, f64),
+    found: &mut Vec<Polished>,
+) {
+    let Some(newest) = found.last() else { return };
+    let cell = 1.0 / n as f64;
+    let reach = DEFLATION_REACH_CELLS * cell;
+    let mut queue = vec![(newest.q, newest.p, seed.0, seed.1)];
+    let mut extras = 0;
+    while let Some((x, y, sq, sp)) = queue.pop() {
+        let Some(l) = local_at(sys, s, x, y) else {
+            continue;
+        };
+        let soft = null_direction(l.h);
+        if !soft_curvature_may_vanish(sys, s, &l, (x, y), soft, cell, reach) {
+            continue;
+        }
+        let near: Vec<[f64; 2]> = found
+            .iter()
+            .filter(|f| ((f.q - x) / s.wq).hypot((f.p - y) / s.wp) <= 2.0 * reach)
+            .map(|f| [f.q, f.p])
+            .collect();
+        let mut starts = vec![(2.0 * x - sq, 2.0 * y - sp)];
+        starts.extend(near.iter().map(|r| (2.0 * x - r[0], 2.0 * y - r[1])));
+        // along the line x + t·v, ∂H/∂t ≈ φ''t + φ'''t²/2 vanishes again at t = −2φ''/φ'''
+        if let Some([_, d2, d3]) = line_derivatives(sys, (x, y), [soft[0] * s.wq, soft[1] * s.wp]) {
+            let t = -2.0 * d2 / d3;
+            if t.is_finite() && t.abs() <= reach {
+                starts.insert(0, (x + t * soft[0] * s.wq, y + t * soft[1] * s.wp));
+            }
+        }
+        starts.retain(|st| {
+            !near.iter().any(|r| {
+                (st.0 - r[0]).abs() <= DEDUP_REL * s.wq && (st.1 - r[1]).abs() <= DEDUP_REL * s.wp
+            })
+        });
+        for c in DEFLATION_OFFSETS_CELLS {
+            let c = c * cell;
+            starts.push((x + c * soft[0] * s.wq, y + c * soft[1] * s.wp));
+            starts.push((x - c * soft[0] * s.wq, y - c * soft[1] * s.wp));
+        }
+        let iters = max_iter.min(DEFLATED_MAX_ITER);
+        let mut starts: std::collections::VecDeque<(f64, f64)> = starts.into();
+        while let Some(start) = starts.pop_front() {
+            if extras >= DEFLATION_EXTRAS {
+                return;
+            }
+            let near: Vec<[f64; 2]> = found
+                .iter()
+                .filter(|f| ((f.q - x) / s.wq).hypot((f.p - y) / s.wp) <= 2.0 * reach)
+                .map(|f| [f.q, f.p])
+                .collect();
+            let Some(extra) = polish_deflated(sys, s, tol, iters, start, ((x, y), reach), &near)
+            else {
+                continue;
+            };
+            if !found.iter().any(|f| same_point(s, f, &extra)) {
+                // evenly spaced clusters (pitchfork): the mirror image comes next
+                starts.push_front((2.0 * x - extra.q, 2.0 * y - extra.p));
+                queue.push((extra.q, extra.p, x, y));
+                found.push(extra);
+                extras += 1;
+            }
+        }
+    }
+}
+
+/// The first three derivatives of φ(t) = H(at + t·dir) at t = 0, exact
+/// (third-order dual numbers through the formula's tape).
+fn line_derivatives(sys: &System, at: (f64, f64), dir: [f64; 2]) -> Option<[f64; 3]> {
+    let f = sys.formula();
+    let mut slots = vec![Dual3_64::from_re(0.0); f.slot_count()];
+    slots[SLOT_Q] = Dual3_64::new(at.0, dir[0], 0.0, 0.0);
+    slots[SLOT_P] = Dual3_64::new(at.1, dir[1], 0.0, 0.0);
+    for (slot, &v) in slots[FIRST_PARAM_SLOT..].iter_mut().zip(sys.params()) {
+        *slot = Dual3_64::from_re(v);
+    }
+    let r = f.eval(&slots);
+    let d = [r.v1, r.v2, r.v3];
+    d.iter().all(|v| v.is_finite()).then_some(d)
+}
+
+/// Whether vᵀ Hess H v (window units) along the softest direction v may reach
+/// zero within `reach` of the root, judged from its values at the root and one
+/// seed cell either side. False along a line of equilibria, where it is zero
+/// throughout and deflation would only list more points of the line.
+fn soft_curvature_may_vanish(
+    sys: &System,
+    s: Scale,
+    l: &Local,
+    at: (f64, f64),
+    v: [f64; 2],
+    cell: f64,
+    reach: f64,
+) -> bool {
+    let kappa = |h: &[[f64; 2]; 2]| {
+        v[0] * (h[0][0] * v[0] + h[0][1] * v[1]) + v[1] * (h[1][0] * v[0] + h[1][1] * v[1])
+    };
+    let k0 = kappa(&l.h);
+    let mut sides = [0.0; 2];
+    for (side, sign) in sides.iter_mut().zip([1.0, -1.0]) {
+        let (q, p) = (
+            at.0 + sign * cell * v[0] * s.wq,
+            at.1 + sign * cell * v[1] * s.wp,
+        );
+        let Some(t) = local_at(sys, s, q, p) else {
+            return true;
+        };
+        *side = kappa(&t.h);
+    }
+    let mag = l.h[0][0].abs().max(l.h[1][1].abs()).max(l.h[0][1].abs());
+    let flat = FLAT_CURVATURE_REL * sides.iter().fold(mag, |m, k| m.max(k.abs()));
+    if k0.abs() <= flat {
+        return sides.iter().any(|k| k.abs() > flat);
+    }
+    // a sign change within one cell, or linear extrapolation reaching zero within reach
+    sides
+        .iter()
+        .any(|&k| k * k0 < 0.0 || k0.abs() <= (k - k0).abs() * (reach / cell))
+}
+
+/// True when two polished points are one equilibrium (closer than [`DEDUP_REL`]).
+fn same_point(s: Scale, a: &Polished, b: &Polished) -> bool {
+    (a.q - b.q).abs() <= DEDUP_REL * s.wq && (a.p - b.p).abs() <= DEDUP_REL * s.wp
+}
+
+/// Newton on the deflated system m(x)·∇H(x) = 0 with
+/// m(x) = Π 1/(|x − xᵢ|² + shift) over known roots xᵢ (window units), which
+/// repels the iteration from roots already found, so that a second root in
+/// the same seed cell is reached. The deflated Newton step is the plain step
+/// scaled by τ = 1/(1 − ∇ln m · d). The search starts at `seed` and stays
+/// within `reach` of `centre` (window units); roots far away are the lattice's business.
+///
+/// Reference: P. E. Farrell, Á. Birkisson, S. W. Funke, "Deflation techniques
+/// for finding distinct solutions of nonlinear partial differential
+/// equations", SIAM J. Sci. Comput. 37 (2015) A2026–A2045.
+fn polish_deflated(
+    sys: &System,
+    s: Scale,
+    tol: Tol,
+    max_iter: usize,
+    seed: (f64, f64),
+    (centre, reach): ((f64, f64), f64),
+    roots: &[[f64; 2]],
+) -> Option<Polished> {
+    // ln m and its gradient, in window units
+    let deflation = |q: f64, p: f64| -> ([f64; 2], f64) {
+        let mut grad = [0.0; 2];
+        let mut ln_m = 0.0;
+        for r in roots {
+            let (dq, dp) = ((q - r[0]) / s.wq, (p - r[1]) / s.wp);
+            let d2 = dq * dq + dp * dp;
+            ln_m -= d2.ln();
+            ln_m += (1.0 + DEFLATION_SHIFT * d2).ln();
+            let f = -2.0 / (d2 * (1.0 + DEFLATION_SHIFT * d2));
+            grad[0] += f * dq;
+            grad[1] += f * dp;
+        }
+        (grad, ln_m)
+    };
+    let (mut q, mut p) = seed;
+    let mut cur = local_at(sys, s, q, p)?;
+    let mut last_step = f64::INFINITY;
+    let mut end = End::Exhausted;
+    for _ in 0..max_iter {
+        if cur.merit == 0.0 {
+            end = End::Exact;
+            break;
+        }
+        let Some(d) = solve2(cur.h, [-cur.g[0], -cur.g[1]]) else {
+            end = End::Stalled;
+            break;
+        };
+        let (gl, ln_m) = deflation(q, p);
+        let tau = 1.0 / (1.0 - (gl[0] * d[0] + gl[1] * d[1]));
+        if !tau.is_finite() {
+            return None;
+        }
+        let d = [tau * d[0], tau * d[1]];
+        let len = d[0].hypot(d[1]);
+        let ln_phi = 2.0 * ln_m + cur.merit.ln();
+        let mut alpha = 1.0;
+        let mut next = None;
+        for _ in 0..=LINE_SEARCH_HALVINGS {
+            let (tq, tp) = (q + alpha * d[0] * s.wq, p + alpha * d[1] * s.wp);
+            if let Some(t) = local_at(sys, s, tq, tp) {
+                let ln_t = 2.0 * deflation(tq, tp).1 + t.merit.ln();
+                if t.merit == 0.0 || ln_t <= ln_phi + (1.0 - 2.0 * ARMIJO * alpha).ln() {
+                    next = Some((tq, tp, t, alpha * len));
+                    break;
+                }
+            }
+            alpha *= 0.5;
+        }
+        let Some((nq, np, nl, step)) = next else {
+            end = End::Stalled;
+            break;
+        };
+        q = nq;
+        p = np;
+        cur = nl;
+        last_step = step;
+        if ((q - centre.0) / s.wq).hypot((p - centre.1) / s.wp) > reach {
+            return None;
+        }
+        if step <= STEP_CONVERGED_REL {
+            end = End::Converged;
+            break;
+        }
+    }
+    // near a degenerate known root |∇H| is tiny everywhere, so only a
+    // converged iteration counts here
+    let residual = cur.merit.sqrt();
+    let done = matches!(end, End::Exact | End::Converged);
+    (done && tol.verdict(end, true, residual, last_step)).then_some(Polished { q, p, residual })
 }
 
 /// All equilibria inside `window`, sorted by q then p, with diagnostics.
@@ -420,7 +710,10 @@ pub fn find_equilibria(
     } else {
         hmax.abs().max(1.0)
     };
-    let accept = ACCEPT_REL * h_scale;
+    let tol = Tol {
+        accept: ACCEPT_REL * h_scale,
+        strict: ROUNDING_ACCEPT_REL * h_scale,
+    };
 
     // candidates: sign changes of both components across a cell, and local
     // minima of |∇H| over the lattice
@@ -495,9 +788,14 @@ pub fn find_equilibria(
             ));
             break;
         }
-        if let Some(r) = polish(sys, s, &escape, accept, max_iter, q, p) {
-            found.push(r);
+        let Some(r) = polish(sys, s, &escape, tol, max_iter, q, p) else {
+            continue;
+        };
+        if found.iter().any(|f| same_point(s, f, &r)) {
+            continue;
         }
+        found.push(r);
+        close_neighbours(sys, s, n, tol, max_iter, (q, p), &mut found);
     }
 
     // keep those in the window, merge duplicates (keep the smaller residual)
@@ -547,7 +845,7 @@ pub fn find_equilibria(
         .collect();
     out.sort_by(|a, b| a.q.total_cmp(&b.q).then(a.p.total_cmp(&b.p)));
     if let Some(e) = out.iter().find(|e| {
-        e.kind == EquilibriumKind::Degenerate && !is_isolated(sys, s, &escape, accept, max_iter, e)
+        e.kind == EquilibriumKind::Degenerate && !is_isolated(sys, s, &escape, tol, max_iter, e)
     }) {
         diags.push(Diagnostic::warning(format!(
             "the equilibrium at q = {:.6}, p = {:.6} is not isolated: H is stationary along a curve through it, \
@@ -568,7 +866,7 @@ fn is_isolated(
     sys: &System,
     s: Scale,
     escape: &Window,
-    accept: f64,
+    tol: Tol,
     max_iter: usize,
     e: &Equilibrium,
 ) -> bool {
@@ -581,7 +879,7 @@ fn is_isolated(
             e.q + sign * ISOLATION_PROBE_REL * v[0] * s.wq,
             e.p + sign * ISOLATION_PROBE_REL * v[1] * s.wp,
         );
-        match polish(sys, s, escape, accept, max_iter, q, p) {
+        match polish(sys, s, escape, tol, max_iter, q, p) {
             Some(r)
                 if ((r.q - e.q) / s.wq).hypot((r.p - e.p) / s.wp) > 0.5 * ISOLATION_PROBE_REL => {}
             _ => return true,
@@ -628,7 +926,7 @@ fn eigenvector(jm: [[f64; 2]; 2], lam: f64) -> [f64; 2] {
         v2
     };
     let n = v[0].hypot(v[1]);
-    if !(n > 0.0) || !n.is_finite() {
+    if !n.is_finite() || n <= 0.0 {
         return [f64::NAN, f64::NAN];
     }
     let sign = if v[0].abs() >= v[1].abs() {
