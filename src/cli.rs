@@ -42,6 +42,12 @@ pub enum Command {
     Analyze(AnalyzeArgs),
     /// Integrate one orbit from (q0, p0): period, action, frequency, energy error.
     Orbit(OrbitArgs),
+    /// Follow the equilibria as one parameter moves; locate saddle-nodes and branch points.
+    Sweep(SweepArgs),
+    /// Trace the saddle-node curves in the plane of two parameters, with their cusps.
+    Folds(FoldsArgs),
+    /// Period, frequency, action and amplitude against energy in the well of a center.
+    Backbone(BackboneArgs),
     /// Draw a figure (SVG or PNG by the output's extension).
     Render(RenderArgs),
 }
@@ -102,6 +108,62 @@ pub struct OrbitArgs {
     /// Print the samples as CSV (t,q,p,H).
     #[arg(long)]
     pub csv: bool,
+}
+
+/// How a bifurcation or backbone command prints its results.
+#[derive(Debug, Clone, Default, Args)]
+pub struct OutputArgs {
+    /// Print JSON instead of a table.
+    #[arg(long, conflicts_with = "csv")]
+    pub json: bool,
+    /// Print comma-separated values with a header row.
+    #[arg(long)]
+    pub csv: bool,
+}
+
+/// Arguments of `sweep`.
+#[derive(Debug, Clone, Args)]
+pub struct SweepArgs {
+    #[command(flatten)]
+    pub system: SystemArgs,
+    /// The parameter that moves.
+    #[arg(long, value_name = "NAME")]
+    pub param: String,
+    /// Where the parameter starts.
+    #[arg(long, value_name = "A", allow_hyphen_values = true)]
+    pub from: String,
+    /// Where the parameter ends.
+    #[arg(long, value_name = "B", allow_hyphen_values = true)]
+    pub to: String,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// Arguments of `folds`.
+#[derive(Debug, Clone, Args)]
+pub struct FoldsArgs {
+    #[command(flatten)]
+    pub system: SystemArgs,
+    /// The two parameters: NAME1,NAME2.
+    #[arg(long, value_name = "NAME1,NAME2")]
+    pub params: String,
+    /// The parameter box [A1, B1] × [A2, B2]: A1,B1,A2,B2.
+    #[arg(long = "box", value_name = "A1,B1,A2,B2", allow_hyphen_values = true)]
+    pub bounds: String,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// Arguments of `backbone`.
+#[derive(Debug, Clone, Args)]
+pub struct BackboneArgs {
+    #[command(flatten)]
+    pub system: SystemArgs,
+    /// A point near the center of the well: Q,P.
+    #[arg(long, value_name = "Q,P", allow_hyphen_values = true)]
+    pub center: String,
+    #[command(flatten)]
+    pub output: OutputArgs,
 }
 
 /// What a figure shows.
@@ -309,6 +371,9 @@ pub fn run(command: &Command) -> Result<String, CliError> {
     match command {
         Command::Analyze(args) => run_analyze(args),
         Command::Orbit(args) => run_orbit(args),
+        Command::Sweep(args) => run_sweep(args),
+        Command::Folds(args) => run_folds(args),
+        Command::Backbone(args) => run_backbone(args),
         Command::Render(args) => run_render(args),
         Command::Open { .. } => Err(CliError(
             "`open` starts the desktop explorer; it has no text output".to_string(),
@@ -721,6 +786,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 wl.depth.map_or("-".to_string(), num),
                 wl.escape_saddle
                     .map_or("-".to_string(), |s| format!("#{s}")),
+                wl.edge_energy.map_or("-".to_string(), num),
             ]
         })
         .collect();
@@ -737,6 +803,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 "escape energy",
                 "depth",
                 "via saddle",
+                "meets edge at H",
             ],
             &rows,
         );
@@ -771,4 +838,372 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
         }
     }
     out
+}
+
+/// Parse `count` comma-separated finite numbers given to `--option`.
+fn parse_numbers(
+    option: &str,
+    text: &str,
+    count: usize,
+    shape: &str,
+) -> Result<Vec<f64>, CliError> {
+    let parts: Vec<&str> = text.split(',').map(str::trim).collect();
+    if parts.len() != count {
+        return Err(CliError(format!(
+            "--{option} {text}: expected {count} numbers {shape} (found {})",
+            parts.len()
+        )));
+    }
+    parts
+        .iter()
+        .enumerate()
+        .map(|(i, part)| {
+            parse_number(part).ok_or_else(|| {
+                CliError(format!(
+                    "--{option} {text}: value {} (\"{part}\") is not a finite number",
+                    i + 1
+                ))
+            })
+        })
+        .collect()
+}
+
+/// A CSV field: quoted when it holds a comma, quote or newline.
+fn csv_field(s: &str) -> String {
+    if s.contains([',', '"', '\n']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+/// Numbers in CSV and JSON-like output keep every digit.
+fn full(v: f64) -> String {
+    format!("{v:?}")
+}
+
+fn diagnostics_text(out: &mut String, diagnostics: &[crate::core::Diagnostic], cancelled: bool) {
+    if !diagnostics.is_empty() || cancelled {
+        let _ = writeln!(out, "\nDiagnostics");
+        for d in diagnostics {
+            let _ = writeln!(out, "  {:?}: {}", d.severity, d.message);
+        }
+        if cancelled {
+            let _ = writeln!(out, "  the work was stopped early; results are partial");
+        }
+    }
+}
+
+fn to_json<T: serde::Serialize>(r: &Resolved, body: &T) -> String {
+    let parameters: serde_json::Map<String, serde_json::Value> = r
+        .session
+        .parameters
+        .iter()
+        .map(|p| (p.name.clone(), serde_json::Value::from(p.value)))
+        .collect();
+    let mut value = serde_json::to_value(body).unwrap_or(serde_json::Value::Null);
+    if let Some(map) = value.as_object_mut() {
+        map.insert("formula".into(), r.session.formula.clone().into());
+        map.insert("parameters".into(), parameters.into());
+        if let Ok(w) = serde_json::to_value(r.window) {
+            map.insert("window".into(), w);
+        }
+    }
+    serde_json::to_string_pretty(&value).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+}
+
+/// `sweep`: branches of equilibria and bifurcation points as one parameter moves.
+pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
+    use crate::core::continuation::{SweepConfig, sweep};
+    let from = parse_numbers("from", &args.from, 1, "A")?[0];
+    let to = parse_numbers("to", &args.to, 1, "B")?[0];
+    let r = args.system.resolve()?;
+    if r.system.formula().param_index(&args.param).is_none() {
+        return Err(CliError(format!(
+            "--param {}: the formula has no parameter `{}` (it has: {})",
+            args.param,
+            args.param,
+            if r.system.formula().params().is_empty() {
+                "none".to_string()
+            } else {
+                r.system.formula().params().join(", ")
+            }
+        )));
+    }
+    print_warnings(&r.warnings);
+    let s = sweep(
+        &r.system,
+        &args.param,
+        from,
+        to,
+        &r.window,
+        &SweepConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .map_err(|e| CliError(format!("sweep: {e}")))?;
+    if args.output.json {
+        return Ok(to_json(&r, &s));
+    }
+    let mut out = String::new();
+    if args.output.csv {
+        let _ = writeln!(out, "record,branch,{},q,p,energy,kind", csv_field(&s.param));
+        for (i, b) in s.branches.iter().enumerate() {
+            for pt in &b.points {
+                let _ = writeln!(
+                    out,
+                    "point,{i},{},{},{},{},{}",
+                    full(pt.param),
+                    full(pt.q),
+                    full(pt.p),
+                    full(pt.energy),
+                    crate::scene::kind_name(pt.kind)
+                );
+            }
+        }
+        for b in &s.bifurcations {
+            let _ = writeln!(
+                out,
+                "bifurcation,,{},{},{},{},{}",
+                full(b.param),
+                full(b.q),
+                full(b.p),
+                full(b.energy),
+                b.kind.name()
+            );
+        }
+        return Ok(out);
+    }
+    let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
+    let _ = writeln!(out, "{} from {} to {}", s.param, s.from, s.to);
+    let _ = writeln!(out, "\nBifurcations ({})", s.bifurcations.len());
+    let rows: Vec<Vec<String>> = s
+        .bifurcations
+        .iter()
+        .map(|b| {
+            vec![
+                b.kind.name().to_string(),
+                num(b.param),
+                num(b.q),
+                num(b.p),
+                num(b.energy),
+            ]
+        })
+        .collect();
+    if rows.is_empty() {
+        let _ = writeln!(out, "  none in range");
+    } else {
+        table(&mut out, &["kind", &s.param, "q", "p", "H"], &rows);
+    }
+    let _ = writeln!(out, "\nBranches ({})", s.branches.len());
+    let rows: Vec<Vec<String>> = s
+        .branches
+        .iter()
+        .enumerate()
+        .filter_map(|(i, b)| {
+            let (first, last) = (b.points.first()?, b.points.last()?);
+            Some(vec![
+                format!("{i}"),
+                crate::scene::kind_name(b.kind).to_string(),
+                format!("{}", b.points.len()),
+                format!("({}, {})", num(first.param), num(first.q)),
+                format!("({}, {})", num(last.param), num(last.q)),
+            ])
+        })
+        .collect();
+    if rows.is_empty() {
+        let _ = writeln!(out, "  none");
+    } else {
+        let from = format!("from ({}, q)", s.param);
+        let to = format!("to ({}, q)", s.param);
+        table(&mut out, &["#", "kind", "points", &from, &to], &rows);
+    }
+    diagnostics_text(&mut out, &s.diagnostics, s.cancelled);
+    Ok(out)
+}
+
+/// `folds`: saddle-node curves in two parameters.
+pub fn run_folds(args: &FoldsArgs) -> Result<String, CliError> {
+    use crate::core::folds::{FoldConfig, fold_curves};
+    let names: Vec<&str> = args.params.split(',').map(str::trim).collect();
+    if names.len() != 2 || names.iter().any(|n| n.is_empty()) {
+        return Err(CliError(format!(
+            "--params {}: expected two parameter names NAME1,NAME2",
+            args.params
+        )));
+    }
+    let b = parse_numbers("box", &args.bounds, 4, "A1,B1,A2,B2")?;
+    let r = args.system.resolve()?;
+    print_warnings(&r.warnings);
+    let f = fold_curves(
+        &r.system,
+        [names[0], names[1]],
+        [b[0], b[1], b[2], b[3]],
+        &r.window,
+        &FoldConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .map_err(|e| CliError(format!("folds: {e}")))?;
+    if args.output.json {
+        return Ok(to_json(&r, &f));
+    }
+    let mut out = String::new();
+    if args.output.csv {
+        let _ = writeln!(
+            out,
+            "record,curve,{},{},q,p,energy",
+            csv_field(&f.params[0]),
+            csv_field(&f.params[1])
+        );
+        for (i, c) in f.curves.iter().enumerate() {
+            for pt in &c.points {
+                let _ = writeln!(
+                    out,
+                    "point,{i},{},{},{},{},{}",
+                    full(pt.params[0]),
+                    full(pt.params[1]),
+                    full(pt.q),
+                    full(pt.p),
+                    full(pt.energy)
+                );
+            }
+        }
+        for pt in &f.cusps {
+            let _ = writeln!(
+                out,
+                "cusp,,{},{},{},{},{}",
+                full(pt.params[0]),
+                full(pt.params[1]),
+                full(pt.q),
+                full(pt.p),
+                full(pt.energy)
+            );
+        }
+        return Ok(out);
+    }
+    let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
+    let _ = writeln!(
+        out,
+        "{} in [{}, {}], {} in [{}, {}]",
+        f.params[0], b[0], b[1], f.params[1], b[2], b[3]
+    );
+    let _ = writeln!(out, "\nFold curves ({})", f.curves.len());
+    let rows: Vec<Vec<String>> = f
+        .curves
+        .iter()
+        .enumerate()
+        .filter_map(|(i, c)| {
+            let (first, last) = (c.points.first()?, c.points.last()?);
+            Some(vec![
+                format!("{i}"),
+                format!("{}", c.points.len()),
+                if c.closed { "closed" } else { "open" }.to_string(),
+                format!("({}, {})", num(first.params[0]), num(first.params[1])),
+                format!("({}, {})", num(last.params[0]), num(last.params[1])),
+            ])
+        })
+        .collect();
+    if rows.is_empty() {
+        let _ = writeln!(out, "  none in the box");
+    } else {
+        let from = format!("from ({}, {})", f.params[0], f.params[1]);
+        let to = format!("to ({}, {})", f.params[0], f.params[1]);
+        table(&mut out, &["#", "points", "shape", &from, &to], &rows);
+    }
+    let _ = writeln!(out, "\nCusps ({})", f.cusps.len());
+    let rows: Vec<Vec<String>> = f
+        .cusps
+        .iter()
+        .map(|c| {
+            vec![
+                num(c.params[0]),
+                num(c.params[1]),
+                num(c.q),
+                num(c.p),
+                num(c.energy),
+            ]
+        })
+        .collect();
+    if rows.is_empty() {
+        let _ = writeln!(out, "  none");
+    } else {
+        table(
+            &mut out,
+            &[&f.params[0], &f.params[1], "q", "p", "H"],
+            &rows,
+        );
+    }
+    diagnostics_text(&mut out, &f.diagnostics, f.cancelled);
+    Ok(out)
+}
+
+/// `backbone`: period, frequency, action and amplitude against energy.
+pub fn run_backbone(args: &BackboneArgs) -> Result<String, CliError> {
+    use crate::core::backbone::{BackboneConfig, backbone};
+    let c = parse_numbers("center", &args.center, 2, "Q,P")?;
+    let r = args.system.resolve()?;
+    print_warnings(&r.warnings);
+    let b = backbone(
+        &r.system,
+        [c[0], c[1]],
+        &r.window,
+        &BackboneConfig::default(),
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .map_err(|e| CliError(format!("--center {}: {e}", args.center)))?;
+    if args.output.json {
+        return Ok(to_json(&r, &b));
+    }
+    let mut out = String::new();
+    if args.output.csv {
+        let _ = writeln!(out, "energy,period,frequency,action,amplitude");
+        for row in &b.rows {
+            let _ = writeln!(
+                out,
+                "{},{},{},{},{}",
+                full(row.energy),
+                full(row.period),
+                full(row.frequency),
+                full(row.action),
+                full(row.amplitude)
+            );
+        }
+        return Ok(out);
+    }
+    let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
+    let _ = writeln!(
+        out,
+        "center q = {}, p = {}, H = {}",
+        num(b.center[0]),
+        num(b.center[1]),
+        num(b.center_energy)
+    );
+    let _ = writeln!(
+        out,
+        "escape energy: {}",
+        b.escape_energy.map_or("none in view".to_string(), num)
+    );
+    let _ = writeln!(out, "\nBackbone ({} energies)", b.rows.len());
+    let rows: Vec<Vec<String>> = b
+        .rows
+        .iter()
+        .map(|w| {
+            vec![
+                num(w.energy),
+                num(w.period),
+                num(w.frequency),
+                num(w.action),
+                num(w.amplitude),
+            ]
+        })
+        .collect();
+    table(
+        &mut out,
+        &["energy", "period", "frequency", "action", "amplitude"],
+        &rows,
+    );
+    diagnostics_text(&mut out, &b.diagnostics, b.cancelled);
+    Ok(out)
 }

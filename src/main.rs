@@ -4,10 +4,15 @@
 
 use clap::Parser;
 use phasewright::cli::{Cli, Command};
+use std::io::Write;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
+    // A defect should read as one line, not as a backtrace hint.
+    std::panic::set_hook(Box::new(|info| {
+        eprintln!("phasewright: internal error: {info}; please report it with the command you ran");
+    }));
     let cli = match Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
@@ -30,10 +35,13 @@ fn main() -> ExitCode {
         }
         Some(command) => match phasewright::cli::run(command) {
             Ok(text) => {
-                print!("{text}");
+                // A closed pipe (`phasewright analyze … | head`) is not an error of ours.
+                let mut out = std::io::stdout().lock();
+                let _ = out.write_all(text.as_bytes());
                 if !text.ends_with('\n') {
-                    println!();
+                    let _ = out.write_all(b"\n");
                 }
+                let _ = out.flush();
                 ExitCode::SUCCESS
             }
             Err(e) => {

@@ -5,6 +5,7 @@
 
 use crate::core::analysis::AnalysisConfig;
 use crate::core::formula::Formula;
+use crate::core::integrate::Method;
 use crate::core::system::System;
 use crate::core::window::Window;
 use serde::{Deserialize, Serialize};
@@ -22,7 +23,7 @@ pub const FORMAT_VERSION: u32 = 1;
 /// Largest grid (points per side) a session may ask for.
 pub const MAX_GRID: usize = 1024;
 /// Smallest grid a session may ask for (the analysis needs at least this).
-pub const MIN_GRID: usize = 16;
+pub const MIN_GRID: usize = crate::core::analysis::MIN_ANALYSIS_GRID;
 /// Largest number of evenly spaced levels.
 pub const MAX_LEVELS: usize = 200;
 /// Largest number of seeded orbits.
@@ -185,7 +186,7 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
             ),
         ));
     }
-    check_header(text)?;
+    let raw = check_header(text)?;
     let mut de = serde_json::Deserializer::from_str(text);
     let mut session: Session = match serde_path_to_error::deserialize(&mut de) {
         Ok(s) => s,
@@ -194,18 +195,77 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
     if let Err(e) = de.end() {
         return Err(SessionError::new("", json_problem(&e)));
     }
-    let warnings = session.validate()?;
+    let mut warnings = Vec::new();
+    unknown_fields(&raw, &field_template(), "", &mut warnings);
+    warnings.extend(session.validate()?);
     Ok((session, warnings))
+}
+
+/// A session with every optional field present: its JSON shape lists the
+/// fields this version knows.
+fn field_template() -> serde_json::Value {
+    let mut s = Session::blank("q");
+    s.parameters.push(Parameter {
+        name: String::new(),
+        value: 0.0,
+        min: 0.0,
+        max: 1.0,
+        step: Some(1.0),
+    });
+    s.orbits.push(SeededOrbit {
+        q0: 0.0,
+        p0: 0.0,
+        duration: 1.0,
+        method: default_method(),
+        colour: Some(String::new()),
+    });
+    serde_json::to_value(&s).unwrap_or(serde_json::Value::Null)
+}
+
+/// Warn about fields this version does not know (a typo would otherwise
+/// lose the value silently).
+fn unknown_fields(
+    actual: &serde_json::Value,
+    known: &serde_json::Value,
+    path: &str,
+    warnings: &mut Vec<String>,
+) {
+    use serde_json::Value;
+    match (actual, known) {
+        (Value::Object(a), Value::Object(k)) => {
+            for (key, value) in a {
+                let here = if path.is_empty() {
+                    key.clone()
+                } else {
+                    format!("{path}.{key}")
+                };
+                match k.get(key) {
+                    Some(template) => unknown_fields(value, template, &here, warnings),
+                    None => warnings.push(format!(
+                        "{here}: unknown field, ignored (check the spelling)"
+                    )),
+                }
+            }
+        }
+        (Value::Array(a), Value::Array(k)) => {
+            if let Some(template) = k.first() {
+                for (i, value) in a.iter().enumerate() {
+                    unknown_fields(value, template, &format!("{path}[{i}]"), warnings);
+                }
+            }
+        }
+        _ => {}
+    }
 }
 
 /// Syntax, the top-level shape, `format` and `version`, checked before the
 /// typed read so that a file of another kind or a newer version is named as
 /// such rather than by the first field this version does not understand.
-fn check_header(text: &str) -> Result<(), SessionError> {
+fn check_header(text: &str) -> Result<serde_json::Value, SessionError> {
     use serde_json::Value;
     let value: Value = serde_json::from_str(text)
         .map_err(|e| SessionError::new("", format!("not valid JSON: {}", json_problem(&e))))?;
-    let Value::Object(map) = value else {
+    let Value::Object(map) = &value else {
         return Err(SessionError::new(
             "",
             format!(
@@ -240,7 +300,7 @@ fn check_header(text: &str) -> Result<(), SessionError> {
             ));
         }
     }
-    match map.get("version") {
+    let version = match map.get("version") {
         None => Err(SessionError::new("version", "missing")),
         Some(Value::Number(n)) => match n.as_u64() {
             Some(v) if v > u64::from(FORMAT_VERSION) => Err(SessionError::new(
@@ -259,7 +319,8 @@ fn check_header(text: &str) -> Result<(), SessionError> {
             "version",
             format!("expected a whole number ≥ 1, found {}", json_kind(other)),
         )),
-    }
+    };
+    version.map(|()| value)
 }
 
 fn json_kind(v: &serde_json::Value) -> &'static str {
@@ -441,7 +502,7 @@ impl Session {
         self.validate_parameters(&formula, &mut warnings)?;
         self.validate_view()?;
         self.validate_levels(&mut warnings);
-        self.validate_orbits(&mut warnings)?;
+        self.validate_orbits(formula.is_separable(), &mut warnings)?;
         Ok(warnings)
     }
 
@@ -556,7 +617,11 @@ impl Session {
         }
     }
 
-    fn validate_orbits(&mut self, warnings: &mut Vec<String>) -> Result<(), SessionError> {
+    fn validate_orbits(
+        &mut self,
+        separable: bool,
+        warnings: &mut Vec<String>,
+    ) -> Result<(), SessionError> {
         for (i, o) in self.orbits.iter_mut().enumerate() {
             let at = |f: &str| format!("orbits[{i}].{f}");
             check_finite(|| at("q0"), o.q0)?;
@@ -576,8 +641,15 @@ impl Session {
                 ));
                 o.duration = clamped;
             }
-            if let Err(e) = crate::core::integrate::Method::from_name(&o.method) {
-                return Err(SessionError::new(at("method"), e.to_string()));
+            match Method::from_name(&o.method) {
+                Err(e) => return Err(SessionError::new(at("method"), e.to_string())),
+                Ok(m) if m.needs_separable() && !separable => warnings.push(format!(
+                    "orbits[{i}].method: \"{}\" needs H = T(p) + V(q) and this formula \
+                     is not separable; the orbit will be refused until the method changes \
+                     (\"auto\" picks one that works)",
+                    o.method
+                )),
+                Ok(_) => {}
             }
             if let Some(c) = &o.colour
                 && !is_colour(c)

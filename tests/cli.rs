@@ -167,3 +167,62 @@ fn the_table_names_its_sections() {
         assert!(out.contains(section), "{out}");
     }
 }
+
+#[test]
+fn pendulum_has_centers_at_even_and_saddles_at_odd_multiples_of_pi() {
+    // H = p²/2 − cos q: equilibria where sin q = 0, p = 0; centers at 2πn with
+    // eigenvalues ±i (ω² = cos 0 = 1), saddles at (2n+1)π with eigenvalues ±1
+    // (closed form of the linearisation). The separatrix through the saddles is
+    // at H = 1, so the well at 0 escapes at energy 1 (the pendulum separatrix
+    // energy, common practice).
+    use std::f64::consts::PI;
+    let o = run(&[
+        "analyze",
+        "--formula",
+        "p^2/2 - cos(q)",
+        "--window",
+        "-7,7,-3,3",
+        "--json",
+    ]);
+    let v = json(&o);
+    let eq = v["equilibria"].as_array().expect("equilibria[]");
+    let expected = [
+        (-2.0 * PI, "center"),
+        (-PI, "saddle"),
+        (0.0, "center"),
+        (PI, "saddle"),
+        (2.0 * PI, "center"),
+    ];
+    assert_eq!(eq.len(), expected.len(), "{eq:?}");
+    let num = |x: &serde_json::Value| x.as_f64().expect("a number");
+    for (e, (q, kind)) in eq.iter().zip(expected) {
+        assert!((num(&e["q"]) - q).abs() < 1e-8, "{e}");
+        assert!(num(&e["p"]).abs() < 1e-8, "{e}");
+        assert_eq!(e["kind"], kind, "{e}");
+        let energy = if kind == "center" { -1.0 } else { 1.0 };
+        assert!((num(&e["energy"]) - energy).abs() < 1e-12, "{e}");
+        let ev = &e["eigenvalues"];
+        let (re, im) = if kind == "center" {
+            (0.0, 1.0)
+        } else {
+            (1.0, 0.0)
+        };
+        let mut pair: Vec<(f64, f64)> = (0..2).map(|i| (num(&ev[i][0]), num(&ev[i][1]))).collect();
+        pair.sort_by(|a, b| (a.0 + a.1).total_cmp(&(b.0 + b.1)));
+        for ((r, i), sign) in pair.iter().zip([-1.0, 1.0]) {
+            assert!((r - sign * re).abs() < 1e-9, "{e}");
+            assert!((i - sign * im).abs() < 1e-9, "{e}");
+        }
+    }
+    let wells = v["wells"].as_array().expect("wells[]");
+    let at_zero = wells
+        .iter()
+        .find(|w| num(&w["q"]).abs() < 1e-8)
+        .expect("a well at the center q = 0");
+    assert!((num(&at_zero["energy"]) + 1.0).abs() < 1e-12);
+    assert!(
+        (num(&at_zero["escape_energy"]) - 1.0).abs() < 1e-9,
+        "{at_zero}"
+    );
+    assert!(v["connections"].is_array());
+}

@@ -517,3 +517,94 @@ fn parameter_named_like_a_constant_gets_a_specific_warning() {
         "{w:?}"
     );
 }
+
+/// Every leaf of a JSON value with its path written the way errors name fields.
+fn leaves(v: &serde_json::Value, path: String, out: &mut Vec<String>) {
+    match v {
+        serde_json::Value::Object(m) => {
+            for (k, x) in m {
+                let p = if path.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{path}.{k}")
+                };
+                leaves(x, p, out);
+            }
+        }
+        serde_json::Value::Array(a) => {
+            for (i, x) in a.iter().enumerate() {
+                leaves(x, format!("{path}[{i}]"), out);
+            }
+        }
+        _ => out.push(path),
+    }
+}
+
+fn leaf_mut<'a>(v: &'a mut serde_json::Value, path: &str) -> &'a mut serde_json::Value {
+    let mut cur = v;
+    for part in path.split('.') {
+        let (key, index) = match part.split_once('[') {
+            Some((k, i)) => (k, i.trim_end_matches(']').parse::<usize>().ok()),
+            None => (part, None),
+        };
+        cur = &mut cur[key];
+        if let Some(i) = index {
+            cur = &mut cur[i];
+        }
+    }
+    cur
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(300))]
+
+    /// Any field given a value of the wrong JSON type is refused, and the
+    /// error names exactly that field.
+    #[test]
+    fn wrong_type_anywhere_is_named_by_its_path(pick in any::<prop::sample::Index>(), kind in 0usize..3) {
+        let good: serde_json::Value = serde_json::from_str(GOOD).expect("GOOD is JSON");
+        let mut paths = Vec::new();
+        leaves(&good, String::new(), &mut paths);
+        let path = pick.get(&paths).clone();
+        let mut v = good.clone();
+        let leaf = leaf_mut(&mut v, &path);
+        let replacement = match (kind, leaf.is_string()) {
+            (0, true) => serde_json::json!(7),
+            (0, false) => serde_json::json!("seven"),
+            (1, _) => serde_json::json!([]),
+            _ => serde_json::json!({"x": 1}),
+        };
+        *leaf = replacement;
+        let e = load(&v.to_string()).expect_err("a wrong type is refused");
+        prop_assert_eq!(&e.field, &path, "{}", e);
+    }
+}
+
+#[test]
+fn unknown_fields_are_named_in_warnings() {
+    let text = bad(
+        r#""title": "tilted lattice","#,
+        r#""title": "tilted lattice", "paramters": [],"#,
+    )
+    .replace(r#""duration": 20.0"#, r#""duration": 20.0, "speed": 2"#);
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(s.parameters.len(), 2);
+    assert_eq!(w.len(), 2, "{w:?}");
+    assert!(
+        w.iter().any(|m| m.starts_with("paramters: unknown field")),
+        "{w:?}"
+    );
+    assert!(
+        w.iter()
+            .any(|m| m.starts_with("orbits[0].speed: unknown field")),
+        "{w:?}"
+    );
+}
+
+#[test]
+fn explicit_method_on_a_non_separable_formula_is_a_warning() {
+    let text = bad("p^2/2 - a*cos(q) - b*q", "p^2/2 - a*cos(q) - b*q*p");
+    let (_, w) = load(&text).expect("loads");
+    assert_eq!(w.len(), 1, "{w:?}");
+    assert!(w[0].starts_with("orbits[0].method"), "{w:?}");
+}

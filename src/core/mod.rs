@@ -1,8 +1,11 @@
 //! The computational core: pure functions over plain data. Never imports a view
 //! crate, the command-line parser, or the file system (tests/architecture.rs checks).
 pub mod analysis;
+pub mod backbone;
+pub mod continuation;
 pub mod contour;
 pub mod equilibria;
+pub mod folds;
 pub mod formula;
 pub mod integrate;
 pub mod orbit;

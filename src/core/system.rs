@@ -4,7 +4,7 @@
 //! the formula's jet (exact forward-mode derivatives), never from differences.
 
 use super::formula::{FIRST_PARAM_SLOT, Formula, FormulaError, RowProgram, SLOT_P, SLOT_Q, SLOT_T};
-use num_dual::{Dual2SVec64, Dual64, DualNum};
+use num_dual::{Dual2SVec, Dual2SVec64, Dual64, DualNum};
 use std::fmt;
 use std::sync::Arc;
 
@@ -50,6 +50,39 @@ pub struct ParamJet {
     pub grad: [f64; 3],
     /// Hessian in (q, p, μ), symmetric.
     pub hess: [[f64; 3]; 3],
+}
+
+/// Most parameters a [`ThirdJet`] differentiates in (besides q and p).
+pub const MAX_THIRD_JET_PARAMS: usize = 2;
+
+/// H and all its derivatives up to third order in the variables
+/// x = (q, p, μ_a, μ_b): `n` of them are used (2 + number of parameters);
+/// entries beyond `n` are zero. Fold location and fold curves need the third
+/// derivatives (the derivative of det Hess H).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ThirdJet {
+    pub n: usize,
+    pub h: f64,
+    /// ∂H/∂x_i
+    pub grad: [f64; 4],
+    /// ∂²H/∂x_i∂x_j
+    pub hess: [[f64; 4]; 4],
+    /// ∂³H/∂x_i∂x_j∂x_k
+    pub third: [[[f64; 4]; 4]; 4],
+}
+
+impl ThirdJet {
+    /// det of the (q, p) Hessian, H_qq H_pp − H_qp².
+    pub fn hessian_det(&self) -> f64 {
+        self.hess[0][0] * self.hess[1][1] - self.hess[0][1] * self.hess[0][1]
+    }
+
+    /// ∂/∂x_k of det of the (q, p) Hessian.
+    pub fn hessian_det_derivative(&self, k: usize) -> f64 {
+        let h = &self.hess;
+        let t = &self.third;
+        t[0][0][k] * h[1][1] + h[0][0] * t[1][1][k] - 2.0 * h[0][1] * t[0][1][k]
+    }
 }
 
 /// Why a system could not be built.
@@ -279,6 +312,62 @@ impl System {
             grad,
             hess,
         }
+    }
+
+    /// H with derivatives up to third order in (q, p, μ_a, μ_b, …) where the
+    /// μ are the parameters with indices `params` (at most
+    /// [`MAX_THIRD_JET_PARAMS`]; extra indices and unknown ones are ignored),
+    /// at t = 0. One forward pass per variable, with a second-order dual number
+    /// over first-order duals: the outer number carries the Hessian, the inner
+    /// one differentiates it once more along the variable.
+    pub fn third_jet(&self, q: f64, p: f64, params: &[usize]) -> ThirdJet {
+        type D3 = Dual2SVec<Dual64, 4>;
+        let params: Vec<usize> = params
+            .iter()
+            .copied()
+            .filter(|&i| i < self.params.len())
+            .take(MAX_THIRD_JET_PARAMS)
+            .collect();
+        let n = 2 + params.len();
+        let mut base = [0.0; 4];
+        base[0] = q;
+        base[1] = p;
+        for (i, &k) in params.iter().enumerate() {
+            base[2 + i] = self.params[k];
+        }
+        let mut out = ThirdJet {
+            n,
+            h: 0.0,
+            grad: [0.0; 4],
+            hess: [[0.0; 4]; 4],
+            third: [[[0.0; 4]; 4]; 4],
+        };
+        for k in 0..n {
+            let var = |i: usize| {
+                let inner = Dual64::new(base[i], if i == k { 1.0 } else { 0.0 });
+                D3::from_re(inner).derivative(i)
+            };
+            let mut buf = self.slots(var(0), var(1), D3::from(0.0));
+            for (i, &pk) in params.iter().enumerate() {
+                buf.as_mut()[FIRST_PARAM_SLOT + pk] = var(2 + i);
+            }
+            let r = self.formula.eval(buf.as_ref());
+            out.h = r.re.re;
+            out.grad[k] = r.re.eps;
+            if let Some(m) = r.v1.0.as_ref() {
+                for i in 0..n {
+                    out.hess[i][k] = m[i].eps;
+                }
+            }
+            if let Some(m) = r.v2.0.as_ref() {
+                for i in 0..n {
+                    for j in 0..n {
+                        out.third[i][j][k] = m[(i, j)].eps;
+                    }
+                }
+            }
+        }
+        out
     }
 
     /// A fast evaluator of H over many points at t = 0 and the current parameters.

@@ -1,0 +1,1241 @@
+//! One-parameter continuation of equilibria: the branches of solutions of
+//! ∇H(q, p; μ) = 0 as μ moves, their saddle-node points and branch points
+//! (pitchfork, transcritical), with every branch traced once.
+//!
+//! # Pseudo-arclength continuation
+//!
+//! The equilibria form curves in (q, p, μ). Each curve is followed by
+//! predictor–corrector steps: the tangent is the null vector of the exact
+//! extended Jacobian ∂∇H/∂(q, p, μ) (rows of the 3×3 Hessian from
+//! [`System::param_jet`]), the predictor steps along it, and Newton's method
+//! corrects on the hyperplane orthogonal to the tangent. Coordinates are scaled
+//! so that the window and the sweep range are both of unit size; the step
+//! grows after easy corrections and halves after failed ones or sharp turns.
+//!
+//! A saddle-node shows as a sign change of the tangent's μ-component without a
+//! sign change of det [J; tᵀ]; it is located by Newton on the extended system
+//! ∇H = 0, det Hess H = 0 with μ free (third derivatives from
+//! [`System::third_jet`]). A branch point shows as a sign change of
+//! det [J; tᵀ]; it is located by a bracketing root search on that determinant
+//! along the branch, and the branches through it come from the roots of the
+//! quadratic form ψᵀ D²F[t, t] on the two-dimensional null space. A branch
+//! point where one branch is tangent to μ = const is a pitchfork, otherwise it
+//! is transcritical.
+//!
+//! Reference: E. L. Allgower and K. Georg, *Introduction to Numerical
+//! Continuation Methods* (SIAM 2003), ch. 2 (predictor–corrector), ch. 8
+//! (detection of bifurcation points, branch switching); H. B. Keller, *Lectures
+//! on Numerical Methods in Bifurcation Problems* (Tata Institute 1987) §3–5.
+
+use super::equilibria::{EquilibriumConfig, EquilibriumKind, classify, find_equilibria};
+use super::system::System;
+use super::window::Window;
+use super::{Cancel, Diagnostic};
+use nalgebra::{SMatrix, SVector};
+use std::collections::VecDeque;
+use std::fmt;
+
+/// Corrector convergence: Newton stops when a step is this small, in scaled
+/// units (the window and the sweep range are of size 1).
+pub const CORRECTOR_TOL: f64 = 1e-11;
+/// Bracketing root searches stop when the bracket is this fraction of a step.
+const LOCATE_TOL: f64 = 1e-14;
+/// Newton on the extended fold system stops at this step size (scaled units).
+const FOLD_NEWTON_TOL: f64 = 1e-14;
+/// Newton iterations for points found while locating events.
+const LOCATE_ITERATIONS: usize = 80;
+/// Branch points are bracketed down to sub-steps of this length (scaled units).
+const BRANCH_POINT_FINE_STEP: f64 = 1e-5;
+/// Two points closer than this (scaled units, max norm) are the same point.
+const MATCH_TOL: f64 = 1e-6;
+/// A branch whose tangent's μ-component is below this (scaled) is tangent to μ = const.
+const FLAT_TANGENT_TOL: f64 = 1e-6;
+
+/// How continuation steps are taken; lengths are in scaled units where the
+/// window and the parameter range have size 1.
+#[derive(Clone, Debug, PartialEq)]
+pub struct StepConfig {
+    /// First step length (default 0.005).
+    pub initial: f64,
+    /// Longest step (default 0.02: about fifty points across the range).
+    pub max: f64,
+    /// Shortest step before giving up on a branch (default 1e-9).
+    pub min: f64,
+    /// Newton iterations per correction (default 10).
+    pub max_corrector: usize,
+    /// Largest angle between successive tangents, in radians (default 0.3).
+    pub max_turn: f64,
+}
+
+impl Default for StepConfig {
+    fn default() -> Self {
+        StepConfig {
+            initial: 0.005,
+            max: 0.02,
+            min: 1e-9,
+            max_corrector: 10,
+            max_turn: 0.3,
+        }
+    }
+}
+
+impl StepConfig {
+    /// Reject steps that are not finite, not positive, or out of order.
+    pub fn validate(&self) -> Result<(), ContinuationError> {
+        let bad = |what: &str| Err(ContinuationError::BadConfig(what.to_string()));
+        if !(self.min.is_finite() && self.min > 0.0) {
+            return bad("the shortest step must be a positive number");
+        }
+        if !(self.max.is_finite() && self.max >= self.min) {
+            return bad("the longest step must be finite and at least the shortest step");
+        }
+        if !(self.initial.is_finite() && self.initial >= self.min && self.initial <= self.max) {
+            return bad("the first step must lie between the shortest and the longest step");
+        }
+        if self.max_corrector == 0 {
+            return bad("the corrector needs at least one Newton iteration");
+        }
+        if !(self.max_turn.is_finite() && self.max_turn > 0.0) {
+            return bad("the largest turn per step must be a positive angle");
+        }
+        Ok(())
+    }
+}
+
+/// Settings of a one-parameter sweep.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SweepConfig {
+    pub step: StepConfig,
+    /// Continuation steps over all branches together (default 20 000).
+    pub max_steps: usize,
+    /// The equilibrium search that seeds the branches at both ends.
+    pub equilibria: EquilibriumConfig,
+}
+
+impl Default for SweepConfig {
+    fn default() -> Self {
+        SweepConfig {
+            step: StepConfig::default(),
+            max_steps: 20_000,
+            equilibria: EquilibriumConfig::default(),
+        }
+    }
+}
+
+/// Why a continuation could not start.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ContinuationError {
+    /// The formula has no parameter of this name.
+    UnknownParameter {
+        name: String,
+        available: Vec<String>,
+    },
+    /// The parameter range is empty or not finite.
+    BadRange { from: f64, to: f64 },
+    /// A setting is out of range.
+    BadConfig(String),
+}
+
+impl fmt::Display for ContinuationError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ContinuationError::UnknownParameter { name, available } => {
+                if available.is_empty() {
+                    write!(
+                        f,
+                        "the formula has no parameter '{name}' (it has no parameters at all)"
+                    )
+                } else {
+                    write!(
+                        f,
+                        "the formula has no parameter '{name}'; its parameters are {}",
+                        available.join(", ")
+                    )
+                }
+            }
+            ContinuationError::BadRange { from, to } => {
+                write!(
+                    f,
+                    "the parameter range {from} .. {to} must be two different finite numbers"
+                )
+            }
+            ContinuationError::BadConfig(m) => f.write_str(m),
+        }
+    }
+}
+
+impl std::error::Error for ContinuationError {}
+
+/// The kind of a bifurcation point.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum BifurcationKind {
+    /// Two equilibria meet and vanish (a fold of the branch in μ).
+    SaddleNode,
+    /// One branch meets another that lies on one side of μ = μ* (symmetric splitting).
+    Pitchfork,
+    /// Two branches cross transversally and exchange type.
+    Transcritical,
+}
+
+impl BifurcationKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            BifurcationKind::SaddleNode => "saddle-node",
+            BifurcationKind::Pitchfork => "pitchfork",
+            BifurcationKind::Transcritical => "transcritical",
+        }
+    }
+}
+
+/// One equilibrium on a branch.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct BranchPoint {
+    /// The parameter's value.
+    pub param: f64,
+    pub q: f64,
+    pub p: f64,
+    pub energy: f64,
+    pub kind: EquilibriumKind,
+}
+
+/// A piece of a solution curve between two ends (a sweep boundary, the window's
+/// edge, or a bifurcation point). Its interior equilibria share one kind.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct Branch {
+    /// The kind of the interior equilibria.
+    pub kind: EquilibriumKind,
+    pub points: Vec<BranchPoint>,
+}
+
+/// A located bifurcation point.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct Bifurcation {
+    pub param: f64,
+    pub q: f64,
+    pub p: f64,
+    pub energy: f64,
+    pub kind: BifurcationKind,
+}
+
+/// Everything a one-parameter sweep found.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct Sweep {
+    pub param: String,
+    pub from: f64,
+    pub to: f64,
+    pub branches: Vec<Branch>,
+    pub bifurcations: Vec<Bifurcation>,
+    pub diagnostics: Vec<Diagnostic>,
+    /// Continuation steps taken.
+    pub steps: usize,
+    /// True when the cancel flag stopped the sweep early (results partial).
+    pub cancelled: bool,
+}
+
+/// How far a sweep has got (sent after every accepted step).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct SweepProgress {
+    pub steps: usize,
+    pub max_steps: usize,
+    pub branches: usize,
+}
+
+// ---------------------------------------------------------------------------
+// Pseudo-arclength machinery shared with fold curves.
+
+pub(crate) type Vector<const N: usize> = SVector<f64, N>;
+pub(crate) type Matrix<const N: usize> = SMatrix<f64, N, N>;
+
+/// A curve in scaled coordinates y ∈ Rᴺ given by N − 1 equations.
+pub(crate) trait Curve<const N: usize> {
+    /// The residual in the first N − 1 entries and the Jacobian in the first
+    /// N − 1 rows (the last entry and row are free for the bordering row);
+    /// None where H is not finite.
+    fn eval(&self, y: &Vector<N>) -> Option<(Vector<N>, Matrix<N>)>;
+}
+
+/// Solve a x = b by Gaussian elimination with partial pivoting; also returns
+/// det a. None when a is singular or the result is not finite.
+pub(crate) fn solve<const N: usize>(
+    mut a: Matrix<N>,
+    mut b: Vector<N>,
+) -> Option<(Vector<N>, f64)> {
+    let mut det = 1.0;
+    for c in 0..N {
+        let mut piv = c;
+        for r in c + 1..N {
+            if a[(r, c)].abs() > a[(piv, c)].abs() {
+                piv = r;
+            }
+        }
+        if a[(piv, c)] == 0.0 || !a[(piv, c)].is_finite() {
+            return None;
+        }
+        if piv != c {
+            a.swap_rows(piv, c);
+            b.swap_rows(piv, c);
+            det = -det;
+        }
+        let d = a[(c, c)];
+        det *= d;
+        for r in c + 1..N {
+            let m = a[(r, c)] / d;
+            if m != 0.0 {
+                for k in c..N {
+                    a[(r, k)] -= m * a[(c, k)];
+                }
+                b[r] -= m * b[c];
+            }
+        }
+    }
+    let mut x = Vector::<N>::zeros();
+    for r in (0..N).rev() {
+        let mut acc = b[r];
+        for k in r + 1..N {
+            acc -= a[(r, k)] * x[k];
+        }
+        x[r] = acc / a[(r, r)];
+    }
+    (x.iter().all(|v| v.is_finite()) && det.is_finite()).then_some((x, det))
+}
+
+/// det a by elimination (0 when singular).
+pub(crate) fn determinant<const N: usize>(a: Matrix<N>) -> f64 {
+    solve(a, Vector::<N>::zeros())
+        .map(|(_, d)| d)
+        .unwrap_or(0.0)
+}
+
+/// The unit tangent at `y` oriented along `t_ref`, and det [J; tᵀ].
+pub(crate) fn tangent<C: Curve<N>, const N: usize>(
+    curve: &C,
+    y: &Vector<N>,
+    t_ref: &Vector<N>,
+) -> Option<(Vector<N>, f64)> {
+    let (_, mut a) = curve.eval(y)?;
+    a.set_row(N - 1, &t_ref.transpose());
+    let mut rhs = Vector::<N>::zeros();
+    rhs[N - 1] = 1.0;
+    let (z, _) = solve(a, rhs)?;
+    let norm = z.norm();
+    if !norm.is_finite() || norm == 0.0 {
+        return None;
+    }
+    let t = z / norm;
+    a.set_row(N - 1, &t.transpose());
+    let det = determinant(a);
+    det.is_finite().then_some((t, det))
+}
+
+/// Newton's method for curve(y) = 0 on the hyperplane normal·(y − y_pred) = 0.
+/// Returns the point and the number of iterations.
+pub(crate) fn correct<C: Curve<N>, const N: usize>(
+    curve: &C,
+    y_pred: &Vector<N>,
+    normal: &Vector<N>,
+    max_iter: usize,
+) -> Option<(Vector<N>, usize)> {
+    let mut y = *y_pred;
+    for it in 1..=max_iter {
+        let (mut f, mut a) = curve.eval(&y)?;
+        f[N - 1] = normal.dot(&(y - y_pred));
+        let size = a.rows(0, N - 1).amax();
+        let off = f.rows(0, N - 1).amax();
+        a.set_row(N - 1, &normal.transpose());
+        let Some((dy, _)) = solve(a, -f) else {
+            // Exactly at a branch point the matrix is singular; a point whose
+            // residual is negligible there is accepted as it is.
+            let on_curve = off <= 1e-3 * CORRECTOR_TOL * size && f[N - 1].abs() <= CORRECTOR_TOL;
+            return on_curve.then_some((y, it));
+        };
+        y += dy;
+        if !y.iter().all(|v| v.is_finite()) {
+            return None;
+        }
+        if dy.amax() <= CORRECTOR_TOL {
+            return Some((y, it));
+        }
+    }
+    None
+}
+
+/// One accepted continuation step.
+pub(crate) struct Step<const N: usize> {
+    pub y: Vector<N>,
+    pub t: Vector<N>,
+    /// det [J; tᵀ] at the new point.
+    pub det: f64,
+    /// The step length used.
+    pub h: f64,
+    pub iterations: usize,
+}
+
+/// Take one step from (y, t) with length at most `h`, halving on failure
+/// (corrector fails, the tangent turns by more than `max_turn`, or the point
+/// lands too far). None when the step falls below the minimum.
+pub(crate) fn advance<C: Curve<N>, const N: usize>(
+    curve: &C,
+    y: &Vector<N>,
+    t: &Vector<N>,
+    mut h: f64,
+    cfg: &StepConfig,
+) -> Option<Step<N>> {
+    while h >= cfg.min {
+        let pred = y + t * h;
+        if let Some((y_new, iterations)) = correct(curve, &pred, t, cfg.max_corrector) {
+            let dist = (y_new - y).norm();
+            if dist <= 2.0 * h
+                && let Some((t_new, det)) = tangent(curve, &y_new, t)
+                && t_new.dot(t).clamp(-1.0, 1.0).acos() <= cfg.max_turn
+            {
+                return Some(Step {
+                    y: y_new,
+                    t: t_new,
+                    det,
+                    h,
+                    iterations,
+                });
+            }
+        }
+        h *= 0.5;
+    }
+    None
+}
+
+/// The next step length after an accepted step.
+pub(crate) fn next_step_length(step_h: f64, iterations: usize, cfg: &StepConfig) -> f64 {
+    if iterations <= 3 {
+        (step_h * 1.6).min(cfg.max)
+    } else {
+        step_h
+    }
+}
+
+/// The point of the curve near y0 + σ(y1 − y0), corrected on the plane
+/// orthogonal to the chord.
+pub(crate) fn point_between<C: Curve<N>, const N: usize>(
+    curve: &C,
+    y0: &Vector<N>,
+    y1: &Vector<N>,
+    sigma: f64,
+) -> Option<Vector<N>> {
+    let chord = y1 - y0;
+    let len = chord.norm();
+    if len == 0.0 {
+        return Some(*y0);
+    }
+    let pred = y0 + chord * sigma;
+    // Near a branch point Newton converges only linearly: allow more iterations.
+    correct(curve, &pred, &(chord / len), LOCATE_ITERATIONS).map(|(y, _)| y)
+}
+
+/// A root of g in [a, b] where g(a), g(b) differ in sign (Illinois variant of
+/// regula falsi). Stops when the bracket is shorter than `tol`.
+pub(crate) fn illinois(
+    mut g: impl FnMut(f64) -> Option<f64>,
+    mut a: f64,
+    mut ga: f64,
+    mut b: f64,
+    mut gb: f64,
+    tol: f64,
+) -> Option<f64> {
+    if ga == 0.0 {
+        return Some(a);
+    }
+    if gb == 0.0 {
+        return Some(b);
+    }
+    if ga.signum() == gb.signum() {
+        return None;
+    }
+    let mut side = 0i32;
+    for _ in 0..100 {
+        let c = (a * gb - b * ga) / (gb - ga);
+        let c = if c.is_finite() && c > a.min(b) && c < a.max(b) {
+            c
+        } else {
+            0.5 * (a + b)
+        };
+        let gc = g(c)?;
+        if gc == 0.0 {
+            return Some(c);
+        }
+        if gc.signum() == gb.signum() {
+            b = c;
+            gb = gc;
+            if side == -1 {
+                ga *= 0.5;
+            }
+            side = -1;
+        } else {
+            a = c;
+            ga = gc;
+            if side == 1 {
+                gb *= 0.5;
+            }
+            side = 1;
+        }
+        if (b - a).abs() <= tol {
+            return Some(0.5 * (a + b));
+        }
+    }
+    Some(0.5 * (a + b))
+}
+
+/// Where the chord y0 → y1 first leaves the box `bounds` (per coordinate
+/// [lo, hi]): the coordinate and the bound it crosses. None if y1 is inside.
+pub(crate) fn first_exit<const N: usize>(
+    y0: &Vector<N>,
+    y1: &Vector<N>,
+    bounds: &[(f64, f64); N],
+) -> Option<(usize, f64)> {
+    let mut best: Option<(f64, usize, f64)> = None;
+    for (j, &(lo, hi)) in bounds.iter().enumerate() {
+        let d = y1[j] - y0[j];
+        for bound in [lo, hi] {
+            let outside = if bound == lo { y1[j] < lo } else { y1[j] > hi };
+            if outside && d != 0.0 {
+                let s = ((bound - y0[j]) / d).clamp(0.0, 1.0);
+                if best.is_none_or(|(bs, _, _)| s < bs) {
+                    best = Some((s, j, bound));
+                }
+            }
+        }
+    }
+    best.map(|(_, j, b)| (j, b))
+}
+
+/// The point of the curve where coordinate j equals `value`, near the chord y0 → y1.
+pub(crate) fn point_at_coordinate<C: Curve<N>, const N: usize>(
+    curve: &C,
+    y0: &Vector<N>,
+    y1: &Vector<N>,
+    j: usize,
+    value: f64,
+    cfg: &StepConfig,
+) -> Option<Vector<N>> {
+    let d = y1[j] - y0[j];
+    let s = if d != 0.0 {
+        ((value - y0[j]) / d).clamp(0.0, 1.0)
+    } else {
+        1.0
+    };
+    let mut pred = y0 + (y1 - y0) * s;
+    pred[j] = value;
+    let mut normal = Vector::<N>::zeros();
+    normal[j] = 1.0;
+    correct(curve, &pred, &normal, cfg.max_corrector * 2).map(|(y, _)| y)
+}
+
+pub(crate) fn inside<const N: usize>(y: &Vector<N>, bounds: &[(f64, f64); N], slack: f64) -> bool {
+    y.iter()
+        .zip(bounds)
+        .all(|(v, &(lo, hi))| *v >= lo - slack && *v <= hi + slack)
+}
+
+/// Distance from `y` to the polyline `points`.
+pub(crate) fn distance_to_polyline<const N: usize>(y: &Vector<N>, points: &[Vector<N>]) -> f64 {
+    let mut best = f64::INFINITY;
+    if points.len() == 1 {
+        return (y - points[0]).norm();
+    }
+    for w in points.windows(2) {
+        let d = w[1] - w[0];
+        let len2 = d.norm_squared();
+        let s = if len2 > 0.0 {
+            ((y - w[0]).dot(&d) / len2).clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        best = best.min((y - (w[0] + d * s)).norm());
+    }
+    best
+}
+
+// ---------------------------------------------------------------------------
+// The equilibrium curve ∇H(q, p; μ) = 0.
+
+/// ∇H = 0 in scaled coordinates y = (q/s_q, p/s_p, μ/s_μ).
+pub(crate) struct EquilibriumCurve<'a> {
+    pub sys: &'a System,
+    pub param: usize,
+    pub scale: [f64; 3],
+}
+
+impl EquilibriumCurve<'_> {
+    pub fn x(&self, y: &Vector<3>) -> [f64; 3] {
+        [
+            y[0] * self.scale[0],
+            y[1] * self.scale[1],
+            y[2] * self.scale[2],
+        ]
+    }
+
+    pub fn at(&self, mu: f64) -> System {
+        self.sys.with_param(self.param, mu)
+    }
+}
+
+impl Curve<3> for EquilibriumCurve<'_> {
+    fn eval(&self, y: &Vector<3>) -> Option<(Vector<3>, Matrix<3>)> {
+        let x = self.x(y);
+        let j = self.at(x[2]).param_jet(x[0], x[1], self.param);
+        let mut f = Vector::<3>::zeros();
+        let mut a = Matrix::<3>::zeros();
+        for i in 0..2 {
+            f[i] = j.grad[i];
+            for k in 0..3 {
+                a[(i, k)] = j.hess[i][k] * self.scale[k];
+            }
+        }
+        (f.iter().all(|v| v.is_finite()) && a.iter().all(|v| v.is_finite())).then_some((f, a))
+    }
+}
+
+/// Newton on ∇H = 0, det Hess H = 0 with μ free, from `y` (scaled). The
+/// extended Jacobian's last row is ∂ det/∂(q, p, μ) from third derivatives.
+fn newton_fold(curve: &EquilibriumCurve, y: &Vector<3>) -> Option<Vector<3>> {
+    let mut y = *y;
+    for _ in 0..40 {
+        let x = curve.x(&y);
+        let j = curve.at(x[2]).third_jet(x[0], x[1], &[curve.param]);
+        let mut f = Vector::<3>::zeros();
+        let mut a = Matrix::<3>::zeros();
+        // The determinant is divided by the Hessian's size so that its row is of
+        // the same order as the others.
+        let size = j.hess[0][0]
+            .abs()
+            .max(j.hess[1][1].abs())
+            .max(j.hess[0][1].abs())
+            .max(f64::MIN_POSITIVE);
+        f[0] = j.grad[0];
+        f[1] = j.grad[1];
+        f[2] = j.hessian_det() / size;
+        for k in 0..3 {
+            a[(0, k)] = j.hess[0][k] * curve.scale[k];
+            a[(1, k)] = j.hess[1][k] * curve.scale[k];
+            a[(2, k)] = j.hessian_det_derivative(k) / size * curve.scale[k];
+        }
+        let (dy, _) = solve(a, -f)?;
+        y += dy;
+        if !y.iter().all(|v| v.is_finite()) {
+            return None;
+        }
+        if dy.amax() <= FOLD_NEWTON_TOL {
+            return Some(y);
+        }
+    }
+    None
+}
+
+/// The two branch directions through a branch point at `y` (scaled): the one
+/// nearest `arriving` (oriented along it), the other one, and the kind.
+fn branch_directions(
+    curve: &EquilibriumCurve,
+    y: &Vector<3>,
+    arriving: &Vector<3>,
+) -> Option<(Vector<3>, Vector<3>, BifurcationKind)> {
+    let x = curve.x(y);
+    let j = curve.at(x[2]).third_jet(x[0], x[1], &[curve.param]);
+    let s = curve.scale;
+    let row = |i: usize| {
+        Vector::<3>::new(
+            j.hess[i][0] * s[0],
+            j.hess[i][1] * s[1],
+            j.hess[i][2] * s[2],
+        )
+    };
+    let (r0, r1) = (row(0), row(1));
+    let r = if r0.norm() >= r1.norm() { r0 } else { r1 };
+    let rn = r.norm();
+    if rn == 0.0 || !rn.is_finite() {
+        return None;
+    }
+    let r_hat = r / rn;
+    // Left null vector ψ of J = u r̂ᵀ.
+    let u = [r0.dot(&r_hat), r1.dot(&r_hat)];
+    let un = u[0].hypot(u[1]);
+    let psi = [-u[1] / un, u[0] / un];
+    // Orthonormal basis of the null space {v : r̂·v = 0}, first vector along `arriving`.
+    let mut phi1 = arriving - r_hat * r_hat.dot(arriving);
+    if phi1.norm() < 1e-8 {
+        return None;
+    }
+    phi1 /= phi1.norm();
+    let phi2 = r_hat.cross(&phi1);
+    // Quadratic form Q(v, w) = Σ_i ψ_i Σ_jk H_{ijk} s_j s_k v_j w_k.
+    let q = |v: &Vector<3>, w: &Vector<3>| {
+        let mut acc = 0.0;
+        for (i, &ps) in psi.iter().enumerate() {
+            for a in 0..3 {
+                for b in 0..3 {
+                    acc += ps * j.third[i][a][b] * s[a] * s[b] * v[a] * w[b];
+                }
+            }
+        }
+        acc
+    };
+    let (qa, qb, qc) = (q(&phi1, &phi1), q(&phi1, &phi2), q(&phi2, &phi2));
+    // Directions (cos θ, sin θ) with qa cos² + 2 qb cos sin + qc sin² = 0.
+    let tr = 0.5 * (qa + qc);
+    let disc = (0.25 * (qa - qc) * (qa - qc) + qb * qb).sqrt();
+    let (l1, l2) = (tr + disc, tr - disc);
+    let scale = qa.abs().max(qb.abs()).max(qc.abs());
+    if !(scale > 0.0) || l1 * l2 > 0.0 {
+        return None;
+    }
+    // Eigenvector of l1: angle α with tan 2α = 2qb/(qa − qc).
+    let alpha = 0.5 * (2.0 * qb).atan2(qa - qc);
+    let e1 = [alpha.cos(), alpha.sin()];
+    let e2 = [-alpha.sin(), alpha.cos()];
+    let phi = (-l1 / l2).abs().sqrt().atan();
+    let dir = |sign: f64| {
+        let c = phi.cos();
+        let sn = sign * phi.sin();
+        let a = c * e1[0] + sn * e2[0];
+        let b = c * e1[1] + sn * e2[1];
+        (phi1 * a + phi2 * b).normalize()
+    };
+    let (d1, d2) = (dir(1.0), dir(-1.0));
+    let (mut cont, new) = if d1.dot(&phi1).abs() >= d2.dot(&phi1).abs() {
+        (d1, d2)
+    } else {
+        (d2, d1)
+    };
+    if cont.dot(arriving) < 0.0 {
+        cont = -cont;
+    }
+    let kind = if cont[2].abs() < FLAT_TANGENT_TOL || new[2].abs() < FLAT_TANGENT_TOL {
+        BifurcationKind::Pitchfork
+    } else {
+        BifurcationKind::Transcritical
+    };
+    Some((cont, new, kind))
+}
+
+/// Where a branch trace starts.
+#[derive(Clone, Copy, Debug)]
+enum Origin {
+    Seed(usize),
+    Node(usize, usize),
+}
+
+struct Node {
+    y: Vector<3>,
+    /// Outgoing directions and whether each has been traced.
+    dirs: Vec<(Vector<3>, bool)>,
+}
+
+struct Seed {
+    y: Vector<3>,
+    /// At the upper end of the range (traced towards smaller μ).
+    upper: bool,
+    consumed: bool,
+}
+
+struct Tracer<'a> {
+    curve: EquilibriumCurve<'a>,
+    bounds: [(f64, f64); 3],
+    cfg: &'a SweepConfig,
+    cancel: &'a Cancel,
+    progress: &'a dyn Fn(SweepProgress),
+    steps: usize,
+    segments: Vec<Vec<Vector<3>>>,
+    bifurcations: Vec<(Vector<3>, BifurcationKind)>,
+    nodes: Vec<Node>,
+    seeds: Vec<Seed>,
+    queue: VecDeque<Origin>,
+    diagnostics: Vec<Diagnostic>,
+    cancelled: bool,
+    out_of_steps: bool,
+}
+
+impl Tracer<'_> {
+    fn run(&mut self) {
+        for i in 0..self.seeds.len() {
+            self.queue.push_back(Origin::Seed(i));
+        }
+        while let Some(origin) = self.queue.pop_front() {
+            if self.cancelled || self.out_of_steps {
+                break;
+            }
+            match origin {
+                Origin::Seed(i) => {
+                    if self.seeds[i].consumed {
+                        continue;
+                    }
+                    self.seeds[i].consumed = true;
+                    let y0 = self.seeds[i].y;
+                    let dir = if self.seeds[i].upper { -1.0 } else { 1.0 };
+                    let t_ref = Vector::<3>::new(0.0, 0.0, dir);
+                    match tangent(&self.curve, &y0, &t_ref) {
+                        Some((t0, det0)) => self.trace(y0, t0, Some(det0)),
+                        None => {
+                            let x = self.curve.x(&y0);
+                            self.diagnostics.push(Diagnostic::info(format!(
+                                "the equilibrium at q = {:.6}, p = {:.6} ({} = {}) is degenerate; \
+                                 its branches are traced from elsewhere if they reach the range",
+                                x[0],
+                                x[1],
+                                self.param_name(),
+                                x[2]
+                            )));
+                        }
+                    }
+                }
+                Origin::Node(n, d) => {
+                    if self.nodes[n].dirs[d].1 {
+                        continue;
+                    }
+                    self.nodes[n].dirs[d].1 = true;
+                    let (y0, t0) = (self.nodes[n].y, self.nodes[n].dirs[d].0);
+                    self.trace(y0, t0, None);
+                }
+            }
+        }
+    }
+
+    fn param_name(&self) -> String {
+        self.curve
+            .sys
+            .formula()
+            .params()
+            .get(self.curve.param)
+            .cloned()
+            .unwrap_or_default()
+    }
+
+    /// Follow one curve from y0 along t0 until it ends (range, window, branch
+    /// point, closed loop, budget). Splits the trace at saddle-nodes.
+    fn trace(&mut self, y0: Vector<3>, t0: Vector<3>, det0: Option<f64>) {
+        let mut seg = vec![y0];
+        let (mut y, mut t) = (y0, t0);
+        let mut det = det0;
+        let mut h = self.cfg.step.initial;
+        let mut total = 0usize;
+        loop {
+            if self.cancel.is_cancelled() {
+                self.cancelled = true;
+                break;
+            }
+            if self.steps >= self.cfg.max_steps {
+                if !self.out_of_steps {
+                    self.diagnostics.push(Diagnostic::warning(format!(
+                        "the sweep stopped after {} continuation steps; some branches may be incomplete",
+                        self.steps
+                    )));
+                }
+                self.out_of_steps = true;
+                break;
+            }
+            let Some(st) = advance(&self.curve, &y, &t, h, &self.cfg.step) else {
+                let x = self.curve.x(&y);
+                self.diagnostics.push(Diagnostic::warning(format!(
+                    "a branch could not be continued past q = {:.6}, p = {:.6}, {} = {:.6}",
+                    x[0],
+                    x[1],
+                    self.param_name(),
+                    x[2]
+                )));
+                break;
+            };
+            self.steps += 1;
+            total += 1;
+            (self.progress)(SweepProgress {
+                steps: self.steps,
+                max_steps: self.cfg.max_steps,
+                branches: self.segments.len(),
+            });
+            let flip =
+                det.is_some_and(|d| d != 0.0 && st.det != 0.0 && d.signum() != st.det.signum());
+            // The first step from a branch point has no sign to compare with.
+            let turn = det.is_some() && t[2] * st.t[2] < 0.0;
+            if flip {
+                match self.locate_branch_point(&y, &t, det.unwrap_or(st.det), &st.y) {
+                    Some(yb) if inside(&yb, &self.bounds, 0.0) => {
+                        seg.push(yb);
+                        self.finish(std::mem::take(&mut seg));
+                        let arriving = (yb - y).try_normalize(0.0).unwrap_or(t);
+                        self.branch_point(yb, arriving);
+                        return;
+                    }
+                    Some(_) => {}
+                    None => {
+                        let x = self.curve.x(&y);
+                        self.diagnostics.push(Diagnostic::warning(format!(
+                            "a branch point near q = {:.6}, p = {:.6}, {} = {:.6} could not be located",
+                            x[0],
+                            x[1],
+                            self.param_name(),
+                            x[2]
+                        )));
+                    }
+                }
+            } else if turn
+                && let Some(yf) = self.locate_fold(&y, &t, &st.y, &st.t)
+                && inside(&yf, &self.bounds, 0.0)
+            {
+                seg.push(yf);
+                self.finish(std::mem::take(&mut seg));
+                if !self
+                    .bifurcations
+                    .iter()
+                    .any(|(b, _)| (b - yf).amax() < MATCH_TOL)
+                {
+                    self.bifurcations.push((yf, BifurcationKind::SaddleNode));
+                }
+                seg.push(yf);
+            }
+            if !inside(&st.y, &self.bounds, 0.0) {
+                let last = seg.last().copied().unwrap_or(y);
+                if let Some((j, bound)) = first_exit(&last, &st.y, &self.bounds)
+                    && let Some(yc) =
+                        point_at_coordinate(&self.curve, &last, &st.y, j, bound, &self.cfg.step)
+                    && inside(&yc, &self.bounds, 1e-12)
+                {
+                    seg.push(yc);
+                    if j == 2 {
+                        self.consume_seed_near(&yc);
+                    }
+                }
+                break;
+            }
+            seg.push(st.y);
+            if total > 8 && det0.is_some() && (st.y - y0).norm() < 0.5 * st.h {
+                seg.push(y0);
+                break;
+            }
+            y = st.y;
+            t = st.t;
+            det = Some(st.det);
+            h = next_step_length(st.h, st.iterations, &self.cfg.step);
+        }
+        self.finish(seg);
+    }
+
+    fn finish(&mut self, seg: Vec<Vector<3>>) {
+        if seg.len() >= 2 {
+            self.segments.push(seg);
+        }
+    }
+
+    fn consume_seed_near(&mut self, y: &Vector<3>) {
+        for s in &mut self.seeds {
+            if (s.y - y).amax() < MATCH_TOL {
+                s.consumed = true;
+            }
+        }
+    }
+
+    /// The branch point between (y0, t0) and y1 where det [J; tᵀ] changes
+    /// sign. The step is first walked again in ever finer sub-steps so that the
+    /// final bracket is far shorter than the distance to the other branch;
+    /// then a bracketing root search on det [J; chordᵀ] finishes.
+    fn locate_branch_point(
+        &self,
+        y0: &Vector<3>,
+        t0: &Vector<3>,
+        det0: f64,
+        y1: &Vector<3>,
+    ) -> Option<Vector<3>> {
+        let (mut ya, mut ta, mut da) = (*y0, *t0, det0);
+        let mut yb = *y1;
+        let mut h = (y1 - y0).norm();
+        while h > BRANCH_POINT_FINE_STEP {
+            let sub = h / 8.0;
+            let mut found = false;
+            for _ in 0..12 {
+                let Some((y, _)) = correct(&self.curve, &(ya + ta * sub), &ta, LOCATE_ITERATIONS)
+                else {
+                    break;
+                };
+                let Some((t, d)) = tangent(&self.curve, &y, &ta) else {
+                    break;
+                };
+                if d.signum() != da.signum() {
+                    yb = y;
+                    found = true;
+                    break;
+                }
+                (ya, ta, da) = (y, t, d);
+            }
+            if !found {
+                break;
+            }
+            h = sub;
+        }
+        let chord = (yb - ya).try_normalize(0.0)?;
+        let g = |y: &Vector<3>| -> Option<f64> {
+            let (_, mut a) = self.curve.eval(y)?;
+            a.set_row(2, &chord.transpose());
+            Some(determinant(a))
+        };
+        let (ga, gb) = (g(&ya)?, g(&yb)?);
+        let s = illinois(
+            |s| point_between(&self.curve, &ya, &yb, s).and_then(|y| g(&y)),
+            0.0,
+            ga,
+            1.0,
+            gb,
+            LOCATE_TOL,
+        )?;
+        point_between(&self.curve, &ya, &yb, s)
+    }
+
+    fn locate_fold(
+        &self,
+        y0: &Vector<3>,
+        t0: &Vector<3>,
+        y1: &Vector<3>,
+        t1: &Vector<3>,
+    ) -> Option<Vector<3>> {
+        let s0 = t0[2] / (t0[2] - t1[2]);
+        let guess = point_between(&self.curve, y0, y1, s0).unwrap_or(y0 + (y1 - y0) * s0);
+        let reach = 2.0 * (y1 - y0).norm() + MATCH_TOL;
+        if let Some(y) = newton_fold(&self.curve, &guess)
+            && (y - guess).norm() <= reach
+        {
+            return Some(y);
+        }
+        // Fallback: the root of the tangent's μ-component along the step.
+        let chord = (y1 - y0).try_normalize(0.0)?;
+        let g = |s: f64| {
+            let y = point_between(&self.curve, y0, y1, s)?;
+            tangent(&self.curve, &y, &chord).map(|(t, _)| t[2])
+        };
+        let s = illinois(g, 0.0, t0[2], 1.0, t1[2], LOCATE_TOL)?;
+        point_between(&self.curve, y0, y1, s)
+    }
+
+    fn branch_point(&mut self, yb: Vector<3>, arriving: Vector<3>) {
+        if let Some(n) = self
+            .nodes
+            .iter()
+            .position(|n| (n.y - yb).amax() < MATCH_TOL)
+        {
+            let back = -arriving;
+            let node = &mut self.nodes[n];
+            if let Some(best) = (0..node.dirs.len()).max_by(|&a, &b| {
+                node.dirs[a]
+                    .0
+                    .dot(&back)
+                    .total_cmp(&node.dirs[b].0.dot(&back))
+            }) {
+                node.dirs[best].1 = true;
+            }
+            return;
+        }
+        match branch_directions(&self.curve, &yb, &arriving) {
+            Some((cont, new, kind)) => {
+                self.bifurcations.push((yb, kind));
+                let n = self.nodes.len();
+                self.nodes.push(Node {
+                    y: yb,
+                    dirs: vec![(-cont, true), (cont, false), (new, false), (-new, false)],
+                });
+                for d in 1..4 {
+                    self.queue.push_back(Origin::Node(n, d));
+                }
+            }
+            None => {
+                let x = self.curve.x(&yb);
+                self.diagnostics.push(Diagnostic::warning(format!(
+                    "a degenerate branch point at q = {:.6}, p = {:.6}, {} = {:.6} was not resolved; \
+                     branches through it may be missing",
+                    x[0],
+                    x[1],
+                    self.param_name(),
+                    x[2]
+                )));
+                // Continue straight through so the arriving branch is not cut short.
+                let n = self.nodes.len();
+                self.nodes.push(Node {
+                    y: yb,
+                    dirs: vec![(-arriving, true), (arriving, false)],
+                });
+                self.queue.push_back(Origin::Node(n, 1));
+            }
+        }
+    }
+}
+
+/// Seeds for the branches at one end of the range: the equilibria in view.
+fn seeds_at(
+    sys: &System,
+    window: &Window,
+    cfg: &EquilibriumConfig,
+    cancel: &Cancel,
+) -> Vec<[f64; 2]> {
+    let (found, _) = find_equilibria(sys, window, cfg, cancel);
+    found.iter().map(|e| [e.q, e.p]).collect()
+}
+
+/// Trace every branch of equilibria of `sys` as the parameter `param` moves
+/// from `from` to `to`, inside `window`.
+///
+/// Branches start at every equilibrium in view at both ends of the range;
+/// branch points spawn the branches through them; each piece of curve is
+/// traced once. `progress` is called after every accepted step (from the
+/// calling thread); `cancel` stops the work early with partial results.
+pub fn sweep(
+    sys: &System,
+    param: &str,
+    from: f64,
+    to: f64,
+    window: &Window,
+    cfg: &SweepConfig,
+    cancel: &Cancel,
+    progress: &dyn Fn(SweepProgress),
+) -> Result<Sweep, ContinuationError> {
+    let Some(k) = sys.formula().param_index(param) else {
+        return Err(ContinuationError::UnknownParameter {
+            name: param.to_string(),
+            available: sys.formula().params().to_vec(),
+        });
+    };
+    sweep_index(sys, k, from, to, window, cfg, cancel, progress)
+}
+
+/// [`sweep`] with the parameter given by its index in the formula's order.
+#[allow(clippy::too_many_arguments)]
+pub fn sweep_index(
+    sys: &System,
+    param: usize,
+    from: f64,
+    to: f64,
+    window: &Window,
+    cfg: &SweepConfig,
+    cancel: &Cancel,
+    progress: &dyn Fn(SweepProgress),
+) -> Result<Sweep, ContinuationError> {
+    let names = sys.formula().params();
+    let Some(name) = names.get(param).cloned() else {
+        return Err(ContinuationError::UnknownParameter {
+            name: format!("#{param}"),
+            available: names.to_vec(),
+        });
+    };
+    if !(from.is_finite() && to.is_finite()) || from == to {
+        return Err(ContinuationError::BadRange { from, to });
+    }
+    cfg.step.validate()?;
+    window
+        .validate()
+        .map_err(|e| ContinuationError::BadConfig(format!("window: {e}")))?;
+    let (lo, hi) = if from < to { (from, to) } else { (to, from) };
+    let scale = [window.width(), window.height(), hi - lo];
+    let curve = EquilibriumCurve { sys, param, scale };
+    let bounds = [
+        (window.qmin / scale[0], window.qmax / scale[0]),
+        (window.pmin / scale[1], window.pmax / scale[1]),
+        (lo / scale[2], hi / scale[2]),
+    ];
+    let mut seeds = Vec::new();
+    for (mu, upper) in [(lo, false), (hi, true)] {
+        for [q, p] in seeds_at(&curve.at(mu), window, &cfg.equilibria, cancel) {
+            seeds.push(Seed {
+                y: Vector::<3>::new(q / scale[0], p / scale[1], mu / scale[2]),
+                upper,
+                consumed: false,
+            });
+        }
+    }
+    let mut tracer = Tracer {
+        curve,
+        bounds,
+        cfg,
+        cancel,
+        progress,
+        steps: 0,
+        segments: Vec::new(),
+        bifurcations: Vec::new(),
+        nodes: Vec::new(),
+        seeds,
+        queue: VecDeque::new(),
+        diagnostics: Vec::new(),
+        cancelled: false,
+        out_of_steps: false,
+    };
+    if tracer.seeds.is_empty() {
+        tracer.diagnostics.push(Diagnostic::info(format!(
+            "no equilibria in view at {name} = {lo} or {name} = {hi}; nothing to continue"
+        )));
+    }
+    tracer.run();
+    if cancel.is_cancelled() {
+        tracer.cancelled = true;
+    }
+    let curve = &tracer.curve;
+    let mut bifurcations: Vec<Bifurcation> = tracer
+        .bifurcations
+        .iter()
+        .map(|(y, kind)| {
+            let x = curve.x(y);
+            Bifurcation {
+                param: x[2],
+                q: x[0],
+                p: x[1],
+                energy: curve.at(x[2]).energy(x[0], x[1]),
+                kind: *kind,
+            }
+        })
+        .collect();
+    bifurcations.sort_by(|a, b| a.param.total_cmp(&b.param).then(a.q.total_cmp(&b.q)));
+    let is_bifurcation = |y: &Vector<3>| {
+        tracer
+            .bifurcations
+            .iter()
+            .any(|(b, _)| (b - y).amax() < MATCH_TOL)
+    };
+    let branches = tracer
+        .segments
+        .iter()
+        .map(|seg| {
+            let points: Vec<BranchPoint> = seg
+                .iter()
+                .map(|y| {
+                    let x = curve.x(y);
+                    let s = curve.at(x[2]);
+                    let e = classify(&s, x[0], x[1], window);
+                    let kind = if is_bifurcation(y) {
+                        EquilibriumKind::Degenerate
+                    } else {
+                        e.kind
+                    };
+                    BranchPoint {
+                        param: x[2],
+                        q: x[0],
+                        p: x[1],
+                        energy: e.energy,
+                        kind,
+                    }
+                })
+                .collect();
+            let interior = &points[1..points.len().saturating_sub(1).max(1)];
+            let count = |k: EquilibriumKind| interior.iter().filter(|p| p.kind == k).count();
+            let (c, s) = (
+                count(EquilibriumKind::Center),
+                count(EquilibriumKind::Saddle),
+            );
+            let kind = if c == 0 && s == 0 {
+                EquilibriumKind::Degenerate
+            } else if c >= s {
+                EquilibriumKind::Center
+            } else {
+                EquilibriumKind::Saddle
+            };
+            Branch { kind, points }
+        })
+        .collect();
+    Ok(Sweep {
+        param: name,
+        from,
+        to,
+        branches,
+        bifurcations,
+        diagnostics: tracer.diagnostics,
+        steps: tracer.steps,
+        cancelled: tracer.cancelled,
+    })
+}

@@ -1,0 +1,275 @@
+//! Backbones (period, frequency, action, amplitude against energy) against
+//! closed forms and the `ellip` crate's complete elliptic integrals.
+
+use phasewright::core::Cancel;
+use phasewright::core::backbone::{
+    Backbone, BackboneConfig, BackboneError, BackboneMethod, backbone,
+};
+use phasewright::core::system::System;
+use phasewright::core::window::Window;
+use std::f64::consts::PI;
+
+fn run(src: &str, center: [f64; 2], window: Window) -> Backbone {
+    run_with(src, center, window, &BackboneConfig::default())
+}
+
+fn run_with(src: &str, center: [f64; 2], window: Window, cfg: &BackboneConfig) -> Backbone {
+    let sys = System::from_source(src, &[]).expect("formula compiles");
+    backbone(&sys, center, &window, cfg, &Cancel::never(), &|_, _| {}).expect("backbone")
+}
+
+fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs()
+}
+
+#[test]
+fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
+    // H = p²/2 − cos q: T(E) = 4K(m) with m = k² = (1 + E)/2, and
+    // I(E) = (8/π)[E(m) − (1 − m)K(m)] (pendulum libration; from memory), with
+    // K, E from the ellip crate. The well is bounded by the saddles at q = ±π
+    // at energy 1.
+    let b = run(
+        "p^2/2 - cos(q)",
+        [0.1, 0.05],
+        Window::new(-4.0, 4.0, -3.0, 3.0).expect("window"),
+    );
+    assert_eq!(b.method, BackboneMethod::Quadrature);
+    assert_eq!(b.rows.len(), 200);
+    assert!(b.center[0].abs() < 1e-14 && b.center[1].abs() < 1e-14);
+    assert!((b.escape_energy.expect("escape") - 1.0).abs() < 1e-14);
+    for r in &b.rows[1..] {
+        let m = (1.0 + r.energy) / 2.0;
+        let k = ellip::ellipk(m).expect("K");
+        let e = ellip::ellipe(m).expect("E");
+        assert!(
+            rel(r.period, 4.0 * k) < 1e-10,
+            "E = {}: T = {} vs {}",
+            r.energy,
+            r.period,
+            4.0 * k
+        );
+        assert!(rel(r.frequency, 2.0 * PI / (4.0 * k)) < 1e-10);
+        let action = 8.0 / PI * (e - (1.0 - m) * k);
+        assert!(
+            rel(r.action, action) < 1e-10,
+            "E = {}: I = {} vs {}",
+            r.energy,
+            r.action,
+            action
+        );
+        // Turning points where −cos q = E (closed form).
+        assert!(rel(r.amplitude, (-r.energy).acos()) < 1e-10);
+    }
+    // The center row is the small-oscillation limit: T = 2π (ω = 1).
+    assert!(rel(b.rows[0].period, 2.0 * PI) < 1e-14);
+    // Energies are increasing and crowd towards the escape energy.
+    assert!(b.rows.windows(2).all(|w| w[1].energy > w[0].energy));
+    let last = b.rows.len() - 1;
+    assert!(
+        b.rows[last].energy - b.rows[last - 1].energy
+            < 1e-3 * (b.rows[1].energy - b.rows[0].energy)
+    );
+    assert!(1.0 - b.rows[last].energy < 1e-5);
+}
+
+#[test]
+fn pendulum_period_grows_like_two_passes_of_the_saddle() {
+    // Near the separatrix each passage close to a saddle with eigenvalue λ takes
+    // about −(1/λ) ln(E_escape − E) (linearised hyperbolic flow; from memory).
+    // A pendulum libration passes near both saddles ±π (λ = 1), so
+    // dT/d ln(1 − E) → −2, as 4K(m) ≈ 2 ln(16/(1 − m)) also says (from memory).
+    let b = run(
+        "p^2/2 - cos(q)",
+        [0.0, 0.0],
+        Window::new(-4.0, 4.0, -3.0, 3.0).expect("window"),
+    );
+    let n = b.rows.len();
+    let (r1, r2) = (&b.rows[n - 12], &b.rows[n - 1]);
+    let slope = (r2.period - r1.period) / ((1.0 - r2.energy).ln() - (1.0 - r1.energy).ln());
+    assert!((slope + 2.0).abs() < 1e-3, "slope {slope}");
+}
+
+#[test]
+fn cubic_well_period_grows_like_one_pass_of_its_saddle() {
+    // H = p²/2 + q²/2 − q³/3: saddle at q = 1 with V'' = −1 (λ = 1), escape
+    // energy 1/6; the orbit passes the one saddle once per period, so
+    // dT/d ln(E_escape − E) → −1/λ = −1 (linearised hyperbolic flow; from memory).
+    let b = run(
+        "p^2/2 + q^2/2 - q^3/3",
+        [0.0, 0.0],
+        Window::new(-2.0, 2.0, -1.5, 1.5).expect("window"),
+    );
+    let es = b.escape_energy.expect("escape");
+    assert!((es - 1.0 / 6.0).abs() < 1e-14);
+    let n = b.rows.len();
+    let (r1, r2) = (&b.rows[n - 12], &b.rows[n - 1]);
+    let slope = (r2.period - r1.period) / ((es - r2.energy).ln() - (es - r1.energy).ln());
+    assert!((slope + 1.0).abs() < 1e-3, "slope {slope}");
+}
+
+#[test]
+fn morse_frequency_falls_as_the_square_root_of_the_binding_energy() {
+    // H = p²/2 + D(1 − e^(−aq))²: ω(E) = a √(2(D − E)) and I(E) = (√(2D)/a)(1 − √(1 − E/D))
+    // (Morse oscillator, m = 1; from memory). D = 1.5, a = 0.8 (invented).
+    let (d, a) = (1.5, 0.8);
+    let b = run(
+        "p^2/2 + 1.5*(1 - exp(-0.8*q))^2",
+        [0.0, 0.0],
+        Window::new(-1.5, 8.0, -2.0, 2.0).expect("window"),
+    );
+    assert!(
+        b.escape_energy.is_none(),
+        "no saddle: the well opens towards q → ∞"
+    );
+    assert!(b.rows.len() == 200 && b.top_energy > 1.49);
+    for r in &b.rows {
+        let omega = a * (2.0 * (d - r.energy)).sqrt();
+        assert!(
+            rel(r.frequency, omega) < 1e-10,
+            "E = {}: ω = {} vs {}",
+            r.energy,
+            r.frequency,
+            omega
+        );
+        let action = (2.0 * d).sqrt() / a * (1.0 - (1.0 - r.energy / d).sqrt());
+        assert!(
+            (r.action - action).abs() < 1e-10 * action.max(1.0),
+            "E = {}",
+            r.energy
+        );
+    }
+}
+
+#[test]
+fn harmonic_period_is_constant_and_action_is_energy_over_frequency() {
+    // H = p²/2 + ω²q²/2, ω = 1.7 (invented): T = 2π/ω, I = E/ω, amplitude √(2E)/ω (closed form).
+    let w = 1.7;
+    let b = run(
+        "p^2/2 + 1.445*q^2",
+        [0.2, -0.1],
+        Window::new(-2.0, 2.0, -3.0, 3.0).expect("window"),
+    );
+    assert!(b.escape_energy.is_none());
+    for r in &b.rows {
+        assert!(rel(r.period, 2.0 * PI / w) < 1e-12, "T = {}", r.period);
+        assert!((r.action - r.energy / w).abs() < 1e-12);
+        assert!((r.amplitude - (2.0 * r.energy).sqrt() / w).abs() < 1e-12);
+    }
+    // The level whose turning points reach the window's q-edge |q| = 2: E = ω²·4/2.
+    assert!(rel(b.top_energy, 1.445 * 4.0) < 1e-12);
+}
+
+#[test]
+fn tilted_quadratic_well_on_the_orbit_path_keeps_its_frequency() {
+    // H = (p² + q²)/2 + c q p is not separable; it is a linear oscillator with
+    // ω = √(1 − c²) (det of the Hessian) and I = E/ω (closed form). c = 0.3 (invented).
+    let c: f64 = 0.3;
+    let w = (1.0 - c * c).sqrt();
+    let cfg = BackboneConfig {
+        energies: 25,
+        ..BackboneConfig::default()
+    };
+    let b = run_with(
+        "(p^2 + q^2)/2 + 0.3*q*p",
+        [0.0, 0.0],
+        Window::new(-2.0, 2.0, -2.0, 2.0).expect("window"),
+        &cfg,
+    );
+    assert_eq!(b.method, BackboneMethod::Orbit);
+    assert!(b.rows.len() == 25);
+    for r in &b.rows[1..] {
+        assert!(
+            rel(r.frequency, w) < 1e-9,
+            "ω = {} at E = {}",
+            r.frequency,
+            r.energy
+        );
+        assert!(
+            rel(r.action, r.energy / w) < 1e-9,
+            "I = {} vs {}",
+            r.action,
+            r.energy / w
+        );
+    }
+}
+
+#[test]
+fn a_saddle_has_no_backbone() {
+    let sys = System::from_source("p^2/2 - cos(q)", &[]).expect("formula");
+    let w = Window::new(-4.0, 4.0, -3.0, 3.0).expect("window");
+    let err = backbone(
+        &sys,
+        [3.1, 0.0],
+        &w,
+        &BackboneConfig::default(),
+        &Cancel::never(),
+        &|_, _| {},
+    );
+    assert!(
+        matches!(err, Err(BackboneError::NotACenter { .. })),
+        "{err:?}"
+    );
+    let err = backbone(
+        &sys,
+        [f64::NAN, 0.0],
+        &w,
+        &BackboneConfig::default(),
+        &Cancel::never(),
+        &|_, _| {},
+    );
+    assert!(
+        matches!(err, Err(BackboneError::NoEquilibrium { .. })),
+        "{err:?}"
+    );
+}
+
+#[test]
+fn backbone_command_prints_rows_as_csv() {
+    // Pendulum: the first row is the small-oscillation limit T = 2π, and every
+    // row has T = 4K((1 + E)/2) (from memory, K from the ellip crate).
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args([
+            "backbone",
+            "--formula",
+            "p^2/2 - cos(q)",
+            "--window",
+            "-4,4,-3,3",
+            "--center",
+            "0.1,0",
+            "--csv",
+        ])
+        .output()
+        .expect("the binary runs");
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let text = String::from_utf8_lossy(&o.stdout);
+    let mut lines = text.lines();
+    assert_eq!(
+        lines.next(),
+        Some("energy,period,frequency,action,amplitude")
+    );
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| l.split(',').map(|v| v.parse().expect("number")).collect())
+        .collect();
+    assert_eq!(rows.len(), 200);
+    assert!(rel(rows[0][1], 2.0 * PI) < 1e-14);
+    let r = &rows[100];
+    let k = ellip::ellipk((1.0 + r[0]) / 2.0).expect("K");
+    assert!(rel(r[1], 4.0 * k) < 1e-10);
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args([
+            "backbone",
+            "--formula",
+            "p^2/2 - cos(q)",
+            "--center",
+            "1,2,3",
+        ])
+        .output()
+        .expect("the binary runs");
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--center"));
+}
