@@ -341,6 +341,23 @@ pub fn default_step(sys: &System, method: Method, q0: f64, p0: f64, t0: f64, dur
     h.copysign(duration)
 }
 
+/// Local periods 2π/ω integrated when the caller gives no duration.
+pub const DEFAULT_DURATION_PERIODS: f64 = 100.0;
+
+/// A duration for "run until the orbit closes": [`DEFAULT_DURATION_PERIODS`]
+/// local periods 2π/ω at the start (see [`local_rate`]), or that many time
+/// units when the start has no local rate.
+pub fn default_duration(sys: &System, q0: f64, p0: f64, t0: f64) -> f64 {
+    let jet = sys.jet_t(q0, p0, t0);
+    let rate = if jet.is_finite() {
+        local_rate(&jet)
+    } else {
+        0.0
+    };
+    let period = if rate > 0.0 { 2.0 * PI / rate } else { 1.0 };
+    DEFAULT_DURATION_PERIODS * period
+}
+
 /// True when H(q + 2π, p) = H(q, p) at a few points of `bounds` (and H uses q).
 pub fn is_periodic_in_q(sys: &System, bounds: &Window, t: f64) -> bool {
     if !sys.formula().uses_q() {
@@ -417,12 +434,12 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         orbit.motion = Motion::Unbounded;
         return orbit;
     }
-    orbit.samples.push(Sample {
+    let first = Sample {
         t: start.t,
         q: start.q,
         p: start.p,
         h: h0,
-    });
+    };
 
     let method = integrator.method();
     let h = match req.step {
@@ -437,6 +454,7 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
     if speed0 == 0.0 || (rate0 > 0.0 && speed0 / rate0 < EQUILIBRIUM_FRACTION * length) {
         orbit.stop = StopReason::AtEquilibrium;
         orbit.motion = Motion::Equilibrium;
+        orbit.samples.push(first);
         return orbit;
     }
     let sense = h.signum();
@@ -447,8 +465,7 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         req.bounds.diagonal() / BOUNDS_FACTOR / SAMPLE_SEGMENTS_PER_VIEW,
         req.max_samples,
     );
-    thinner.first(orbit.samples[0]);
-    orbit.samples.clear();
+    thinner.first(first);
 
     let mut y = start;
     let mut p_dq_total = 0.0;
@@ -494,7 +511,8 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         // First return to the section through the start, transverse to the flow.
         if orbit.period.is_none() {
             let shift = if periodic {
-                ((next.q - start.q) / Q_PERIOD).round() * Q_PERIOD
+                // `+ 0.0` turns a rounded −0 into 0.
+                ((next.q - start.q) / Q_PERIOD).round() * Q_PERIOD + 0.0
             } else {
                 0.0
             };

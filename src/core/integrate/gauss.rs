@@ -43,6 +43,8 @@ pub struct Collocation {
     a: [[f64; MAX_STAGES]; MAX_STAGES],
     b: [f64; MAX_STAGES],
     c: [f64; MAX_STAGES],
+    /// A⁻¹ (Gauss tableaux are invertible).
+    a_inv: [[f64; MAX_STAGES]; MAX_STAGES],
     /// The last step: its start, size, stage values and end, for starting values.
     last: Option<LastStep>,
 }
@@ -87,11 +89,27 @@ impl Collocation {
                 3
             }
         };
+        let mut padded = nalgebra::Matrix3::<f64>::identity();
+        for i in 0..s {
+            for j in 0..s {
+                padded[(i, j)] = a[i][j];
+            }
+        }
+        let inverse = padded
+            .try_inverse()
+            .unwrap_or_else(nalgebra::Matrix3::identity);
+        let mut a_inv = [[0.0; MAX_STAGES]; MAX_STAGES];
+        for (i, row) in a_inv.iter_mut().enumerate() {
+            for (j, v) in row.iter_mut().enumerate() {
+                *v = inverse[(i, j)];
+            }
+        }
         Collocation {
             s,
             a,
             b,
             c,
+            a_inv,
             last: None,
         }
     }
@@ -227,6 +245,8 @@ impl Collocation {
                     increment,
                 });
             }
+            // Iterate to rounding level: an early stop leaves a bias that adds
+            // up over long runs (Hairer, Lubich & Wanner, §VIII.6).
             if relative <= NEWTON_RELATIVE_TOLERANCE {
                 break;
             }
@@ -251,13 +271,20 @@ impl Collocation {
             }
             previous = relative;
         }
-        // yₙ₊₁ = yₙ + h Σ bᵢ f(Yᵢ), ∫ p dq = h Σ bᵢ Pᵢ q'(Yᵢ).
+        // Stage slopes consistent with the final Z: h Kᵢ = Σⱼ (A⁻¹)ᵢⱼ Zⱼ; then
+        // yₙ₊₁ = yₙ + h Σ bᵢ Kᵢ and ∫ p dq = h Σ bᵢ Pᵢ K_q,ᵢ.
         let (mut dq, mut dp, mut p_dq) = (0.0, 0.0, 0.0);
         for i in 0..s {
-            dq += self.b[i] * f[i][0];
-            dp += self.b[i] * f[i][1];
-            p_dq += self.b[i] * (y.p + z[i][1]) * f[i][0];
+            let (mut kq, mut kp) = (0.0, 0.0);
+            for j in 0..s {
+                kq += self.a_inv[i][j] * z[j][0];
+                kp += self.a_inv[i][j] * z[j][1];
+            }
+            dq += self.b[i] * kq;
+            dp += self.b[i] * kp;
+            p_dq += self.b[i] * (y.p + z[i][1]) * kq;
         }
+        let (dq, dp, p_dq) = (dq / h, dp / h, p_dq / h);
         let end = State {
             q: y.q + h * dq,
             p: y.p + h * dp,

@@ -1,0 +1,222 @@
+//! Orbit benchmark: 1000 periods of the pendulum H = p²/2 − cos q from 90°,
+//! for several methods and steps: energy error, field evaluations, wall time;
+//! raw steps per second through the formula tape; and the same orbit done by
+//! a hand-written script stack (SciPy DOP853) for comparison.
+//!
+//! Run: cargo run --release --no-default-features --example bench_orbit
+//! (set PHASEWRIGHT_BENCH_NO_PYTHON=1 to skip the script stack).
+
+use phasewright::core::Cancel;
+use phasewright::core::integrate::{Integrator, Method, State};
+use phasewright::core::orbit::{OrbitRequest, integrate_orbit};
+use phasewright::core::system::System;
+use phasewright::core::window::Window;
+use std::f64::consts::PI;
+use std::process::Command;
+use std::time::Instant;
+
+/// 4K(1/√2): the period from 90° (A&S 17.6).
+const PERIOD: f64 = 7.416298709205488;
+const PERIODS: f64 = 1000.0;
+const REPEAT: usize = 5;
+
+struct Row {
+    label: String,
+    error: f64,
+    evaluations: u64,
+    jets: u64,
+    steps: u64,
+    wall_ms: f64,
+}
+
+fn median(mut v: Vec<f64>) -> f64 {
+    v.sort_by(f64::total_cmp);
+    v[v.len() / 2]
+}
+
+fn orbit_row(
+    sys: &System,
+    method: Method,
+    steps_per_period: Option<f64>,
+    tolerance: Option<f64>,
+) -> Row {
+    let view = Window::new(-PI, PI, -2.5, 2.5).unwrap_or_default();
+    let mut req = OrbitRequest::new(PI / 2.0, 0.0, PERIODS * PERIOD, &view);
+    req.method = method;
+    req.step = steps_per_period.map(|n| PERIOD / n);
+    if let Some(t) = tolerance {
+        req.tolerance = t;
+    }
+    let mut times = Vec::new();
+    let mut last = None;
+    for _ in 0..REPEAT {
+        let t0 = Instant::now();
+        let o = integrate_orbit(sys, &req, &Cancel::never());
+        times.push(t0.elapsed().as_secs_f64() * 1e3);
+        last = Some(o);
+    }
+    let o = last.unwrap_or_else(|| integrate_orbit(sys, &req, &Cancel::never()));
+    let label = match (steps_per_period, tolerance) {
+        (Some(n), _) => format!("{method} h = T/{n}"),
+        (None, Some(t)) => format!("{method} tol {t:e}"),
+        _ => method.to_string(),
+    };
+    if !matches!(o.stop, phasewright::core::orbit::StopReason::Finished) {
+        eprintln!("{label}: stopped early: {}", o.stop);
+    }
+    Row {
+        label,
+        error: o.energy_error,
+        evaluations: o.field_evaluations,
+        jets: o.jet_evaluations,
+        steps: o.steps,
+        wall_ms: median(times),
+    }
+}
+
+/// Steps per second of the bare stepper (no measurements, no samples).
+fn steps_per_second(sys: &System, method: Method, steps_per_period: f64) -> f64 {
+    let Ok(mut integ) = Integrator::new(sys, method) else {
+        return f64::NAN;
+    };
+    let h = PERIOD / steps_per_period;
+    let n = 400_000usize;
+    let mut y = State {
+        q: PI / 2.0,
+        p: 0.0,
+        t: 0.0,
+    };
+    let t0 = Instant::now();
+    for _ in 0..n {
+        match integ.step(sys, &y, h) {
+            Ok(s) => y = s.state,
+            Err(_) => break,
+        }
+    }
+    let secs = t0.elapsed().as_secs_f64();
+    std::hint::black_box(y);
+    n as f64 / secs
+}
+
+struct Peer {
+    wall_ms: f64,
+    evaluations: f64,
+    error: f64,
+}
+
+fn peer() -> Option<Peer> {
+    if std::env::var_os("PHASEWRIGHT_BENCH_NO_PYTHON").is_some() {
+        return None;
+    }
+    let script = std::env::var("PHASEWRIGHT_SCRIPT_STACK")
+        .unwrap_or_else(|_| "/work/shared/bench/script_stack.py".into());
+    let out = Command::new("python3")
+        .arg(&script)
+        .args(["--repeat", "3"])
+        .output()
+        .ok()?;
+    if !out.status.success() {
+        eprintln!(
+            "script stack failed: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        return None;
+    }
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).ok()?;
+    Some(Peer {
+        wall_ms: v["orbit_1000_periods_ms"].as_f64()?,
+        evaluations: v["orbit_rhs_evaluations"].as_f64()?,
+        error: v["orbit_energy_drift"].as_f64()?,
+    })
+}
+
+fn main() {
+    let sys = match System::from_source("p^2/2 - cos(q)", &[]) {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("{e}");
+            return;
+        }
+    };
+    println!("Pendulum H = p^2/2 - cos q from q = 90 deg, p = 0; 1000 periods (T = 4K(1/sqrt 2)).");
+    println!(
+        "Energy error = max |H - H0| over every step; evaluations: one per field, kick or drift pass."
+    );
+    println!(
+        "Median of {REPEAT} runs, through integrate_orbit (samples, measurements included).\n"
+    );
+    let configs: Vec<(Method, Option<f64>, Option<f64>)> = vec![
+        (Method::Yoshida4, Some(100.0), None),
+        (Method::Yoshida4, Some(300.0), None),
+        (Method::Yoshida6, Some(40.0), None),
+        (Method::Yoshida6, Some(60.0), None),
+        (Method::Gauss6, Some(20.0), None),
+        (Method::Gauss6, Some(30.0), None),
+        (Method::Gauss6, Some(40.0), None),
+        (Method::Dopri5, None, Some(1e-10)),
+    ];
+    let rows: Vec<Row> = configs
+        .iter()
+        .map(|&(m, n, tol)| orbit_row(&sys, m, n, tol))
+        .collect();
+    let peer = peer();
+    println!(
+        "{:<24} {:>11} {:>12} {:>9} {:>10} {:>10} {:>9}",
+        "method", "energy err", "evaluations", "jets", "steps", "wall ms", "vs peer"
+    );
+    for r in &rows {
+        let verdict = match &peer {
+            Some(p) => format!(
+                "{}{}{}",
+                if r.error <= p.error { "E" } else { "-" },
+                if (r.evaluations as f64) <= p.evaluations / 10.0 {
+                    "N"
+                } else {
+                    "-"
+                },
+                if r.wall_ms <= p.wall_ms / 100.0 {
+                    "W"
+                } else {
+                    "-"
+                }
+            ),
+            None => String::new(),
+        };
+        println!(
+            "{:<24} {:>11.3e} {:>12} {:>9} {:>10} {:>10.2} {:>9}",
+            r.label, r.error, r.evaluations, r.jets, r.steps, r.wall_ms, verdict
+        );
+    }
+    if let Some(p) = &peer {
+        println!(
+            "{:<24} {:>11.3e} {:>12} {:>9} {:>10} {:>10.2}",
+            "script stack DOP853", p.error, p.evaluations as u64, "-", "-", p.wall_ms
+        );
+        println!(
+            "\nvs peer: E = energy error <= peer's, N = evaluations <= peer's / 10, W = wall time <= peer's / 100"
+        );
+        for r in &rows {
+            println!(
+                "  {:<24} evaluations {:>6.3} x peer, wall time {:>7.1}x faster",
+                r.label,
+                r.evaluations as f64 / p.evaluations,
+                p.wall_ms / r.wall_ms
+            );
+        }
+    } else {
+        println!("\n(script stack not run)");
+    }
+    println!("\nBare stepper, steps per second through the formula tape:");
+    for (m, n) in [
+        (Method::Yoshida4, 100.0),
+        (Method::Yoshida6, 60.0),
+        (Method::Gauss6, 30.0),
+        (Method::Gauss4, 60.0),
+    ] {
+        println!(
+            "  {:<10} h = T/{n:<4} {:>12.0} steps/s",
+            m.to_string(),
+            steps_per_second(&sys, m, n)
+        );
+    }
+}
