@@ -24,8 +24,9 @@
 //!
 //! Reference: E. L. Allgower and K. Georg, *Introduction to Numerical
 //! Continuation Methods* (SIAM 2003), ch. 2 (predictor–corrector), ch. 8
-//! (detection of bifurcation points, branch switching); H. B. Keller, *Lectures
-//! on Numerical Methods in Bifurcation Problems* (Tata Institute 1987) §3–5.
+//! (detection of bifurcation points, branch switching); H. B. Keller, "Numerical
+//! solution of bifurcation and nonlinear eigenvalue problems", in *Applications
+//! of Bifurcation Theory* (Academic Press 1977), pp. 359–384.
 
 use super::equilibria::{EquilibriumConfig, EquilibriumKind, classify, find_equilibria};
 use super::system::System;
