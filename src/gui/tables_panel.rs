@@ -24,6 +24,16 @@ pub struct TablesPanel {
     pub tab: Tab,
 }
 
+/// `x` with `digits` decimals; a value that rounds to zero is shown without a
+/// sign (a center at q = −1e-17 reads "0.00000", not "-0.00000").
+fn fixed(x: f64, digits: usize) -> String {
+    let text = format!("{x:.digits$}");
+    match text.strip_prefix('-') {
+        Some(rest) if rest.chars().all(|c| c == '0' || c == '.') => rest.to_string(),
+        _ => text,
+    }
+}
+
 /// Text of the equilibria table: q, p, H, kind, eigenvalues, ω or λ.
 pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
     eqs.iter()
@@ -34,9 +44,9 @@ pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
                 _ => "—".into(),
             };
             [
-                format!("{:.5}", e.q),
-                format!("{:.5}", e.p),
-                format!("{:.6}", e.energy),
+                fixed(e.q, 5),
+                fixed(e.p, 5),
+                fixed(e.energy, 6),
                 kind_name(e.kind).to_string(),
                 eigen_text(e),
                 rate,
@@ -47,17 +57,13 @@ pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
 
 /// Text of the wells table: center position, bottom energy, escape energy, depth.
 pub fn well_rows(a: &Analysis) -> Vec<[String; 4]> {
-    let opt = |v: Option<f64>| {
-        v.map_or("— (not bounded in view)".to_string(), |x| {
-            format!("{x:.6}")
-        })
-    };
+    let opt = |v: Option<f64>| v.map_or("— (not bounded in view)".to_string(), |x| fixed(x, 6));
     a.wells
         .iter()
         .map(|w| {
             [
-                format!("({:.4}, {:.4})", w.q, w.p),
-                format!("{:.6}", w.energy),
+                format!("({}, {})", fixed(w.q, 4), fixed(w.p, 4)),
+                fixed(w.energy, 6),
                 opt(w.escape_energy),
                 opt(w.depth),
             ]
