@@ -13,9 +13,9 @@ BIN=${1:-target/release/phasewright}
 SESSION=${2:-sessions/biased-resonator.json}
 OUT=${FRAMES_OUT:-target/frames}
 DISPLAY_NUM=${FRAMES_DISPLAY:-:98}
-X0=${FRAMES_SLIDER_X0:-60}
-X1=${FRAMES_SLIDER_X1:-230}
-Y=${FRAMES_SLIDER_Y:-0}
+X0=${FRAMES_SLIDER_X0:-20}
+X1=${FRAMES_SLIDER_X1:-320}
+Y=${FRAMES_SLIDER_Y:-204}
 SWEEPS=${FRAMES_SWEEPS:-4}
 
 fail() { echo "frames: FAIL: $*" >&2; exit 1; }
@@ -36,7 +36,7 @@ done
 [ -n "$WIN" ] || fail "no window"
 sleep 4
 xdotool windowactivate --sync "$WIN" 2>/dev/null || true
-if [ "$Y" = 0 ]; then fail "set FRAMES_SLIDER_Y to the first slider's row (see $OUT/before.png)"; fi
+
 import -window root "$OUT/before.png"
 : >"$OUT/frames.log.mark"
 START=$(wc -l <"$OUT/frames.log")
@@ -48,9 +48,10 @@ import -window root "$OUT/dragging.png"
 xdotool mouseup 1
 sleep 2
 import -window root "$OUT/after.png"
-tail -n +"$((START + 1))" "$OUT/frames.log" | awk '
-  /dragging=true/ { n++; split($1,a,"="); split($2,b,"="); ui=a[2]; gap=b[2];
-    s+=gap; u+=ui; if (ui>umax) umax=ui; if (gap>gmax) gmax=gap; gaps[n]=gap }
-  END { if (n < 2) { print "frames: no dragging frames logged"; exit 1 }
-    asort(gaps); p95=gaps[int(0.95*n)];
-    printf "frames while dragging: %d, mean interval %.1f ms (%.1f frames/s), p95 interval %.1f ms, worst interval %.1f ms; UI thread mean %.2f ms, worst %.2f ms\n", n, s/n, 1000*n/s, p95, gmax, u/n, umax }'
+tail -n +"$((START + 1))" "$OUT/frames.log" | grep 'dragging=true' \
+  | tail -n +2 | sed -E 's/ui_ms=([0-9.]+) since_last_ms=([0-9.]+).*/\2 \1/' >"$OUT/drag.txt"
+N=$(wc -l <"$OUT/drag.txt")
+[ "$N" -ge 2 ] || fail "no dragging frames logged (is the slider at $X0..$X1, $Y? see $OUT/before.png)"
+P95=$(cut -d' ' -f1 "$OUT/drag.txt" | sort -n | awk -v n="$N" 'NR == int(0.95 * n) { print }')
+awk -v p95="$P95" '{ n++; s += $1; u += $2; if ($1 > g) g = $1; if ($2 > m) m = $2 }
+  END { printf "frames while dragging: %d, mean interval %.1f ms (%.1f frames/s), p95 interval %.1f ms, worst interval %.1f ms; UI thread per frame: mean %.2f ms, worst %.2f ms\n", n, s / n, 1000 * n / s, p95, g, u / n, m }' "$OUT/drag.txt"
