@@ -833,11 +833,7 @@ impl Scene {
                     .map(|r| [r.amplitude, r.frequency])
                     .collect();
                 let x = fitted_axis("amplitude", points.iter().map(|p| p[0]), (0.0, 1.0));
-                let y = fitted_axis(
-                    "frequency \u{3c9}",
-                    points.iter().map(|p| p[1]),
-                    (0.0, 1.0),
-                );
+                let y = fitted_axis("frequency \u{3c9}", points.iter().map(|p| p[1]), (0.0, 1.0));
                 (points, x, y, "Frequency against amplitude")
             }
         };

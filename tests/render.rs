@@ -497,9 +497,11 @@ fn render_command_csv_holds_the_analysis_values_bit_for_bit() {
 /// q = −√(μ/3) (cusp catastrophe; closed form).
 fn imperfect_pitchfork_sweep() -> (System, phasewright::core::continuation::Sweep) {
     use phasewright::core::continuation::{SweepConfig, sweep};
-    let sys =
-        System::from_source("p^2/2 + q^4/4 - mu*q^2/2 - eps*q", &[("mu", 0.1), ("eps", 0.05)])
-            .unwrap();
+    let sys = System::from_source(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", 0.1), ("eps", 0.05)],
+    )
+    .unwrap();
     let window = Window::new(-2.0, 2.0, -1.0, 1.0).unwrap();
     let s = sweep(
         &sys,
@@ -543,7 +545,11 @@ fn diagram_scene_draws_each_branch_once_and_labels_the_saddle_node() {
     assert_eq!((scene.x.min, scene.x.max), (-1.0, 1.0));
     assert_eq!(scene.x.label, "mu");
     assert!(scene.caption.contains("eps = 0.05") && !scene.caption.contains("mu = 0.1"));
-    assert!(scene.caption.ends_with("mu from -1 to 1"), "{}", scene.caption);
+    assert!(
+        scene.caption.ends_with("mu from -1 to 1"),
+        "{}",
+        scene.caption
+    );
     // A current value outside the range draws no guide.
     let outside = Scene::diagram(&sys, &s, Some(3.0));
     assert_eq!(outside.curves_with("guide").count(), 0);
@@ -561,7 +567,15 @@ fn backbone_scene_plots_period_against_energy_up_to_the_escape_energy() {
         energies: 40,
         ..BackboneConfig::default()
     };
-    let b = backbone(&sys, [0.1, 0.0], &window, &cfg, &Cancel::never(), &|_, _| {}).unwrap();
+    let b = backbone(
+        &sys,
+        [0.1, 0.0],
+        &window,
+        &cfg,
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .unwrap();
     let scene = Scene::backbone(&sys, &b, BackbonePlot::PeriodEnergy);
     let curve = scene.curves_with("backbone").next().unwrap();
     assert_eq!(curve.points.len(), b.rows.len());
@@ -584,9 +598,11 @@ fn folds_scene_draws_the_cusp_curve_and_marks_the_cusp() {
     use phasewright::core::folds::{FoldConfig, fold_curves};
     use phasewright::scene::MarkRole;
     // 27ε² = 4μ³ with its cusp at μ = ε = 0 (cusp catastrophe; closed form).
-    let sys =
-        System::from_source("p^2/2 + q^4/4 - mu*q^2/2 - eps*q", &[("mu", 0.5), ("eps", 0.05)])
-            .unwrap();
+    let sys = System::from_source(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", 0.5), ("eps", 0.05)],
+    )
+    .unwrap();
     let window = Window::new(-2.0, 2.0, -1.0, 1.0).unwrap();
     let f = fold_curves(
         &sys,

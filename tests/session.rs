@@ -662,15 +662,50 @@ fn a_file_without_analysis_settings_loads_and_saves_without_them() {
 fn bad_analysis_settings_are_named_by_field() {
     let good = with_analyses();
     let cases: [(&str, &str, &str, &str); 9] = [
-        (r#""from": -1.5"#, r#""from": "low""#, "sweep.from", "expected a number"),
+        (
+            r#""from": -1.5"#,
+            r#""from": "low""#,
+            "sweep.from",
+            "expected a number",
+        ),
         (r#""to": 1.5"#, r#""to": -1.5"#, "sweep.to", "must differ"),
         (r#""param": "b", "#, "", "sweep.param", "missing"),
-        (r#""max_step": 0.01"#, r#""max_step": -0.01"#, "sweep.max_step", "greater than 0"),
-        (r#""params": ["b", "a"]"#, r#""params": ["a", "a"]"#, "folds.params[1]", "must differ"),
-        (r#"[-1.5, 1.5, 0.2, 2.0]"#, r#"[1.5, -1.5, 0.2, 2.0]"#, "folds.box[0]", "less than"),
-        (r#"[-1.5, 1.5, 0.2, 2.0]"#, r#"[-1.5, 1.5, 0.2]"#, "folds.box", "length"),
-        (r#""center": [0.1, 0.0]"#, r#""center": [0.1]"#, "backbone.center", "length"),
-        (r#""energies": 120"#, r#""energies": -3"#, "backbone.energies", ""),
+        (
+            r#""max_step": 0.01"#,
+            r#""max_step": -0.01"#,
+            "sweep.max_step",
+            "greater than 0",
+        ),
+        (
+            r#""params": ["b", "a"]"#,
+            r#""params": ["a", "a"]"#,
+            "folds.params[1]",
+            "must differ",
+        ),
+        (
+            r#"[-1.5, 1.5, 0.2, 2.0]"#,
+            r#"[1.5, -1.5, 0.2, 2.0]"#,
+            "folds.box[0]",
+            "less than",
+        ),
+        (
+            r#"[-1.5, 1.5, 0.2, 2.0]"#,
+            r#"[-1.5, 1.5, 0.2]"#,
+            "folds.box",
+            "length",
+        ),
+        (
+            r#""center": [0.1, 0.0]"#,
+            r#""center": [0.1]"#,
+            "backbone.center",
+            "length",
+        ),
+        (
+            r#""energies": 120"#,
+            r#""energies": -3"#,
+            "backbone.energies",
+            "",
+        ),
     ];
     for (from, to, field, words) in cases {
         assert_eq!(good.matches(from).count(), 1, "{from}");
@@ -686,14 +721,20 @@ fn analysis_work_amounts_load_clamped_with_warnings() {
         .replace(r#""max_step": 0.01"#, r#""max_step": 5"#)
         .replace(r#""energies": 120"#, r#""energies": 1000000"#);
     let (s, w) = load(&text).expect("loads");
-    assert_eq!(s.sweep.as_ref().and_then(|x| x.max_step), Some(session::MAX_SWEEP_STEP));
+    assert_eq!(
+        s.sweep.as_ref().and_then(|x| x.max_step),
+        Some(session::MAX_SWEEP_STEP)
+    );
     assert_eq!(
         s.backbone.as_ref().and_then(|x| x.energies),
         Some(session::MAX_BACKBONE_ENERGIES)
     );
     assert_eq!(w.len(), 2, "{w:?}");
     assert!(w.iter().any(|m| m.starts_with("sweep.max_step")), "{w:?}");
-    assert!(w.iter().any(|m| m.starts_with("backbone.energies")), "{w:?}");
+    assert!(
+        w.iter().any(|m| m.starts_with("backbone.energies")),
+        "{w:?}"
+    );
     let few = with_analyses().replace(r#""energies": 120"#, r#""energies": 1"#);
     let (s, w) = load(&few).expect("loads");
     assert_eq!(
@@ -711,7 +752,10 @@ fn analysis_settings_naming_no_formula_parameter_warn_and_keep_the_name() {
     let (s, w) = load(&text).expect("loads");
     assert_eq!(s.sweep.as_ref().map(|x| x.param.as_str()), Some("beta"));
     assert_eq!(w.len(), 2, "{w:?}");
-    assert!(w[0].starts_with("sweep.param") && w[0].contains("a, b"), "{w:?}");
+    assert!(
+        w[0].starts_with("sweep.param") && w[0].contains("a, b"),
+        "{w:?}"
+    );
     assert!(w[1].starts_with("folds.params[1]"), "{w:?}");
 }
 
@@ -719,5 +763,8 @@ fn analysis_settings_naming_no_formula_parameter_warn_and_keep_the_name() {
 fn unknown_fields_inside_analysis_settings_are_named() {
     let text = with_analyses().replace(r#""energies": 120"#, r#""energies": 120, "centre": 1"#);
     let (_, w) = load(&text).expect("loads");
-    assert_eq!(w, vec!["backbone.centre: unknown field, ignored (check the spelling)"]);
+    assert_eq!(
+        w,
+        vec!["backbone.centre: unknown field, ignored (check the spelling)"]
+    );
 }
