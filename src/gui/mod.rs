@@ -13,6 +13,7 @@ mod menu_bar;
 pub mod orbits;
 mod params_panel;
 mod plot_panel;
+mod scene_plot;
 mod tables_panel;
 mod worker;
 
@@ -458,6 +459,7 @@ impl Explorer {
                 self.selection,
                 busy,
                 self.now,
+                None,
             ));
         });
         commands.extend(dialogs::ui(&ctx, &mut self.modal, self.file.is_some()));
