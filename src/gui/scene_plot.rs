@@ -10,8 +10,8 @@
 //! as the scene says.
 
 use crate::scene::{
-    ColourScale, CurveRole, LegendEntry, MarkRole, MarkerShape, MarkerStyle, Rgb, Scene, Swatch,
-    nice_ticks, tick_label,
+    ColourScale, LegendEntry, MarkRole, MarkerShape, MarkerStyle, Rgb, Scene, Swatch, nice_ticks,
+    tick_label,
 };
 use egui::{Color32, Painter, Pos2, Rect, Stroke, pos2, vec2};
 use egui_plot::{Arrows, Line, LineStyle, PlotPoint, PlotUi, Points, Text};
@@ -82,7 +82,6 @@ pub fn readable_on_dark(c: Rgb) -> Rgb {
 }
 
 struct ViewCurve {
-    role: CurveRole,
     points: Vec<PlotPoint>,
     colour: Rgb,
     width: f32,
@@ -144,7 +143,6 @@ impl SceneView {
                     })
                     .unzip();
                 ViewCurve {
-                    role: c.role,
                     points: to_points(&c.points),
                     colour: c.colour,
                     width: c.width as f32,
@@ -187,11 +185,6 @@ impl SceneView {
             y_label: scene.y.label.clone(),
             bounds: [scene.x.min, scene.x.max, scene.y.min, scene.y.max],
         }
-    }
-
-    /// Number of curves (after dropping those with fewer than two points).
-    pub fn curve_count(&self) -> usize {
-        self.curves.len()
     }
 
     /// Draw into a plot: curves in order, then marks, then labels.
@@ -239,11 +232,6 @@ impl SceneView {
                 );
             }
         }
-    }
-
-    /// True when curves of this role are present.
-    pub fn has_role(&self, class: &str) -> bool {
-        self.curves.iter().any(|c| c.role.class() == class)
     }
 }
 

@@ -284,7 +284,8 @@ pub enum ViewKind {
 impl ViewKind {
     pub const ALL: [ViewKind; 3] = [ViewKind::Diagram, ViewKind::Folds, ViewKind::Backbone];
 
-    fn index(self) -> usize {
+    /// Position in [`ViewKind::ALL`].
+    pub fn index(self) -> usize {
         match self {
             ViewKind::Diagram => 0,
             ViewKind::Folds => 1,
@@ -390,7 +391,6 @@ struct ViewJob {
 /// a running job is cancelled through `core::Cancel` when a newer one (or the
 /// user) asks, and progress is shared for the pane to show.
 pub struct Lane {
-    kind: ViewKind,
     jobs: Option<Sender<ViewJob>>,
     results: Receiver<ViewComputed>,
     handle: Option<JoinHandle<()>>,
@@ -416,7 +416,6 @@ impl Lane {
             .spawn(move || lane_loop(kind, job_rx, res_tx, shared, repaint))
             .map_err(|e| format!("could not start the {} thread: {e}", kind.thread_name()))?;
         Ok(Lane {
-            kind,
             jobs: Some(job_tx),
             results: res_rx,
             handle: Some(handle),
@@ -424,10 +423,6 @@ impl Lane {
             next_generation: 1,
             in_flight: None,
         })
-    }
-
-    pub fn kind(&self) -> ViewKind {
-        self.kind
     }
 
     /// Queue a job, cancelling the one before; returns its generation.
