@@ -354,6 +354,11 @@ impl Explorer {
         self.views.sweep()
     }
 
+    /// The data range of the diagram as drawn, [xmin, xmax, ymin, ymax] (tests).
+    pub fn diagram_bounds(&self) -> Option<[f64; 4]> {
+        self.views.diagram_bounds()
+    }
+
     /// The fold curves the fold pane shows.
     pub fn folds(&self) -> Option<&crate::core::folds::FoldCurves> {
         self.views.folds()

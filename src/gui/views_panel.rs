@@ -247,6 +247,11 @@ impl ViewsPanel {
         target > 0 && self.shown[i].as_ref().is_none_or(|c| c.generation < target)
     }
 
+    /// The data range of the diagram as drawn: [xmin, xmax, ymin, ymax].
+    pub fn diagram_bounds(&self) -> Option<[f64; 4]> {
+        self.figures[0].views.first().map(|v| v.bounds)
+    }
+
     /// The sweep shown in the diagram pane.
     pub fn sweep(&self) -> Option<&Sweep> {
         match self.shown[0].as_ref().map(|c| c.outcome.as_ref()) {
