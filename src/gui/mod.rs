@@ -433,6 +433,15 @@ impl Explorer {
         });
     }
 
+    /// Show `window` as a pan or zoom of the plot would (used by tests).
+    pub fn set_view(&mut self, window: Window) {
+        self.apply(Command::SetView {
+            window,
+            dragging: false,
+        });
+        self.plot.reapply_view();
+    }
+
     /// Use native file dialogs (true) or always the in-app path prompt.
     pub fn set_native_dialogs(&mut self, on: bool) {
         self.native_dialogs = on;

@@ -189,7 +189,8 @@ fn worker_loop(
     repaint: Arc<Mutex<Option<egui::Context>>>,
 ) {
     let mut last_analysis: Option<(JobSpec, Arc<Analysis>)> = None;
-    let mut last_orbits: Vec<(String, Vec<f64>, SeededOrbit, Arc<OrbitOutcome>)> = Vec::new();
+    let mut last_orbits: Vec<(String, Vec<f64>, SeededOrbit, Window, Arc<OrbitOutcome>)> =
+        Vec::new();
     while let Ok(mut job) = jobs.recv() {
         // Only the newest pending job matters.
         while let Ok(newer) = jobs.try_recv() {
@@ -221,12 +222,17 @@ fn worker_loop(
         let mut outcomes = Vec::with_capacity(job.spec.orbits.len());
         let mut fresh = Vec::with_capacity(job.spec.orbits.len());
         for seeded in &job.spec.orbits {
+            // An orbit that stopped at the bounds of an earlier view is
+            // integrated again for this one (the bounds follow pan and zoom).
             let reused = last_orbits
                 .iter()
-                .find(|(src, params, s, _)| {
-                    src == &job.spec.source && params == &job.spec.params && s == seeded
+                .find(|(src, params, s, window, o)| {
+                    src == &job.spec.source
+                        && params == &job.spec.params
+                        && s == seeded
+                        && (!o.view_bound || *window == job.spec.window)
                 })
-                .map(|o| o.3.clone());
+                .map(|o| o.4.clone());
             let outcome = match reused {
                 Some(o) => o,
                 None => Arc::new(integrate(
@@ -240,6 +246,7 @@ fn worker_loop(
                 job.spec.source.clone(),
                 job.spec.params.clone(),
                 seeded.clone(),
+                job.spec.window,
                 outcome.clone(),
             ));
             outcomes.push(outcome);
