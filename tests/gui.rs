@@ -74,6 +74,19 @@ fn settle(h: &mut Harness<'static, Explorer>) {
     }
 }
 
+/// A press and release of the primary button at `at` (a click, no drag).
+fn click_at(h: &mut Harness<'static, Explorer>, at: egui::Pos2) {
+    h.hover_at(at);
+    for pressed in [true, false] {
+        h.event(egui::Event::PointerButton {
+            pos: at,
+            button: egui::PointerButton::Primary,
+            pressed,
+            modifiers: egui::Modifiers::NONE,
+        });
+    }
+}
+
 fn kinds(app: &Explorer) -> Vec<EquilibriumKind> {
     app.analysis()
         .map(|a| a.equilibria.iter().map(|e| e.kind).collect())
@@ -155,19 +168,7 @@ fn a_click_in_the_plot_launches_an_orbit_with_a_period() {
     let mut f = open(session("p^2/2 + q^2/2", &[], window(-2.0, 2.0, -2.0, 2.0)));
     let rect = f.harness.get_by_label(PLOT_LABEL).rect();
     let at = rect.center() + egui::vec2(rect.width() * 0.2, 0.0);
-    f.harness.hover_at(at);
-    f.harness.event(egui::Event::PointerButton {
-        pos: at,
-        button: egui::PointerButton::Primary,
-        pressed: true,
-        modifiers: egui::Modifiers::NONE,
-    });
-    f.harness.event(egui::Event::PointerButton {
-        pos: at,
-        button: egui::PointerButton::Primary,
-        pressed: false,
-        modifiers: egui::Modifiers::NONE,
-    });
+    click_at(&mut f.harness, at);
     // The launch waits out the double-click interval.
     f.harness.run_steps(40);
     settle(&mut f.harness);
@@ -472,19 +473,7 @@ fn clicking_the_diagram_sets_the_parameter_and_redraws_the_portrait() {
     let [x0, x1, _, _] = f.harness.state().diagram_bounds().expect("diagram drawn");
     let rect = f.harness.get_by_label(DIAGRAM_LABEL).rect();
     let at = egui::pos2(rect.left() + 0.8 * rect.width(), rect.center().y);
-    f.harness.hover_at(at);
-    f.harness.event(egui::Event::PointerButton {
-        pos: at,
-        button: egui::PointerButton::Primary,
-        pressed: true,
-        modifiers: egui::Modifiers::NONE,
-    });
-    f.harness.event(egui::Event::PointerButton {
-        pos: at,
-        button: egui::PointerButton::Primary,
-        pressed: false,
-        modifiers: egui::Modifiers::NONE,
-    });
+    click_at(&mut f.harness, at);
     settle(&mut f.harness);
     let app = f.harness.state();
     let mu = app.session.parameters[0].value;

@@ -139,24 +139,30 @@ impl Worker {
     /// passes; returns every result received meanwhile. For tests and the
     /// headless benchmark only: the UI never calls this.
     pub fn wait_for(&self, generation: u64, timeout: Duration) -> Vec<Computed> {
-        let deadline = Instant::now() + timeout;
-        let mut got = Vec::new();
-        loop {
-            let now = Instant::now();
-            if now >= deadline {
-                return got;
-            }
-            match self.results.recv_timeout(deadline - now) {
-                Ok(c) => {
-                    let done = c.generation >= generation;
-                    got.push(c);
-                    if done {
-                        got.extend(self.results.try_iter());
-                        return got;
-                    }
+        wait_on(&self.results, timeout, |c| c.generation >= generation)
+    }
+}
+
+/// Receive from `results` until one satisfies `done` or `timeout` passes;
+/// returns everything received, oldest first (tests and benchmarks only).
+fn wait_on<T>(results: &Receiver<T>, timeout: Duration, done: impl Fn(&T) -> bool) -> Vec<T> {
+    let deadline = Instant::now() + timeout;
+    let mut got = Vec::new();
+    loop {
+        let now = Instant::now();
+        if now >= deadline {
+            return got;
+        }
+        match results.recv_timeout(deadline - now) {
+            Ok(c) => {
+                let finished = done(&c);
+                got.push(c);
+                if finished {
+                    got.extend(results.try_iter());
+                    return got;
                 }
-                Err(_) => return got,
             }
+            Err(_) => return got,
         }
     }
 }
@@ -480,25 +486,7 @@ impl Lane {
     /// Block until the result of `generation` or newer arrives or `timeout`
     /// passes (tests only; the UI never waits).
     pub fn wait_for(&self, generation: u64, timeout: Duration) -> Vec<ViewComputed> {
-        let deadline = Instant::now() + timeout;
-        let mut got = Vec::new();
-        loop {
-            let now = Instant::now();
-            if now >= deadline {
-                return got;
-            }
-            match self.results.recv_timeout(deadline - now) {
-                Ok(c) => {
-                    let done = c.generation >= generation;
-                    got.push(c);
-                    if done {
-                        got.extend(self.results.try_iter());
-                        return got;
-                    }
-                }
-                Err(_) => return got,
-            }
-        }
+        wait_on(&self.results, timeout, |c| c.generation >= generation)
     }
 }
 
