@@ -409,7 +409,11 @@ fn the_diagram_shows_one_saddle_node_of_the_imperfect_pitchfork() {
     assert_eq!(sweep.bifurcations.len(), 1, "{:?}", sweep.bifurcations);
     let b = &sweep.bifurcations[0];
     assert_eq!(b.kind, BifurcationKind::SaddleNode);
-    assert!((b.param - IMPERFECT_FOLD).abs() < 1e-8, "at mu = {}", b.param);
+    assert!(
+        (b.param - IMPERFECT_FOLD).abs() < 1e-8,
+        "at mu = {}",
+        b.param
+    );
     assert!(
         (b.q + (IMPERFECT_FOLD / 3.0).sqrt()).abs() < 1e-6,
         "at q = {}",
@@ -503,11 +507,7 @@ fn clicking_the_diagram_sets_the_parameter_and_redraws_the_portrait() {
 
 #[test]
 fn the_backbone_of_the_pendulum_starts_at_the_small_oscillation_period() {
-    let mut f = open(session(
-        "p^2/2 - cos(q)",
-        &[],
-        window(-4.0, 4.0, -3.0, 3.0),
-    ));
+    let mut f = open(session("p^2/2 - cos(q)", &[], window(-4.0, 4.0, -3.0, 3.0)));
     f.harness.state_mut().show_pane("backbone");
     settle(&mut f.harness);
     let app = f.harness.state();
@@ -534,7 +534,9 @@ fn the_backbone_of_the_pendulum_starts_at_the_small_oscillation_period() {
 #[test]
 fn a_sweep_range_with_from_above_to_is_refused_and_edits_undo() {
     let mut f = open(imperfect(0.0));
-    f.harness.get_by_label("sweep from").set_value_accesskit(2.0);
+    f.harness
+        .get_by_label("sweep from")
+        .set_value_accesskit(2.0);
     f.harness.run_steps(3);
     let sw = f.harness.state().session.sweep.clone().expect("sweep");
     assert_eq!((sw.from, sw.to), (-1.0, 1.0));

@@ -93,11 +93,33 @@ fn centers(analysis: Option<&Analysis>) -> Vec<[f64; 2]> {
     })
 }
 
-fn resolve(inp: &Inputs) -> Resolved {
-    let names: Vec<String> = inp
-        .system
+/// The formula's parameter names in order.
+fn param_names(inp: &Inputs) -> Vec<String> {
+    inp.system
         .map(|s| s.formula().params().to_vec())
-        .unwrap_or_default();
+        .unwrap_or_default()
+}
+
+/// A drop-down choosing one of `names`; returns the choice.
+fn param_choice(
+    ui: &mut egui::Ui,
+    id: impl std::hash::Hash + std::fmt::Debug,
+    current: &str,
+    names: &[String],
+) -> String {
+    let mut chosen = current.to_string();
+    egui::ComboBox::from_id_salt(id)
+        .selected_text(current)
+        .show_ui(ui, |ui| {
+            for n in names {
+                ui.selectable_value(&mut chosen, n.clone(), n);
+            }
+        });
+    chosen
+}
+
+fn resolve(inp: &Inputs) -> Resolved {
+    let names = param_names(inp);
     let known = |n: &str| names.iter().any(|m| m == n);
     let sweep = match &inp.settings.sweep {
         Some((n, a, b)) if known(n) => Some((n.clone(), *a, *b)),
@@ -453,24 +475,14 @@ impl ViewsPanel {
         look: &Look,
         commands: &mut Vec<Command>,
     ) {
-        let names: Vec<String> = inp
-            .system
-            .map(|s| s.formula().params().to_vec())
-            .unwrap_or_default();
+        let names = param_names(inp);
         let Some((name, from, to)) = r.sweep.clone() else {
             ui.label("The formula has no parameter to sweep.");
             return;
         };
         ui.horizontal(|ui| {
             ui.label("sweep");
-            let mut chosen = name.clone();
-            egui::ComboBox::from_id_salt("sweep-param")
-                .selected_text(&chosen)
-                .show_ui(ui, |ui| {
-                    for n in &names {
-                        ui.selectable_value(&mut chosen, n.clone(), n);
-                    }
-                });
+            let chosen = param_choice(ui, "sweep-param", &name, &names);
             if chosen != name {
                 let (lo, hi) = range_of(inp.parameters, &chosen).unwrap_or((from, to));
                 self.refused = None;
@@ -558,10 +570,7 @@ impl ViewsPanel {
         look: &Look,
         commands: &mut Vec<Command>,
     ) {
-        let names: Vec<String> = inp
-            .system
-            .map(|s| s.formula().params().to_vec())
-            .unwrap_or_default();
+        let names = param_names(inp);
         let Some((pair, bounds)) = r.folds.clone() else {
             ui.label("A fold curve needs a formula with two parameters.");
             return;
