@@ -38,6 +38,7 @@ fn session(formula: &str, params: &[(&str, f64, f64, f64)], view: Window) -> Ses
             refine: false,
         },
         orbits: Vec::new(),
+        ..Session::blank(formula)
     }
 }
 
