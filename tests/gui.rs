@@ -440,7 +440,8 @@ fn moving_the_parameter_across_the_saddle_node_is_announced() {
     assert!(f.harness.state().announcement().is_none());
     // Across it (0.2 → 0.4 passes μ = 0.25650): named on the portrait.
     f.harness.get_by_label("mu value").set_value_accesskit(0.4);
-    f.harness.run_steps(2);
+    // The notice's layer is measured on its first frame and shown from the next.
+    f.harness.run_steps(3);
     assert_eq!(
         f.harness.state().announcement(),
         Some("saddle-node at mu = 0.2565")

@@ -149,11 +149,9 @@ macro_rules! pane_inputs {
     ($ex:expr, $system:expr) => {
         views_panel::Inputs {
             system: $system,
-            parameters: &$ex.session.parameters,
-            view: $ex.session.view,
+            session: &$ex.session,
             analysis: $ex.shown.as_ref().map(|c| c.analysis.as_ref()),
             selection: $ex.selection,
-            settings: &$ex.panes,
             dragging: $ex.dragging,
         }
     };
@@ -178,7 +176,6 @@ pub struct Explorer {
     plot: plot_panel::PlotPanel,
     tables: tables_panel::TablesPanel,
     views: views_panel::ViewsPanel,
-    panes: PaneSettings,
     /// A bifurcation the last parameter move crossed, and when.
     announcement: Option<(String, f64)>,
     shown: Option<Computed>,
@@ -244,7 +241,6 @@ impl Explorer {
             plot: plot_panel::PlotPanel::default(),
             tables: tables_panel::TablesPanel::default(),
             views,
-            panes: PaneSettings::default(),
             announcement: None,
             shown: None,
             last_spec: None,
@@ -851,9 +847,9 @@ impl Explorer {
             }
             Command::Select(s) => self.selection = s,
             Command::SetPanes { settings, dragging } => {
-                if settings != self.panes {
+                if settings != PaneSettings::of(&self.session) {
                     self.edit(EditKind::Panes, dragging);
-                    self.panes = settings;
+                    settings.store(&mut self.session);
                 }
             }
             Command::Guarded(action) => {

@@ -13,13 +13,11 @@ use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
 use crate::core::system::System;
-use crate::core::window::Window;
-use crate::scene::Scene;
-use crate::session::Parameter;
+use crate::scene::{BackbonePlot, Scene, label_number};
+use crate::session::{BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
 use egui_plot::{Plot, PlotBounds};
 use std::sync::{Arc, Mutex};
 use std::time::Duration;
-use stub::{BackbonePlot, SceneStub, label_number};
 
 use super::params_panel::accessible_name;
 use super::scene_plot::{self, Look, SceneView};
@@ -32,15 +30,29 @@ pub const FOLDS_LABEL: &str = "Fold curve";
 pub const BACKBONE_LABEL: &str = "Backbone: period against energy";
 pub const FREQUENCY_LABEL: &str = "Backbone: frequency against amplitude";
 
-/// What the panes compute, as the session stores it.
+/// The session's settings of the panes, edited together.
 #[derive(Clone, Debug, PartialEq, Default)]
 pub struct PaneSettings {
-    /// Swept parameter and its range.
-    pub sweep: Option<(String, f64, f64)>,
-    /// The two parameters of the fold curve and the box [a1, b1, a2, b2].
-    pub folds: Option<([String; 2], [f64; 4])>,
-    /// The center whose backbone is shown.
-    pub center: Option<[f64; 2]>,
+    pub sweep: Option<SweepSettings>,
+    pub folds: Option<FoldSettings>,
+    pub backbone: Option<BackboneSettings>,
+}
+
+impl PaneSettings {
+    pub fn of(session: &Session) -> PaneSettings {
+        PaneSettings {
+            sweep: session.sweep.clone(),
+            folds: session.folds.clone(),
+            backbone: session.backbone.clone(),
+        }
+    }
+
+    /// Put these settings into `session`.
+    pub fn store(self, session: &mut Session) {
+        session.sweep = self.sweep;
+        session.folds = self.folds;
+        session.backbone = self.backbone;
+    }
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -54,11 +66,9 @@ pub enum Tab {
 /// What the panes read from the explorer each frame.
 pub struct Inputs<'a> {
     pub system: Option<&'a System>,
-    pub parameters: &'a [Parameter],
-    pub view: Window,
+    pub session: &'a Session,
     pub analysis: Option<&'a Analysis>,
     pub selection: Selection,
-    pub settings: &'a PaneSettings,
     /// A slider or the view is being dragged: hold new jobs until it is released.
     pub dragging: bool,
 }
@@ -104,34 +114,38 @@ fn param_names(inp: &Inputs) -> Vec<String> {
 fn param_choice(
     ui: &mut egui::Ui,
     id: impl std::hash::Hash + std::fmt::Debug,
+    label: &str,
     current: &str,
     names: &[String],
 ) -> String {
     let mut chosen = current.to_string();
-    egui::ComboBox::from_id_salt(id)
+    let r = egui::ComboBox::from_id_salt(id)
         .selected_text(current)
         .show_ui(ui, |ui| {
             for n in names {
                 ui.selectable_value(&mut chosen, n.clone(), n);
             }
         });
+    accessible_name(&r.response, egui::Role::ComboBox, label);
     chosen
 }
 
 fn resolve(inp: &Inputs) -> Resolved {
     let names = param_names(inp);
     let known = |n: &str| names.iter().any(|m| m == n);
-    let sweep = match &inp.settings.sweep {
-        Some((n, a, b)) if known(n) => Some((n.clone(), *a, *b)),
+    let sweep = match &inp.session.sweep {
+        Some(sw) if known(&sw.param) => Some((sw.param.clone(), sw.from, sw.to)),
         _ => names
             .first()
-            .and_then(|n| range_of(inp.parameters, n).map(|(lo, hi)| (n.clone(), lo, hi))),
+            .and_then(|n| range_of(&inp.session.parameters, n).map(|(lo, hi)| (n.clone(), lo, hi))),
     };
-    let folds = match &inp.settings.folds {
-        Some((ns, b)) if known(&ns[0]) && known(&ns[1]) && ns[0] != ns[1] => Some((ns.clone(), *b)),
+    let folds = match &inp.session.folds {
+        Some(f) if known(&f.params[0]) && known(&f.params[1]) && f.params[0] != f.params[1] => {
+            Some((f.params.clone(), f.bounds))
+        }
         _ if names.len() >= 2 => {
-            let r0 = range_of(inp.parameters, &names[0]);
-            let r1 = range_of(inp.parameters, &names[1]);
+            let r0 = range_of(&inp.session.parameters, &names[0]);
+            let r1 = range_of(&inp.session.parameters, &names[1]);
             match (r0, r1) {
                 (Some((a1, b1)), Some((a2, b2))) => {
                     Some(([names[0].clone(), names[1].clone()], [a1, b1, a2, b2]))
@@ -150,8 +164,10 @@ fn resolve(inp: &Inputs) -> Resolved {
         _ => None,
     };
     let center = inp
-        .settings
-        .center
+        .session
+        .backbone
+        .as_ref()
+        .and_then(|b| b.center)
         .or(selected_center)
         .or_else(|| centers(inp.analysis).first().copied());
     Resolved {
@@ -319,7 +335,7 @@ impl ViewsPanel {
             ViewSpec {
                 source: sys.formula().source().to_string(),
                 params,
-                window: inp.view,
+                window: inp.session.view,
                 task,
             }
         };
@@ -332,6 +348,7 @@ impl ViewsPanel {
                         param: name.clone(),
                         from: *from,
                         to: *to,
+                        cfg: inp.session.sweep_config(),
                     },
                     &[(name, *from)],
                 ),
@@ -354,7 +371,16 @@ impl ViewsPanel {
         if self.tab == Tab::Backbone
             && let Some(center) = r.center
         {
-            wanted.push((ViewKind::Backbone, base(ViewTask::Backbone { center }, &[])));
+            wanted.push((
+                ViewKind::Backbone,
+                base(
+                    ViewTask::Backbone {
+                        center,
+                        cfg: inp.session.backbone_config(),
+                    },
+                    &[],
+                ),
+            ));
         }
         for (kind, spec) in wanted {
             let i = kind.index();
@@ -482,12 +508,17 @@ impl ViewsPanel {
         };
         ui.horizontal(|ui| {
             ui.label("sweep");
-            let chosen = param_choice(ui, "sweep-param", &name, &names);
+            let chosen = param_choice(ui, "sweep-param", "swept parameter", &name, &names);
             if chosen != name {
-                let (lo, hi) = range_of(inp.parameters, &chosen).unwrap_or((from, to));
+                let (lo, hi) = range_of(&inp.session.parameters, &chosen).unwrap_or((from, to));
                 self.refused = None;
-                let mut s = inp.settings.clone();
-                s.sweep = Some((chosen.clone(), lo, hi));
+                let mut s = PaneSettings::of(inp.session);
+                s.sweep = Some(SweepSettings {
+                    param: chosen.clone(),
+                    from: lo,
+                    to: hi,
+                    max_step: inp.session.sweep.as_ref().and_then(|w| w.max_step),
+                });
                 commands.push(Command::SetPanes {
                     settings: s,
                     dragging: false,
@@ -503,8 +534,13 @@ impl ViewsPanel {
             if ra.changed() || rb.changed() {
                 if a < b && a.is_finite() && b.is_finite() {
                     self.refused = None;
-                    let mut s = inp.settings.clone();
-                    s.sweep = Some((name.clone(), a, b));
+                    let mut s = PaneSettings::of(inp.session);
+                    s.sweep = Some(SweepSettings {
+                        param: name.clone(),
+                        from: a,
+                        to: b,
+                        max_step: inp.session.sweep.as_ref().and_then(|w| w.max_step),
+                    });
                     commands.push(Command::SetPanes {
                         settings: s,
                         dragging: ra.dragged() || rb.dragged(),
@@ -517,7 +553,7 @@ impl ViewsPanel {
             }
         });
         self.status_row(ui, ViewKind::Diagram);
-        let current = value_of(inp.parameters, &name);
+        let current = value_of(&inp.session.parameters, &name);
         let (generation, sys) = match &self.shown[0] {
             Some(c) => (c.generation, c.system.clone()),
             None => {
@@ -528,7 +564,7 @@ impl ViewsPanel {
         let sweep = self.sweep().cloned();
         if let Some(sw) = &sweep {
             self.figures[0].update(generation, &[current.unwrap_or(f64::NAN)], || {
-                vec![Scene::stub_diagram(&sys, sw, current)]
+                vec![Scene::diagram(&sys, sw, current)]
             });
         }
         let Some(view) = self.figures[0].views.first() else {
@@ -537,7 +573,7 @@ impl ViewsPanel {
         let height = (ui.available_height() - 110.0).max(160.0);
         let clicked = pane_plot(ui, "bifurcation-diagram", DIAGRAM_LABEL, view, look, height);
         if let Some(x) = clicked {
-            let (lo, hi) = range_of(inp.parameters, &name).unwrap_or((from, to));
+            let (lo, hi) = range_of(&inp.session.parameters, &name).unwrap_or((from, to));
             commands.push(Command::SetParam {
                 name: name.clone(),
                 value: x.clamp(lo, hi),
@@ -584,13 +620,17 @@ impl ViewsPanel {
             .show(ui, |ui| {
                 for k in 0..2 {
                     ui.label(if k == 0 { "across" } else { "up" });
-                    egui::ComboBox::from_id_salt(("fold-param", k))
-                        .selected_text(&new_pair[k])
-                        .show_ui(ui, |ui| {
-                            for n in &names {
-                                ui.selectable_value(&mut new_pair[k], n.clone(), n);
-                            }
-                        });
+                    new_pair[k] = param_choice(
+                        ui,
+                        ("fold-param", k),
+                        if k == 0 {
+                            "fold parameter across"
+                        } else {
+                            "fold parameter up"
+                        },
+                        &pair[k],
+                        &names,
+                    );
                     ui.label("from");
                     let ra = ui.add(
                         egui::DragValue::new(&mut b[2 * k])
@@ -617,7 +657,7 @@ impl ViewsPanel {
         if new_pair != pair {
             for k in 0..2 {
                 if new_pair[k] != pair[k]
-                    && let Some((lo, hi)) = range_of(inp.parameters, &new_pair[k])
+                    && let Some((lo, hi)) = range_of(&inp.session.parameters, &new_pair[k])
                 {
                     b[2 * k] = lo;
                     b[2 * k + 1] = hi;
@@ -643,8 +683,11 @@ impl ViewsPanel {
                 ));
             } else {
                 self.refused = None;
-                let mut s = inp.settings.clone();
-                s.folds = Some((new_pair.clone(), b));
+                let mut s = PaneSettings::of(inp.session);
+                s.folds = Some(FoldSettings {
+                    params: new_pair.clone(),
+                    bounds: b,
+                });
                 commands.push(Command::SetPanes {
                     settings: s,
                     dragging: dragged,
@@ -653,8 +696,8 @@ impl ViewsPanel {
         }
         self.status_row(ui, ViewKind::Folds);
         let current = match (
-            value_of(inp.parameters, &pair[0]),
-            value_of(inp.parameters, &pair[1]),
+            value_of(&inp.session.parameters, &pair[0]),
+            value_of(&inp.session.parameters, &pair[1]),
         ) {
             (Some(a), Some(c)) => Some([a, c]),
             _ => None,
@@ -667,9 +710,7 @@ impl ViewsPanel {
         let folds = self.folds().cloned();
         if let Some(f) = &folds {
             let extra = current.map_or(vec![f64::NAN; 2], |c| c.to_vec());
-            self.figures[1].update(generation, &extra, || {
-                vec![Scene::stub_folds(&sys, f, current)]
-            });
+            self.figures[1].update(generation, &extra, || vec![Scene::folds(&sys, f, current)]);
         }
         let Some(view) = self.figures[1].views.first() else {
             return;
@@ -712,16 +753,20 @@ impl ViewsPanel {
         ui.horizontal(|ui| {
             ui.label("well of the");
             let mut chosen = center;
-            egui::ComboBox::from_id_salt("backbone-center")
+            let r = egui::ComboBox::from_id_salt("backbone-center")
                 .selected_text(show(center))
                 .show_ui(ui, |ui| {
                     for c in &list {
                         ui.selectable_value(&mut chosen, *c, show(*c));
                     }
                 });
+            accessible_name(&r.response, egui::Role::ComboBox, "backbone center");
             if chosen != center {
-                let mut s = inp.settings.clone();
-                s.center = Some(chosen);
+                let mut s = PaneSettings::of(inp.session);
+                s.backbone = Some(BackboneSettings {
+                    center: Some(chosen),
+                    ..s.backbone.unwrap_or_default()
+                });
                 commands.push(Command::SetPanes {
                     settings: s,
                     dragging: false,
@@ -738,8 +783,8 @@ impl ViewsPanel {
         if let Some(b) = &bb {
             self.figures[2].update(generation, &[], || {
                 vec![
-                    Scene::stub_backbone(&sys, b, BackbonePlot::PeriodEnergy),
-                    Scene::stub_backbone(&sys, b, BackbonePlot::FrequencyAmplitude),
+                    Scene::backbone(&sys, b, BackbonePlot::PeriodEnergy),
+                    Scene::backbone(&sys, b, BackbonePlot::FrequencyAmplitude),
                 ]
             });
         }
@@ -835,54 +880,4 @@ fn pane_plot(
     });
     ui.label(egui::RichText::new(readout).monospace().small());
     clicked
-}
-
-// TEMPORARY-STUB until the scene builders land
-mod stub {
-    use super::*;
-    #[derive(Clone, Copy)]
-    pub enum BackbonePlot {
-        PeriodEnergy,
-        FrequencyAmplitude,
-    }
-    pub fn label_number(v: f64) -> String {
-        format!("{v:.5}")
-    }
-    pub trait SceneStub {
-        fn stub_diagram(sys: &System, s: &Sweep, c: Option<f64>) -> Scene;
-        fn stub_folds(sys: &System, s: &FoldCurves, c: Option<[f64; 2]>) -> Scene;
-        fn stub_backbone(sys: &System, s: &Backbone, c: BackbonePlot) -> Scene;
-    }
-    fn pts(v: Vec<[f64; 2]>) -> Scene {
-        let mut s = Scene::portrait(
-            &System::from_source("p^2/2+q^2/2", &[]).unwrap(),
-            &crate::core::analysis::analyze(
-                &System::from_source("p^2/2+q^2/2", &[]).unwrap(),
-                &Window::new(-1.0, 1.0, -1.0, 1.0).unwrap(),
-                &Default::default(),
-                &crate::core::Cancel::never(),
-            ),
-        );
-        s.add_orbit(&v, None);
-        s
-    }
-    impl SceneStub for Scene {
-        fn stub_diagram(_: &System, s: &Sweep, _: Option<f64>) -> Scene {
-            pts(s
-                .branches
-                .iter()
-                .flat_map(|b| b.points.iter().map(|p| [p.param, p.q]))
-                .collect())
-        }
-        fn stub_folds(_: &System, s: &FoldCurves, _: Option<[f64; 2]>) -> Scene {
-            pts(s
-                .curves
-                .iter()
-                .flat_map(|b| b.points.iter().map(|p| p.params))
-                .collect())
-        }
-        fn stub_backbone(_: &System, s: &Backbone, _: BackbonePlot) -> Scene {
-            pts(s.rows.iter().map(|r| [r.energy, r.period]).collect())
-        }
-    }
 }

@@ -322,6 +322,7 @@ pub enum ViewTask {
         param: String,
         from: f64,
         to: f64,
+        cfg: SweepConfig,
     },
     Folds {
         params: [String; 2],
@@ -329,6 +330,7 @@ pub enum ViewTask {
     },
     Backbone {
         center: [f64; 2],
+        cfg: BackboneConfig,
     },
 }
 
@@ -566,13 +568,18 @@ fn run_view(job: &ViewJob, report: &dyn Fn(usize, usize, String)) -> ViewOutcome
     let sys = &job.system;
     let window = &job.spec.window;
     match &job.spec.task {
-        ViewTask::Sweep { param, from, to } => ViewOutcome::Sweep(sweep(
+        ViewTask::Sweep {
+            param,
+            from,
+            to,
+            cfg,
+        } => ViewOutcome::Sweep(sweep(
             sys,
             param,
             *from,
             *to,
             window,
-            &SweepConfig::default(),
+            cfg,
             &job.cancel,
             &|p: SweepProgress| {
                 report(
@@ -597,11 +604,11 @@ fn run_view(job: &ViewJob, report: &dyn Fn(usize, usize, String)) -> ViewOutcome
                 )
             },
         )),
-        ViewTask::Backbone { center } => ViewOutcome::Backbone(backbone(
+        ViewTask::Backbone { center, cfg } => ViewOutcome::Backbone(backbone(
             sys,
             *center,
             window,
-            &BackboneConfig::default(),
+            cfg,
             &job.cancel,
             &|done, total| report(done, total, format!("{done} of {total} energies")),
         )),
