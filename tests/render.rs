@@ -941,3 +941,59 @@ fn backbone_csv_holds_every_row_bit_for_bit() {
     // Small oscillations in the well at q = 0 with unit stiffness and mass: T = 2π (closed form).
     assert!((rows[1][1].parse::<f64>().unwrap() - 2.0 * PI).abs() < 1e-9);
 }
+
+#[cfg(feature = "gui")]
+#[test]
+fn explorer_export_writes_the_same_bytes_as_the_render_command() {
+    use phasewright::render::{ExportFormat, FigureFormat, PortraitTable, View};
+    let dir = tempfile::tempdir().unwrap();
+    let (session, _) = load_example("imperfect-strut.json");
+    let path = sessions_dir().join("imperfect-strut.json");
+    for (view, flag, format, ext) in [
+        (
+            "diagram",
+            View::Diagram,
+            ExportFormat::Figure(FigureFormat::Svg),
+            "svg",
+        ),
+        (
+            "folds",
+            View::Folds,
+            ExportFormat::Csv(PortraitTable::Equilibria),
+            "csv",
+        ),
+    ]
+    .map(|(name, view, format, ext)| (view, name, format, ext))
+    {
+        let from_cli = dir.path().join(format!("cli.{ext}"));
+        let o = run(&[
+            "render",
+            path.to_str().unwrap(),
+            "-o",
+            from_cli.to_str().unwrap(),
+            "--view",
+            flag,
+        ]);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let from_gui = dir.path().join(format!("gui.{ext}"));
+        let done = phasewright::gui::export_to_file(&session, view, format, &from_gui).unwrap();
+        assert!(done.starts_with("exported"), "{done}");
+        assert_eq!(
+            std::fs::read(&from_gui).unwrap(),
+            std::fs::read(&from_cli).unwrap(),
+            "{flag}"
+        );
+    }
+    // A session without sweep settings: the export says so and writes nothing.
+    let (bond, _) = load_example("diatomic-bond.json");
+    let target = dir.path().join("none.svg");
+    let e = phasewright::gui::export_to_file(
+        &bond,
+        View::Diagram,
+        ExportFormat::Figure(FigureFormat::Svg),
+        &target,
+    )
+    .unwrap_err();
+    assert!(e.contains("sweep settings"), "{e}");
+    assert!(!target.exists());
+}
