@@ -73,6 +73,36 @@ fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
 }
 
 #[test]
+fn upside_down_pendulum_well_is_a_maximum_with_the_same_periods() {
+    // H = cos q − p²/2 = −(p²/2 − cos q): the flow of −H is the pendulum's run
+    // backwards, so the level E has period 4K(m) with m = (1 − E)/2 (the
+    // pendulum's closed form at energy −E; K from the ellip crate). The center
+    // q = 0 is a maximum of H at E = 1; the well is bounded below by the
+    // saddles q = ±π at E = −1.
+    let b = run(
+        "cos(q) - p^2/2",
+        [0.05, 0.0],
+        Window::new(-4.0, 4.0, -3.0, 3.0).expect("window"),
+    );
+    assert_eq!(b.method, BackboneMethod::Quadrature);
+    assert!((b.center_energy - 1.0).abs() < 1e-14);
+    assert!((b.escape_energy.expect("escape") + 1.0).abs() < 1e-14);
+    assert!(b.rows.windows(2).all(|w| w[1].energy < w[0].energy));
+    for r in &b.rows[1..] {
+        let k = ellip::ellipk((1.0 - r.energy) / 2.0).expect("K");
+        assert!(
+            rel(r.period, 4.0 * k) < 1e-10,
+            "E = {}: T = {} vs {}",
+            r.energy,
+            r.period,
+            4.0 * k
+        );
+        // Turning points where cos q = E (closed form).
+        assert!(rel(r.amplitude, r.energy.acos()) < 1e-10);
+    }
+}
+
+#[test]
 fn pendulum_period_grows_like_two_passes_of_the_saddle() {
     // Near the separatrix the orbit turns back close to a saddle with
     // eigenvalue λ: in the linearised flow x'' = λ²x it follows x = a cosh λt
