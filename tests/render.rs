@@ -949,22 +949,21 @@ fn explorer_export_writes_the_same_bytes_as_the_render_command() {
     let dir = tempfile::tempdir().unwrap();
     let (session, _) = load_example("imperfect-strut.json");
     let path = sessions_dir().join("imperfect-strut.json");
-    for (view, flag, format, ext) in [
+    let cases = [
         (
-            "diagram",
             View::Diagram,
+            "diagram",
             ExportFormat::Figure(FigureFormat::Svg),
             "svg",
         ),
         (
-            "folds",
             View::Folds,
+            "folds",
             ExportFormat::Csv(PortraitTable::Equilibria),
             "csv",
         ),
-    ]
-    .map(|(name, view, format, ext)| (view, name, format, ext))
-    {
+    ];
+    for (view, flag, format, ext) in cases {
         let from_cli = dir.path().join(format!("cli.{ext}"));
         let o = run(&[
             "render",
