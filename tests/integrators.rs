@@ -149,10 +149,11 @@ fn splittings_show_their_order_over_one_closed_form_period() {
     let t_pendulum = pendulum_period(PI / 2.0);
     let t_quartic = 7.416298709205488;
     for (sys, start, period, m, n, expected) in [
-        (&pendulum, from_90, t_pendulum, Method::Nystrom4, 20, 4.0),
-        (&pendulum, from_90, t_pendulum, Method::Nystrom6, 10, 6.0),
+        // the small leading error term of Nyström-4 dominates from about 100 steps
+        (&pendulum, from_90, t_pendulum, Method::Nystrom4, 120, 4.0),
+        (&pendulum, from_90, t_pendulum, Method::Nystrom6, 20, 6.0),
         (&pendulum, from_90, t_pendulum, Method::Split4, 20, 4.0),
-        (&pendulum, from_90, t_pendulum, Method::Split6, 10, 6.0),
+        (&pendulum, from_90, t_pendulum, Method::Split6, 20, 6.0),
         (&quartic, from_1, t_quartic, Method::Split4, 40, 4.0),
         (&quartic, from_1, t_quartic, Method::Split6, 20, 6.0),
         (&quartic, from_1, t_quartic, Method::Yoshida4, 80, 4.0),
