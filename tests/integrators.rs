@@ -108,8 +108,16 @@ fn splitting_coefficients_are_consistent_and_symmetric() {
         (Method::Split6, (10, 10)),
     ] {
         let s = Scheme::for_method(m).unwrap();
-        assert!((s.total(Flow::Kick) - 1.0).abs() < 1e-15, "{m}: kicks {}", s.total(Flow::Kick));
-        assert!((s.total(Flow::Drift) - 1.0).abs() < 1e-15, "{m}: drifts {}", s.total(Flow::Drift));
+        assert!(
+            (s.total(Flow::Kick) - 1.0).abs() < 1e-15,
+            "{m}: kicks {}",
+            s.total(Flow::Kick)
+        );
+        assert!(
+            (s.total(Flow::Drift) - 1.0).abs() < 1e-15,
+            "{m}: drifts {}",
+            s.total(Flow::Drift)
+        );
         assert!(s.is_palindromic(), "{m} is not symmetric");
         assert_eq!(s.evaluations_per_step(), kicks_drifts, "{m}");
         for w in s.flows.windows(2) {
@@ -438,7 +446,10 @@ fn fourth_order_energy_error_stays_below_1e_7_over_a_hundred_thousand_periods() 
     // meets it at 100 steps per period.
     for (m, per) in [(Method::Yoshida4, 120), (Method::Nystrom4, 100)] {
         let (worst, first, last) = long_run(m, per);
-        assert!(worst < 1e-7, "{m} at {per} steps per period: max energy error {worst:e}");
+        assert!(
+            worst < 1e-7,
+            "{m} at {per} steps per period: max energy error {worst:e}"
+        );
         assert!(
             last < 1.5 * first,
             "{m}: energy error grew: first tenth {first:e}, last tenth {last:e}"

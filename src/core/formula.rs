@@ -1964,9 +1964,7 @@ impl DerivativeProgram {
                 DIns::Div(a, b) | DIns::TruncDiv(a, b) | DIns::Atan2(a, b) => {
                     g(a).max(g(b)).max(Degree::Other)
                 }
-                DIns::F1(_, a)
-                | DIns::PowI(a, _)
-                | DIns::PowF(a, _) => {
+                DIns::F1(_, a) | DIns::PowI(a, _) | DIns::PowF(a, _) => {
                     if g(a) == Degree::Zero {
                         Degree::Zero
                     } else {
@@ -2027,10 +2025,7 @@ fn keep_needed(ins: &[DIns]) -> Vec<DIns> {
         let mut mark = |r: u32| live[r as usize] = true;
         match ins[i] {
             DIns::Slot(_) | DIns::Const(_) => {}
-            DIns::Neg(a)
-            | DIns::F1(_, a)
-            | DIns::PowI(a, _)
-            | DIns::PowF(a, _) => mark(a),
+            DIns::Neg(a) | DIns::F1(_, a) | DIns::PowI(a, _) | DIns::PowF(a, _) => mark(a),
             DIns::Add(a, b)
             | DIns::Sub(a, b)
             | DIns::Mul(a, b)

@@ -152,7 +152,11 @@ impl Method {
         match self {
             Method::Verlet | Method::Midpoint => 2,
             Method::Yoshida4 | Method::Nystrom4 | Method::Split4 | Method::Gauss4 => 4,
-            Method::Auto | Method::Yoshida6 | Method::Nystrom6 | Method::Split6 | Method::Gauss6 => 6,
+            Method::Auto
+            | Method::Yoshida6
+            | Method::Nystrom6
+            | Method::Split6
+            | Method::Gauss6 => 6,
             Method::Dopri5 => 5,
         }
     }

@@ -42,7 +42,13 @@ impl Scheme {
     /// Alternating flows from the first half of a palindrome: `first` starts,
     /// `half` lists the coefficients up to and including the middle one.
     pub fn palindrome(first: Flow, half: &[f64]) -> Scheme {
-        let other = |f: Flow| if f == Flow::Drift { Flow::Kick } else { Flow::Drift };
+        let other = |f: Flow| {
+            if f == Flow::Drift {
+                Flow::Kick
+            } else {
+                Flow::Drift
+            }
+        };
         let mut flows = Vec::with_capacity(2 * half.len());
         let mut kind = first;
         for &c in half {
@@ -167,7 +173,11 @@ pub fn yoshida6() -> [f64; 7] {
 /// Runge–Kutta and Runge–Kutta–Nyström methods", J. Comput. Appl. Math. 142
 /// (2002) 313–330, Table 3, SRKN₆ᵇ.
 pub fn nystrom4() -> Scheme {
-    let (b1, b2, b3) = (0.082_984_406_417_405_2, 0.396_309_801_498_368, -0.039_056_304_922_348_6);
+    let (b1, b2, b3) = (
+        0.082_984_406_417_405_2,
+        0.396_309_801_498_368,
+        -0.039_056_304_922_348_6,
+    );
     let (a1, a2) = (0.245_298_957_184_271, 0.604_872_665_711_080);
     let a3 = 0.5 - (a1 + a2);
     let b4 = 1.0 - 2.0 * (b1 + b2 + b3);
@@ -225,7 +235,11 @@ pub fn nystrom6() -> Scheme {
 /// Reference: S. Blanes, P. C. Moan, J. Comput. Appl. Math. 142 (2002)
 /// 313–330, Table 2, S₆.
 pub fn split4() -> Scheme {
-    let (a1, a2, a3) = (0.079_203_696_431_195_7, 0.353_172_906_049_774, -0.042_065_080_357_719_5);
+    let (a1, a2, a3) = (
+        0.079_203_696_431_195_7,
+        0.353_172_906_049_774,
+        -0.042_065_080_357_719_5,
+    );
     let (b1, b2) = (0.209_515_106_613_362, -0.143_851_773_179_818);
     let a4 = 1.0 - 2.0 * (a1 + a2 + a3);
     let b3 = 0.5 - (b1 + b2);
