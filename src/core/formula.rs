@@ -24,6 +24,14 @@ pub const MAX_SOURCE_BYTES: usize = 64 * 1024;
 pub const MAX_TAPE_OPS: usize = 20_000;
 /// Most parameters a formula may name.
 pub const MAX_PARAMS: usize = 64;
+/// Most values an evaluation may hold at once (the depth of the evaluation
+/// stack). Only right-nested chains such as `q*(q+(q+(...)))` need more than a
+/// handful; the grid evaluator keeps a 256-point row per entry, so this bounds
+/// its memory (about 2 KiB per entry).
+pub const MAX_EVAL_DEPTH: usize = 256;
+/// Parameter names that look like the non-finite literals of other notations
+/// (compared ignoring case); the formula language has none, so they get a warning.
+const NON_FINITE_NAMES: [&str; 3] = ["nan", "inf", "infinity"];
 /// Largest integer exponent compiled to repeated multiplication.
 const MAX_FAST_POWER: f64 = 64.0;
 
@@ -130,6 +138,7 @@ pub enum FormulaErrorKind {
     VariableCalled(String),
     BadNumber,
     TooManyParameters,
+    TooDeep,
 }
 
 /// A formula that does not compile: what, and where (1-based line and column,
@@ -598,6 +607,41 @@ fn tokenizer_error(source: &str, e: ParseError) -> FormulaError {
     }
 }
 
+/// The first numeric literal in `source` that is too large for f64, with its position.
+fn first_huge_literal(source: &str) -> Option<(String, Pos)> {
+    let b = source.as_bytes();
+    token_spans(source).into_iter().find_map(|start| {
+        if !b.get(start).is_some_and(|c| c.is_ascii_digit() || *c == b'.') {
+            return None;
+        }
+        let mut end = start;
+        while end < b.len() && (b[end].is_ascii_alphanumeric() || b[end] == b'.') {
+            end += 1;
+        }
+        // the literal may carry a signed exponent: 1e+400
+        if end < b.len() && (b[end] == b'+' || b[end] == b'-') && b[end - 1].eq_ignore_ascii_case(&b'e') {
+            end += 1;
+            while end < b.len() && b[end].is_ascii_digit() {
+                end += 1;
+            }
+        }
+        let text = &source[start..end];
+        let v: f64 = text.parse().ok()?;
+        v.is_infinite().then(|| (text.to_string(), pos_of(source, start)))
+    })
+}
+
+/// Byte offset of `word` standing alone (not inside a longer identifier).
+fn find_word(source: &str, word: &str) -> Option<usize> {
+    let b = source.as_bytes();
+    let ident = |c: u8| c.is_ascii_alphanumeric() || c == b'_';
+    source.match_indices(word).map(|(i, _)| i).find(|&i| {
+        let before = i == 0 || !ident(b[i - 1]);
+        let after = b.get(i + word.len()).is_none_or(|&c| !ident(c));
+        before && after
+    })
+}
+
 fn word_before(source: &str, at: usize) -> String {
     let b = source.as_bytes();
     let mut end = at;
@@ -666,6 +710,23 @@ impl<'a> Compiler<'a> {
         self.max_depth = self.max_depth.max(self.depth);
     }
 
+    /// Refuse a formula whose evaluation would hold more than
+    /// [`MAX_EVAL_DEPTH`] values at once.
+    fn too_deep(&self) -> Result<(), FormulaError> {
+        if self.depth > MAX_EVAL_DEPTH {
+            return Err(FormulaError::new(
+                FormulaErrorKind::TooDeep,
+                format!(
+                    "the formula nests too deeply: evaluating it would hold more than \
+                     {MAX_EVAL_DEPTH} values at once (a long chain like a*(b+(c*(d+...)))); \
+                     write it with fewer nested parentheses"
+                ),
+                None,
+            ));
+        }
+        Ok(())
+    }
+
     fn too_long(&self) -> Result<(), FormulaError> {
         if self.ops.len() > MAX_TAPE_OPS {
             return Err(FormulaError::new(
@@ -698,6 +759,7 @@ impl<'a> Compiler<'a> {
             tape.push(op);
             let mut stack = vec![0.0; arity.max(1)];
             let v = run_tape(&tape, &slots, &mut stack);
+            self.warn_non_finite_constant(v);
             for _ in 0..arity {
                 self.ops.pop();
                 self.consts.pop();
@@ -755,10 +817,17 @@ impl<'a> Compiler<'a> {
             match tok {
                 Token::Number(x) => {
                     if !x.is_finite() {
+                        let (text, pos) = match first_huge_literal(self.source) {
+                            Some((t, p)) => (format!(" {t}"), Some(p)),
+                            None => (String::new(), None),
+                        };
                         return Err(FormulaError::new(
                             FormulaErrorKind::BadNumber,
-                            "a number in the formula is too large to represent".into(),
-                            None,
+                            format!(
+                                "the number{text} is too large to represent (the largest is \
+                                 about 1.8e308)"
+                            ),
+                            pos,
                         ));
                     }
                     self.push(Op::Const(*x), Some(*x), 0);
@@ -825,11 +894,13 @@ impl<'a> Compiler<'a> {
                 }
             }
             self.too_long()?;
+            self.too_deep()?;
         }
         if self.consts.len() != 1 {
             return Err(self.syntax("two values stand side by side without an operator"));
         }
         let separable = self.sep[0];
+        self.warn_non_finite_names();
         Ok(Formula {
             source: self.source.to_string(),
             ops: self.ops,
@@ -839,6 +910,39 @@ impl<'a> Compiler<'a> {
             uses: self.uses,
             separable,
         })
+    }
+
+    /// A parameter called `nan`, `inf` or `infinity` is most likely meant as a
+    /// literal, which the language does not have.
+    fn warn_non_finite_names(&mut self) {
+        for name in &self.params {
+            if NON_FINITE_NAMES.iter().any(|n| n.eq_ignore_ascii_case(name)) {
+                let pos = find_word(self.source, name).map(|b| pos_of(self.source, b));
+                self.warnings.push(FormulaWarning {
+                    message: format!(
+                        "'{name}' is read as a parameter: the formula language has no NaN or \
+                         infinity literals"
+                    ),
+                    line: pos.map(|p| p.line).unwrap_or(1),
+                    column: pos.map(|p| p.column),
+                });
+            }
+        }
+    }
+
+    /// Once per formula: a part without q, p, t or parameters that is already
+    /// infinite or undefined (10^400, 0/0, ln(-1)) makes H undefined.
+    fn warn_non_finite_constant(&mut self, v: f64) {
+        const MESSAGE: &str = "a part of the formula without variables is infinite or \
+                               undefined (an overflow such as 10^400, or 0/0, ln(-1)); H is \
+                               undefined wherever that part counts";
+        if !v.is_finite() && !self.warnings.iter().any(|w| w.message == MESSAGE) {
+            self.warnings.push(FormulaWarning {
+                message: MESSAGE.to_string(),
+                line: 1,
+                column: None,
+            });
+        }
     }
 
     fn warn_zero_derivative(&mut self, what: &str, pos: Option<Pos>) {
