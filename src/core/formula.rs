@@ -362,6 +362,48 @@ impl Formula {
         self.eval::<f64>(slots)
     }
 
+    /// H at `slots` together with a first-order bound on its rounding error:
+    /// each operation adds one rounding unit of its result, and the errors of
+    /// its operands carried through by the operation's exact partial
+    /// derivatives (forward error analysis; N. J. Higham, *Accuracy and
+    /// Stability of Numerical Algorithms*, 2nd ed., SIAM 2002, ch. 3). Used to
+    /// tell an H that is constant up to rounding (cosh(q)^2 - sinh(q)^2) from one
+    /// that merely has a small scale. The bound is infinite where a derivative is.
+    pub fn eval_with_rounding(&self, slots: &[f64]) -> (f64, f64) {
+        use num_dual::Dual64;
+        const U: f64 = f64::EPSILON;
+        let mut st: Vec<(f64, f64)> = Vec::with_capacity(self.max_depth);
+        let grad = |op: Op, a: Dual64, b: Dual64| -> Dual64 {
+            match op {
+                Op::Neg => -a,
+                Op::PowI(n) => a.powi(n),
+                Op::PowF(c) => powf(a, c),
+                Op::F1(f) => apply1(f, a),
+                _ => apply2(&op, a, b),
+            }
+        };
+        for &op in &self.ops {
+            match op {
+                Op::Const(c) => st.push((c, 0.5 * U * c.abs())),
+                Op::Slot(k) => st.push((slots.get(k as usize).copied().unwrap_or(f64::NAN), 0.0)),
+                Op::Neg | Op::PowI(_) | Op::PowF(_) | Op::F1(_) => {
+                    let (x, e) = st.pop().unwrap_or((f64::NAN, 0.0));
+                    let r = grad(op, Dual64::new(x, 1.0), Dual64::from_re(0.0));
+                    st.push((r.re, r.eps.abs() * e + U * r.re.abs()));
+                }
+                _ => {
+                    let (b, eb) = st.pop().unwrap_or((f64::NAN, 0.0));
+                    let (a, ea) = st.pop().unwrap_or((f64::NAN, 0.0));
+                    let da = grad(op, Dual64::new(a, 1.0), Dual64::from_re(b));
+                    let db = grad(op, Dual64::from_re(a), Dual64::new(b, 1.0));
+                    let err = da.eps.abs() * ea + db.eps.abs() * eb + U * da.re.abs();
+                    st.push((da.re, err));
+                }
+            }
+        }
+        st.first().copied().unwrap_or((f64::NAN, f64::NAN))
+    }
+
     /// A program for fast evaluation over many points at fixed t and
     /// parameter values, with everything that does not depend on q or p folded.
     pub fn specialize(&self, t: f64, params: &[f64]) -> RowProgram {
