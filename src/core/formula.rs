@@ -373,7 +373,9 @@ impl Formula {
         use num_dual::Dual64;
         const U: f64 = f64::EPSILON;
         let mut st: Vec<(f64, f64)> = Vec::with_capacity(self.max_depth);
-        let grad = |op: Op, a: Dual64, b: Dual64| -> Dual64 {
+        // values in f64 exactly as the tape computes them; partial derivatives
+        // from dual numbers
+        fn step<D: DualNum<Primitive = f64> + Copy>(op: Op, a: D, b: D) -> D {
             match op {
                 Op::Neg => -a,
                 Op::PowI(n) => a.powi(n),
@@ -381,23 +383,24 @@ impl Formula {
                 Op::F1(f) => apply1(f, a),
                 _ => apply2(&op, a, b),
             }
-        };
+        }
         for &op in &self.ops {
             match op {
                 Op::Const(c) => st.push((c, 0.5 * U * c.abs())),
                 Op::Slot(k) => st.push((slots.get(k as usize).copied().unwrap_or(f64::NAN), 0.0)),
                 Op::Neg | Op::PowI(_) | Op::PowF(_) | Op::F1(_) => {
                     let (x, e) = st.pop().unwrap_or((f64::NAN, 0.0));
-                    let r = grad(op, Dual64::new(x, 1.0), Dual64::from_re(0.0));
-                    st.push((r.re, r.eps.abs() * e + U * r.re.abs()));
+                    let v = step(op, x, 0.0);
+                    let d = step(op, Dual64::new(x, 1.0), Dual64::from_re(0.0)).eps;
+                    st.push((v, d.abs() * e + U * v.abs()));
                 }
                 _ => {
                     let (b, eb) = st.pop().unwrap_or((f64::NAN, 0.0));
                     let (a, ea) = st.pop().unwrap_or((f64::NAN, 0.0));
-                    let da = grad(op, Dual64::new(a, 1.0), Dual64::from_re(b));
-                    let db = grad(op, Dual64::from_re(a), Dual64::new(b, 1.0));
-                    let err = da.eps.abs() * ea + db.eps.abs() * eb + U * da.re.abs();
-                    st.push((da.re, err));
+                    let v = step(op, a, b);
+                    let da = step(op, Dual64::new(a, 1.0), Dual64::from_re(b)).eps;
+                    let db = step(op, Dual64::from_re(a), Dual64::new(b, 1.0)).eps;
+                    st.push((v, da.abs() * ea + db.abs() * eb + U * v.abs()));
                 }
             }
         }

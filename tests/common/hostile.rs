@@ -44,7 +44,11 @@ fn running() -> &'static Running {
                         .map(|(t, what)| (t.elapsed(), what.clone()))
                 });
                 if let Some((took, what)) = late {
-                    eprintln!(
+                    // straight to stderr: the test harness captures eprintln! in
+                    // threads a test spawns, and an abort would drop that copy
+                    use std::io::Write;
+                    let _ = writeln!(
+                        std::io::stderr(),
                         "HANG: one call has run for {took:?} (deadline {DEADLINE:?}) on input:\n{what}"
                     );
                     std::process::abort();
@@ -71,9 +75,15 @@ pub fn bounded<T>(describe: impl FnOnce() -> String, f: impl FnOnce() -> T) -> T
         }
         m.insert(id, (start, what));
     }
-    let out = f();
-    if let Ok(mut m) = running().lock() {
-        m.remove(&id);
+    // removed on the way out, also when `f` panics (a failed assertion is not a hang)
+    struct Done(ThreadId);
+    impl Drop for Done {
+        fn drop(&mut self) {
+            if let Ok(mut m) = running().lock() {
+                m.remove(&self.0);
+            }
+        }
     }
-    out
+    let _done = Done(id);
+    f()
 }
