@@ -186,6 +186,8 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
             ),
         ));
     }
+    // a byte-order mark, as some editors write, is not part of the JSON
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let raw = check_header(text)?;
     let mut de = serde_json::Deserializer::from_str(text);
     let mut session: Session = match serde_path_to_error::deserialize(&mut de) {
@@ -367,6 +369,10 @@ fn friendly(msg: &str) -> String {
         .replace("expected u32", "expected a whole number ≥ 0")
         .replace("expected a boolean", "expected true or false")
         .replace("expected a string", "expected a text in quotes")
+        .replace(
+            "number out of range",
+            "a number beyond ±1.8e308, the largest a file may hold",
+        )
 }
 
 fn parse_error(e: serde_path_to_error::Error<serde_json::Error>) -> SessionError {
@@ -387,6 +393,15 @@ fn parse_error(e: serde_path_to_error::Error<serde_json::Error>) -> SessionError
             format!("{field}.{name}")
         };
         problem = format!("missing{tail}");
+    } else if let Some(rest) = problem.strip_prefix("duplicate field `")
+        && let Some((name, tail)) = rest.split_once('`')
+    {
+        field = if field.is_empty() {
+            name.to_string()
+        } else {
+            format!("{field}.{name}")
+        };
+        problem = format!("given twice{tail}; keep one");
     }
     SessionError::new(field, problem)
 }
@@ -637,7 +652,7 @@ impl Session {
                 let clamped = MAX_DURATION.copysign(o.duration);
                 warnings.push(format!(
                     "orbits[{i}].duration: {} is beyond the cap of ±{MAX_DURATION:e}; using {clamped:e}",
-                    o.duration
+                    crate::core::analysis::short_number(o.duration)
                 ));
                 o.duration = clamped;
             }

@@ -105,19 +105,22 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
         diagnostics.push(Diagnostic::info(format!(
             "H is constant in view (H = {}{}): every point is an equilibrium, so none is \
              listed, and there are no level curves to draw",
-            short(lo),
+            short_number(lo),
             if hi == lo { "" } else { " up to rounding" }
         )));
     } else if grid.range.is_some() {
         let jumps = super::contour::blank_jumps(sys, &mut grid);
         if let Some((q, p)) = jumps.first {
+            // a midpoint that is zero up to rounding is shown as zero
+            let snap = |x: f64, side: f64| if x.abs() <= 1e-12 * side { 0.0 } else { x };
+            let (q, p) = (snap(q, window.width()), snap(p, window.height()));
             let share = 100.0 * jumps.samples as f64 / grid.values.len().max(1) as f64;
             diagnostics.push(Diagnostic::warning(format!(
                 "H jumps or has a pole between neighbouring grid points (first near q = {}, \
                  p = {}); the cells there ({}% of the window) are left blank so that no level \
                  curve is drawn across it",
-                short(q),
-                short(p),
+                short_number(q),
+                short_number(p),
                 percent(share)
             )));
         }
@@ -253,8 +256,9 @@ fn percent(pct: f64) -> String {
     }
 }
 
-/// A number for a message: plain digits in the usual range, else with an exponent.
-fn short(x: f64) -> String {
+/// A number for a message: plain digits (at most nine decimals) in the usual
+/// range, else with an exponent, so that 1e300 is not written out in full.
+pub fn short_number(x: f64) -> String {
     if x == 0.0 || (1e-4..1e9).contains(&x.abs()) {
         format!("{}", (x * 1e9).round() / 1e9)
     } else {

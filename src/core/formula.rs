@@ -232,7 +232,10 @@ impl Formula {
         if let Some((i, ch)) = source.char_indices().find(|(_, c)| !c.is_ascii()) {
             return Err(FormulaError::new(
                 FormulaErrorKind::Syntax,
-                format!("the character '{ch}' is not part of the formula language"),
+                format!(
+                    "the character '{ch}' (U+{:04X}) is not part of the formula language",
+                    ch as u32
+                ),
                 Some(pos_of(source, i)),
             ));
         }
@@ -583,6 +586,7 @@ fn token_spans(source: &str) -> Vec<usize> {
 fn describe_char(c: u8) -> String {
     match c {
         b'\n' => "a line break".into(),
+        c if c.is_ascii_control() => format!("the control character U+{c:04X}"),
         _ => format!("'{}'", c as char),
     }
 }
