@@ -74,10 +74,14 @@ fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
 
 #[test]
 fn pendulum_period_grows_like_two_passes_of_the_saddle() {
-    // Near the separatrix each passage close to a saddle with eigenvalue λ takes
-    // about −(1/λ) ln(E_escape − E) (linearised hyperbolic flow; from memory).
-    // A pendulum libration passes near both saddles ±π (λ = 1), so
-    // dT/d ln(1 − E) → −2, as 4K(m) ≈ 2 ln(16/(1 − m)) also says (from memory).
+    // Near the separatrix the orbit turns back close to a saddle with
+    // eigenvalue λ: in the linearised flow x'' = λ²x it follows x = a cosh λt
+    // with a² = 2(E_s − E)/λ², so the time spent within |x| < L is
+    // (2/λ) acosh(L/a) ≈ −(1/λ) ln(E_s − E) + const (closed form). A pendulum
+    // libration turns back at both saddles q = ±π (λ = 1), so T(E) ≈
+    // −(2/λ) ln(1 − E) and dT/d ln(1 − E) → −2, as T = 4K(m) with
+    // K(m) ≈ ½ ln(16/(1 − m)) as m → 1 also says (Abramowitz & Stegun 17.3.26;
+    // from memory).
     let b = run(
         "p^2/2 - cos(q)",
         [0.0, 0.0],
@@ -92,8 +96,11 @@ fn pendulum_period_grows_like_two_passes_of_the_saddle() {
 #[test]
 fn cubic_well_period_grows_like_one_pass_of_its_saddle() {
     // H = p²/2 + q²/2 − q³/3: saddle at q = 1 with V'' = −1 (λ = 1), escape
-    // energy 1/6; the orbit passes the one saddle once per period, so
-    // dT/d ln(E_escape − E) → −1/λ = −1 (linearised hyperbolic flow; from memory).
+    // energy 1/6. The orbit turns back near that one saddle once per period
+    // (its other turning point, near q = −1/2, is on the wall), and each such
+    // turn takes (2/λ) acosh(L/a) ≈ −(1/λ) ln(E_s − E) + const in the
+    // linearised flow x = a cosh λt, a² = 2(E_s − E)/λ² (closed form), so
+    // dT/d ln(E_s − E) → −1/λ = −1.
     let b = run(
         "p^2/2 + q^2/2 - q^3/3",
         [0.0, 0.0],

@@ -491,3 +491,146 @@ fn render_command_csv_holds_the_analysis_values_bit_for_bit() {
         );
     }
 }
+
+/// The imperfect pitchfork H = p²/2 + q⁴/4 − μq²/2 − εq with ε = 0.05 swept
+/// over μ in [−1, 1]: one saddle-node at μ = (27ε²/4)^(1/3) = 0.25649639200150,
+/// q = −√(μ/3) (cusp catastrophe; closed form).
+fn imperfect_pitchfork_sweep() -> (System, phasewright::core::continuation::Sweep) {
+    use phasewright::core::continuation::{SweepConfig, sweep};
+    let sys = System::from_source(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", 0.1), ("eps", 0.05)],
+    )
+    .unwrap();
+    let window = Window::new(-2.0, 2.0, -1.0, 1.0).unwrap();
+    let s = sweep(
+        &sys,
+        "mu",
+        -1.0,
+        1.0,
+        &window,
+        &SweepConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .unwrap();
+    (sys, s)
+}
+
+#[test]
+fn diagram_scene_draws_each_branch_once_and_labels_the_saddle_node() {
+    use phasewright::scene::{BIFURCATION_MARKER, CurveRole, MarkRole};
+    let (sys, s) = imperfect_pitchfork_sweep();
+    let scene = Scene::diagram(&sys, &s, Some(0.1));
+    let branches: Vec<_> = scene.curves_with("branch").collect();
+    assert_eq!(branches.len(), s.branches.len());
+    assert_eq!(branches.len(), 3);
+    for (c, b) in branches.iter().zip(&s.branches) {
+        assert_eq!(c.role, CurveRole::Branch { kind: b.kind });
+        // Saddle branches dashed, center branches solid.
+        assert_eq!(c.dashed, b.kind == EquilibriumKind::Saddle, "{:?}", b.kind);
+        assert_eq!(c.points.len(), b.points.len());
+        assert_eq!(c.points[0], [b.points[0].param, b.points[0].q]);
+    }
+    assert_eq!(scene.marks.len(), 1);
+    let m = &scene.marks[0];
+    assert_eq!(m.role, MarkRole::Bifurcation);
+    assert_eq!(m.style, BIFURCATION_MARKER);
+    // μ* = 0.25649639… rounds to 0.25650 (closed form above).
+    assert_eq!(m.label.as_deref(), Some("saddle-node mu = 0.25650"));
+    assert!((m.at[1] + 0.29240177382129).abs() < 1e-8);
+    let guides: Vec<_> = scene.curves_with("guide").collect();
+    assert_eq!(guides.len(), 1);
+    assert_eq!(guides[0].points[0][0], 0.1);
+    assert_eq!((scene.x.min, scene.x.max), (-1.0, 1.0));
+    assert_eq!(scene.x.label, "mu");
+    assert!(scene.caption.contains("eps = 0.05") && !scene.caption.contains("mu = 0.1"));
+    assert!(
+        scene.caption.ends_with("mu from -1 to 1"),
+        "{}",
+        scene.caption
+    );
+    // A current value outside the range draws no guide.
+    let outside = Scene::diagram(&sys, &s, Some(3.0));
+    assert_eq!(outside.curves_with("guide").count(), 0);
+}
+
+#[test]
+fn backbone_scene_plots_period_against_energy_up_to_the_escape_energy() {
+    use phasewright::core::backbone::{BackboneConfig, backbone};
+    use phasewright::scene::BackbonePlot;
+    // Pendulum H = p²/2 − cos q: the well at 0 escapes over the saddles at H = 1,
+    // and T → 2π as E → −1 (common practice: the textbook pendulum).
+    let sys = System::from_source("p^2/2 - cos(q)", &[]).unwrap();
+    let window = Window::new(-4.0, 4.0, -3.0, 3.0).unwrap();
+    let cfg = BackboneConfig {
+        energies: 40,
+        ..BackboneConfig::default()
+    };
+    let b = backbone(
+        &sys,
+        [0.1, 0.0],
+        &window,
+        &cfg,
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .unwrap();
+    let scene = Scene::backbone(&sys, &b, BackbonePlot::PeriodEnergy);
+    let curve = scene.curves_with("backbone").next().unwrap();
+    assert_eq!(curve.points.len(), b.rows.len());
+    for (pt, row) in curve.points.iter().zip(&b.rows) {
+        assert_eq!(*pt, [row.energy, row.period]);
+    }
+    assert!((curve.points[0][1] - 2.0 * PI).abs() < 1e-9);
+    let guide = scene.curves_with("guide").next().unwrap();
+    assert!((guide.points[0][0] - 1.0).abs() < 1e-12);
+    assert!(scene.x.min <= -1.0 && scene.x.max >= 1.0);
+    let fa = Scene::backbone(&sys, &b, BackbonePlot::FrequencyAmplitude);
+    let curve = fa.curves_with("backbone").next().unwrap();
+    assert_eq!(curve.points[3], [b.rows[3].amplitude, b.rows[3].frequency]);
+    assert_eq!(fa.curves_with("guide").count(), 0);
+    assert_eq!(fa.y.label, "frequency \u{3c9}");
+}
+
+#[test]
+fn folds_scene_draws_the_cusp_curve_and_marks_the_cusp() {
+    use phasewright::core::folds::{FoldConfig, fold_curves};
+    use phasewright::scene::MarkRole;
+    // 27ε² = 4μ³ with its cusp at μ = ε = 0 (cusp catastrophe; closed form).
+    let sys = System::from_source(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", 0.5), ("eps", 0.05)],
+    )
+    .unwrap();
+    let window = Window::new(-2.0, 2.0, -1.0, 1.0).unwrap();
+    let f = fold_curves(
+        &sys,
+        ["mu", "eps"],
+        [-0.5, 1.0, -0.2, 0.2],
+        &window,
+        &FoldConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .unwrap();
+    let scene = Scene::folds(&sys, &f, Some([0.5, 0.05]));
+    let folds: Vec<_> = scene.curves_with("fold").collect();
+    assert_eq!(folds.len(), 1);
+    for [mu, eps] in &folds[0].points {
+        assert!((27.0 * eps * eps - 4.0 * mu * mu * mu).abs() < 1e-10);
+    }
+    assert_eq!(scene.marks.len(), 1);
+    assert_eq!(scene.marks[0].role, MarkRole::Cusp);
+    assert_eq!(
+        scene.marks[0].label.as_deref(),
+        Some("cusp mu = 0.00000, eps = 0.00000")
+    );
+    assert_eq!(scene.curves_with("guide").count(), 2);
+    assert_eq!(
+        [scene.x.min, scene.x.max, scene.y.min, scene.y.max],
+        [-0.5, 1.0, -0.2, 0.2]
+    );
+    assert_eq!(scene.x.label, "mu");
+    assert_eq!(scene.y.label, "eps");
+}

@@ -164,6 +164,27 @@ pub enum DialogOutcome {
     Unavailable,
 }
 
+/// Whether a native dialog can be shown at all. On Linux the system file
+/// chooser is reached over the D-Bus session bus; under a plain X server
+/// without one the request never produces a window, so the explorer asks for
+/// the path itself instead of waiting for a dialog that cannot appear.
+pub fn native_dialogs_reachable() -> bool {
+    #[cfg(target_os = "linux")]
+    {
+        let has = |name: &str| std::env::var_os(name).is_some_and(|v| !v.is_empty());
+        if has("DBUS_SESSION_BUS_ADDRESS") {
+            return true;
+        }
+        std::env::var_os("XDG_RUNTIME_DIR")
+            .filter(|d| !d.is_empty())
+            .is_some_and(|d| Path::new(&d).join("bus").exists())
+    }
+    #[cfg(not(target_os = "linux"))]
+    {
+        true
+    }
+}
+
 /// A dialog that answers "nothing chosen" faster than this was never shown.
 const DIALOG_MIN_HUMAN: Duration = Duration::from_millis(250);
 
@@ -174,7 +195,9 @@ impl PendingDialog {
         start_dir: Option<PathBuf>,
         file_name: &str,
     ) -> Option<PendingDialog> {
-        if std::env::var_os(NO_NATIVE_DIALOG_ENV).is_some_and(|v| !v.is_empty() && v != "0") {
+        if std::env::var_os(NO_NATIVE_DIALOG_ENV).is_some_and(|v| !v.is_empty() && v != "0")
+            || !native_dialogs_reachable()
+        {
             return None;
         }
         let (tx, rx) = channel();

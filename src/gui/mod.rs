@@ -13,7 +13,9 @@ mod menu_bar;
 pub mod orbits;
 mod params_panel;
 mod plot_panel;
+mod scene_plot;
 mod tables_panel;
+mod views_panel;
 mod worker;
 
 use crate::core::formula::Formula;
@@ -29,6 +31,7 @@ pub use files::{DATA_DIR_ENV, EXAMPLES, NO_NATIVE_DIALOG_ENV};
 pub use formula_panel::EDITOR_LABEL;
 pub use plot_panel::PLOT_LABEL;
 pub use tables_panel::{equilibrium_rows, orbit_row, well_rows};
+pub use views_panel::{BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, PaneSettings};
 
 use dialogs::Modal;
 use files::{DataDir, DialogOutcome, DialogPurpose, PendingDialog};
@@ -46,6 +49,10 @@ const PARAM_SETTLE_SECONDS: f64 = 1.0;
 const AUTOSAVE_SECONDS: f64 = 4.0;
 /// Longest integration time of an orbit launched by a click (a closed orbit stops after one period).
 const DEFAULT_ORBIT_DURATION: f64 = 200.0;
+/// A crossed bifurcation is named on the portrait this long at full strength (s)…
+const ANNOUNCE_HOLD_SECONDS: f64 = 2.5;
+/// …then fades out over this long (s).
+const ANNOUNCE_FADE_SECONDS: f64 = 1.5;
 
 /// What is selected in the tables (and highlighted in the plot).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -116,6 +123,11 @@ pub enum Command {
         dragging: bool,
     },
     Select(Selection),
+    /// New settings of the diagram panes (sweep, fold box, backbone center).
+    SetPanes {
+        settings: PaneSettings,
+        dragging: bool,
+    },
     Guarded(Guarded),
     Confirmed(Guarded),
     OpenFile(PathBuf),
@@ -129,6 +141,20 @@ pub enum Command {
     ShowAbout,
     RestoreRecovery,
     DiscardRecovery,
+}
+
+/// What the diagram panes read this frame (a macro so that the borrow of
+/// these fields stays apart from the borrow of the panes themselves).
+macro_rules! pane_inputs {
+    ($ex:expr, $system:expr) => {
+        views_panel::Inputs {
+            system: $system,
+            session: &$ex.session,
+            analysis: $ex.shown.as_ref().map(|c| c.analysis.as_ref()),
+            selection: $ex.selection,
+            dragging: $ex.dragging,
+        }
+    };
 }
 
 /// The explorer's whole state.
@@ -149,6 +175,9 @@ pub struct Explorer {
     params: params_panel::ParamsPanel,
     plot: plot_panel::PlotPanel,
     tables: tables_panel::TablesPanel,
+    views: views_panel::ViewsPanel,
+    /// A bifurcation the last parameter move crossed, and when.
+    announcement: Option<(String, f64)>,
     shown: Option<Computed>,
     last_spec: Option<(JobSpec, bool)>,
     /// The view the session started with (Reset view goes back to it).
@@ -182,6 +211,7 @@ impl Explorer {
         data_dir: Option<PathBuf>,
     ) -> Result<Explorer, String> {
         let worker = Worker::start()?;
+        let views = views_panel::ViewsPanel::start(worker.repaint_slot())?;
         let data = data_dir.map(|dir| DataDir { dir });
         let recent = data.as_ref().map(|d| d.recent()).unwrap_or_default();
         let offer = data
@@ -210,6 +240,8 @@ impl Explorer {
             params: params_panel::ParamsPanel::default(),
             plot: plot_panel::PlotPanel::default(),
             tables: tables_panel::TablesPanel::default(),
+            views,
+            announcement: None,
             shown: None,
             last_spec: None,
             dragging: false,
@@ -303,10 +335,62 @@ impl Explorer {
         format!("{}{name} — phasewright", if self.dirty { "● " } else { "" })
     }
 
-    /// True while a job newer than the shown result is outstanding.
+    /// True while a job newer than the shown result is outstanding (portrait or panes).
     pub fn busy(&self) -> bool {
+        self.portrait_busy() || self.views.busy()
+    }
+
+    fn portrait_busy(&self) -> bool {
         let shown = self.shown.as_ref().map_or(0, |c| c.generation);
         self.worker.latest_generation() > shown || self.shown.as_ref().is_some_and(|c| c.coarse)
+    }
+
+    /// The sweep the diagram pane shows.
+    pub fn sweep(&self) -> Option<&crate::core::continuation::Sweep> {
+        self.views.sweep()
+    }
+
+    /// The data range of the diagram as drawn, [xmin, xmax, ymin, ymax] (tests).
+    pub fn diagram_bounds(&self) -> Option<[f64; 4]> {
+        self.views.diagram_bounds()
+    }
+
+    /// The fold curves the fold pane shows.
+    pub fn folds(&self) -> Option<&crate::core::folds::FoldCurves> {
+        self.views.folds()
+    }
+
+    /// The backbone the backbone pane shows.
+    pub fn backbone(&self) -> Option<&crate::core::backbone::Backbone> {
+        self.views.backbone()
+    }
+
+    /// The bifurcation named on the portrait now, if any.
+    pub fn announcement(&self) -> Option<&str> {
+        self.announcement_strength()
+            .map(|_| self.announcement.as_ref().map_or("", |a| a.0.as_str()))
+    }
+
+    /// Opacity of the announcement now (None once it has faded).
+    fn announcement_strength(&self) -> Option<f32> {
+        let (_, at) = self.announcement.as_ref()?;
+        let age = self.now - at;
+        if age < ANNOUNCE_HOLD_SECONDS {
+            Some(1.0)
+        } else if age < ANNOUNCE_HOLD_SECONDS + ANNOUNCE_FADE_SECONDS {
+            Some((1.0 - (age - ANNOUNCE_HOLD_SECONDS) / ANNOUNCE_FADE_SECONDS) as f32)
+        } else {
+            None
+        }
+    }
+
+    /// Open a pane: "diagram", "folds" or "backbone" (tests).
+    pub fn show_pane(&mut self, name: &str) {
+        self.views.tab = match name {
+            "folds" => views_panel::Tab::Folds,
+            "backbone" => views_panel::Tab::Backbone,
+            _ => views_panel::Tab::Diagram,
+        };
     }
 
     /// Block until the worker has answered the newest job (or `timeout`).
@@ -314,13 +398,14 @@ impl Explorer {
     pub fn wait_for_worker(&mut self, timeout: Duration) -> bool {
         let target = self.worker.latest_generation();
         if self.shown.as_ref().is_some_and(|c| c.generation >= target) {
-            return true;
+            return self.views.wait(timeout);
         }
         let got = self.worker.wait_for(target, timeout);
         for c in got {
             self.accept(c);
         }
-        self.shown.as_ref().is_some_and(|c| c.generation >= target)
+        let panes = self.views.wait(timeout);
+        panes && self.shown.as_ref().is_some_and(|c| c.generation >= target)
     }
 
     /// Generation of the result shown (0 before the first).
@@ -342,6 +427,15 @@ impl Explorer {
             value,
             dragging,
         });
+    }
+
+    /// Show `window` as a pan or zoom of the plot would (used by tests).
+    pub fn set_view(&mut self, window: Window) {
+        self.apply(Command::SetView {
+            window,
+            dragging: false,
+        });
+        self.plot.reapply_view();
     }
 
     /// Use native file dialogs (true) or always the in-app path prompt.
@@ -376,6 +470,7 @@ impl Explorer {
         for c in self.worker.poll() {
             self.accept(c);
         }
+        self.views.poll();
         if self.theme_applied != Some(self.dark) {
             ctx.set_theme(if self.dark {
                 egui::Theme::Dark
@@ -447,8 +542,23 @@ impl Explorer {
                     self.selection,
                 ));
             });
-        let busy = self.busy();
+        egui::Panel::right("diagram-panes")
+            .resizable(true)
+            .default_size(440.0)
+            .show(ui, |ui| {
+                let system = self.system();
+                let inputs = pane_inputs!(self, system.as_ref());
+                commands.extend(self.views.ui(ui, &inputs));
+            });
+        let busy = self.portrait_busy();
         let greyed = self.formula.error.is_some();
+        let strength = self.announcement_strength();
+        if strength.is_some_and(|s| s < 1.0) {
+            ctx.request_repaint_after(Duration::from_millis(50));
+        } else if strength.is_some() {
+            ctx.request_repaint_after(Duration::from_secs_f64(ANNOUNCE_HOLD_SECONDS));
+        }
+        let note = strength.and_then(|a| self.announcement.as_ref().map(|n| (n.0.as_str(), a)));
         egui::CentralPanel::default().show(ui, |ui| {
             commands.extend(self.plot.ui(
                 ui,
@@ -458,6 +568,7 @@ impl Explorer {
                 self.selection,
                 busy,
                 self.now,
+                note,
             ));
         });
         commands.extend(dialogs::ui(&ctx, &mut self.modal, self.file.is_some()));
@@ -467,6 +578,9 @@ impl Explorer {
         }
         self.settle_parameters(&ctx);
         self.submit_if_changed();
+        let system = self.system();
+        let inputs = pane_inputs!(self, system.as_ref());
+        self.views.submit_if_changed(&inputs);
         // A drag that ended this frame still sent a coarse job; the next frame refines.
         if !self.dragging_seen {
             self.dragging = false;
@@ -634,7 +748,11 @@ impl Explorer {
                 let Some(i) = self.session.parameters.iter().position(|p| p.name == name) else {
                     return;
                 };
-                if self.session.parameters[i].value != value {
+                let old = self.session.parameters[i].value;
+                if old != value {
+                    if let Some(text) = self.views.crossing(&name, old, value) {
+                        self.announcement = Some((text, self.now));
+                    }
                     self.edit(EditKind::Parameter(name), dragging);
                     self.session.parameters[i].value = value;
                 }
@@ -728,6 +846,12 @@ impl Explorer {
                 }
             }
             Command::Select(s) => self.selection = s,
+            Command::SetPanes { settings, dragging } => {
+                if settings != PaneSettings::of(&self.session) {
+                    self.edit(EditKind::Panes, dragging);
+                    settings.store(&mut self.session);
+                }
+            }
             Command::Guarded(action) => {
                 if self.dirty {
                     self.modal = Modal::ConfirmDiscard(action);
@@ -865,6 +989,8 @@ impl Explorer {
         self.selection = Selection::None;
         self.formula.set_text(&self.session.formula);
         self.plot.reset();
+        self.views.reset();
+        self.announcement = None;
         self.shown = None;
         self.last_spec = None;
         self.autosaved = None;

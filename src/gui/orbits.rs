@@ -25,6 +25,9 @@ pub struct OrbitOutcome {
     pub stop: String,
     /// True when the orbit ended for a reason worth pointing out.
     pub stopped_early: bool,
+    /// True when the orbit stopped at the bounds around the view it was
+    /// integrated for, so a different view needs it integrated again.
+    pub view_bound: bool,
 }
 
 /// The method names the orbit editor offers.
@@ -59,6 +62,7 @@ pub fn integrate(
         energy_drift: orbit.energy_drift.is_finite().then_some(orbit.energy_drift),
         stop: orbit.stop.message(),
         stopped_early,
+        view_bound: matches!(orbit.stop, StopReason::LeftBounds { .. }),
     }
 }
 
@@ -72,5 +76,6 @@ fn refused(sys: &System, seeded: &SeededOrbit, why: String) -> OrbitOutcome {
         energy_drift: None,
         stop: why,
         stopped_early: true,
+        view_bound: false,
     }
 }

@@ -54,7 +54,12 @@ impl ParamsPanel {
             .add(slider)
             .on_hover_text(format!("{} = {}", par.name, par.value));
         accessible_name(&r, egui::Role::Slider, &format!("{} slider", par.name));
-        if r.changed() || r.drag_stopped() {
+        // The slider snaps to its step in binary (2.3 becomes 2.3000000000000003
+        // on the first frame); that is not an edit, and a dragged value is kept
+        // at the step's decimals so files stay as people write them.
+        let value = snap_to_step(value, step);
+        let moved = (value - par.value).abs() > 1e-12 * (par.max - par.min).abs();
+        if (r.changed() && moved) || r.drag_stopped() {
             commands.push(Command::SetParam {
                 name: par.name.clone(),
                 value,
@@ -143,4 +148,21 @@ pub fn accessible_name(response: &egui::Response, kind: egui::Role, name: &str) 
     let enabled = response.enabled();
     let name = name.to_string();
     response.widget_info(move || egui::WidgetInfo::labeled(kind, enabled, name.clone()));
+}
+
+/// `value` written with as many decimals as `step` has (a step of 0.01 gives
+/// two), so a slider step of 0.01 yields 2.3 rather than 2.3000000000000003.
+pub fn snap_to_step(value: f64, step: Option<f64>) -> f64 {
+    let Some(step) = step.filter(|s| *s > 0.0 && s.is_finite()) else {
+        return value;
+    };
+    // The fewest decimals that write the step itself exactly (0.25 needs two).
+    let decimals = (0..=15usize)
+        .find(|&d| {
+            let scaled = step * 10f64.powi(d as i32);
+            (scaled - scaled.round()).abs() <= 1e-9 * scaled.max(1.0)
+        })
+        .unwrap_or(15);
+    let text = format!("{value:.decimals$}");
+    text.parse().unwrap_or(value)
 }

@@ -1,0 +1,87 @@
+//! The explorer's session state as a user meets it: opening a file is not an
+//! edit, slider steps keep the values people typed, and orbits that stopped at
+//! the bounds around the view follow the view when it moves.
+#![cfg(feature = "gui")]
+
+use egui_kittest::Harness;
+use phasewright::core::window::Window;
+use phasewright::gui::{EXAMPLES, Explorer};
+use phasewright::session::{SeededOrbit, Session};
+use std::time::Duration;
+
+fn harness(session: Session) -> (Harness<'static, Explorer>, tempfile::TempDir) {
+    let data = tempfile::tempdir().expect("temp dir");
+    let mut app =
+        Explorer::new(session, None, Some(data.path().to_path_buf())).expect("explorer starts");
+    app.set_native_dialogs(false);
+    let mut h = Harness::builder()
+        .with_size(egui::vec2(1280.0, 800.0))
+        .build_ui_state(|ui, app: &mut Explorer| app.show(ui), app);
+    settle(&mut h);
+    (h, data)
+}
+
+fn settle(h: &mut Harness<'static, Explorer>) {
+    for _ in 0..20 {
+        h.run_steps(2);
+        let done = h.state_mut().wait_for_worker(Duration::from_secs(20));
+        h.run_steps(2);
+        if done && !h.state().busy() {
+            return;
+        }
+    }
+}
+
+#[test]
+fn opening_each_example_leaves_no_unsaved_mark_and_keeps_its_values() {
+    for (name, text) in EXAMPLES {
+        let (session, _) = phasewright::session::load(text).expect("example loads");
+        let before = session.parameters.clone();
+        let (mut h, _data) = harness(session);
+        h.run_steps(10);
+        let app = h.state();
+        assert!(!app.dirty, "{name}: opening the file counted as an edit");
+        assert!(!app.title().starts_with('●'), "{name}: {}", app.title());
+        for (p, q) in before.iter().zip(&app.session.parameters) {
+            // Bit-for-bit: a slider step must not turn 2.3 into 2.3000000000000003.
+            assert_eq!(p.value.to_bits(), q.value.to_bits(), "{name}: {}", p.name);
+        }
+    }
+}
+
+/// The furthest |q| an orbit reached.
+fn reach(h: &Harness<'static, Explorer>) -> f64 {
+    let outcomes = h.state().orbit_outcomes();
+    let o = outcomes[0].as_ref().expect("the orbit was integrated");
+    o.samples.iter().map(|s| s[0].abs()).fold(0.0, f64::max)
+}
+
+#[test]
+fn an_orbit_stopped_at_the_bounds_is_integrated_again_when_the_view_grows() {
+    // H = p²/2 − q²/2: from (0.5, 0), q(t) = 0.5 cosh t runs off to infinity
+    // (closed form of the linear saddle, common practice), so the orbit stops
+    // at the bounds around the view, 4 × the view about its centre.
+    let mut s = Session::blank("p^2/2 - q^2/2");
+    s.view = Window::new(-1.0, 1.0, -1.0, 1.0).expect("window");
+    s.orbits.push(SeededOrbit {
+        q0: 0.5,
+        p0: 0.0,
+        duration: 40.0,
+        method: "auto".into(),
+        colour: None,
+    });
+    let (mut h, _data) = harness(s);
+    let first = reach(&h);
+    assert!(
+        (3.0..=4.5).contains(&first),
+        "stopped at {first}, expected the bounds of the first view (4)"
+    );
+    h.state_mut()
+        .set_view(Window::new(-10.0, 10.0, -10.0, 10.0).expect("window"));
+    settle(&mut h);
+    let second = reach(&h);
+    assert!(
+        second > 30.0,
+        "after zooming out the orbit still stops at {second}"
+    );
+}
