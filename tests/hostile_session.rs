@@ -12,7 +12,8 @@ mod hostile;
 
 use hostile::{bounded, cases};
 use phasewright::session::{
-    self, MAX_DURATION, MAX_FILE_BYTES, MAX_GRID, MAX_LEVELS, MAX_ORBITS, MIN_GRID, Session,
+    self, MAX_BACKBONE_ENERGIES, MAX_DURATION, MAX_FILE_BYTES, MAX_GRID, MAX_LEVELS, MAX_ORBITS,
+    MAX_SWEEP_STEP, MIN_BACKBONE_ENERGIES, MIN_GRID, MIN_SWEEP_STEP, Session,
 };
 use proptest::prelude::*;
 use proptest::test_runner::{Config, FileFailurePersistence};
@@ -82,6 +83,12 @@ fn within_caps(s: &Session) -> Result<(), TestCaseError> {
         prop_assert!(o.duration.abs() <= MAX_DURATION && o.duration != 0.0);
     }
     prop_assert!(s.formula.len() <= phasewright::core::formula::MAX_SOURCE_BYTES);
+    if let Some(step) = s.sweep.as_ref().and_then(|w| w.max_step) {
+        prop_assert!((MIN_SWEEP_STEP..=MAX_SWEEP_STEP).contains(&step));
+    }
+    if let Some(n) = s.backbone.as_ref().and_then(|b| b.energies) {
+        prop_assert!((MIN_BACKBONE_ENERGIES..=MAX_BACKBONE_ENERGIES).contains(&n));
+    }
     Ok(())
 }
 
