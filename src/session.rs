@@ -957,6 +957,16 @@ pub fn write_atomic(
             "the path does not name a file",
         ))
     })?;
+    // Renaming over a device, a pipe or a folder would replace it (as root,
+    // even /dev/null); a session goes only onto a regular file or a new name.
+    if let Ok(meta) = std::fs::metadata(path)
+        && !meta.is_file()
+    {
+        return Err(err(io::Error::new(
+            io::ErrorKind::InvalidInput,
+            "the path names a folder, device or pipe, not a file; choose a file name",
+        )));
+    }
     let dir = match path.parent() {
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),
