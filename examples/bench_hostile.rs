@@ -26,7 +26,9 @@ fn main() {
     // a formula just under the operation cap: "q*p+" repeated
     let terms = MAX_TAPE_OPS / 3 - 10;
     let formula = vec!["q*p"; terms].join("+");
-    let ops = Formula::compile(&formula).map(|f| f.ops().len()).unwrap_or(0);
+    let ops = Formula::compile(&formula)
+        .map(|f| f.ops().len())
+        .unwrap_or(0);
     assert!(ops > 0 && formula.len() <= MAX_SOURCE_BYTES);
 
     // a session just under the file cap: long notes, the formula above,

@@ -55,7 +55,10 @@ fn hazard_messages_are_on_screen() {
             "p^2/2 + ln(q)",
             "H is NaN or infinite on 50% of the window; those cells are left blank",
         ),
-        ("3", "H is constant in view (H = 3): every point is an equilibrium"),
+        (
+            "3",
+            "H is constant in view (H = 3): every point is an equilibrium",
+        ),
     ] {
         let h = open(session(formula), None);
         let a = h.state().analysis().expect("analysed");

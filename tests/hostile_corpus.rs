@@ -22,7 +22,11 @@ fn corpus(kind: &str, ext: &str) -> Vec<PathBuf> {
         .filter(|p| p.extension().is_some_and(|x| x == ext))
         .collect();
     files.sort();
-    assert!(files.len() >= 10, "the {kind} corpus has {} files", files.len());
+    assert!(
+        files.len() >= 10,
+        "the {kind} corpus has {} files",
+        files.len()
+    );
     files
 }
 

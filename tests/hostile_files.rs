@@ -40,7 +40,11 @@ fn a_save_killed_midway_leaves_a_whole_file() {
     let mut seen_second = false;
     for round in 0..12u64 {
         let mut child = Command::new(&exe)
-            .args(["--exact", "a_save_killed_midway_leaves_a_whole_file", "--nocapture"])
+            .args([
+                "--exact",
+                "a_save_killed_midway_leaves_a_whole_file",
+                "--nocapture",
+            ])
             .env(SAVE_LOOP_ENV, &path)
             .spawn()
             .expect("child starts");
@@ -120,7 +124,12 @@ fn paths_that_are_not_files_are_refused_and_left_alone() {
             )
         );
         use std::os::unix::fs::FileTypeExt;
-        assert!(std::fs::metadata(&fifo).expect("still there").file_type().is_fifo());
+        assert!(
+            std::fs::metadata(&fifo)
+                .expect("still there")
+                .file_type()
+                .is_fifo()
+        );
     }
     // inside a file, as if it were a folder
     let file = dir.path().join("plain.txt");
@@ -131,7 +140,8 @@ fn paths_that_are_not_files_are_refused_and_left_alone() {
     // a read-only file system (procfs refuses new files, even to root)
     let e = save_atomic(Path::new("/proc/phasewright-session.json"), &s).expect_err("read-only");
     assert!(
-        e.to_string().starts_with("cannot save /proc/phasewright-session.json: "),
+        e.to_string()
+            .starts_with("cannot save /proc/phasewright-session.json: "),
         "{e}"
     );
     assert!(!Path::new("/proc/phasewright-session.json").exists());
@@ -163,7 +173,10 @@ fn path_like_strings_in_a_session_are_never_written_to() {
     let bait = |name: &str| dir.path().join(name).display().to_string();
     let mut s = Session::blank("p^2/2 + q^2/2");
     s.title = bait("title.json");
-    s.notes = format!("{} ../notes.json ~/notes.json file:///tmp/x", bait("notes.json"));
+    s.notes = format!(
+        "{} ../notes.json ~/notes.json file:///tmp/x",
+        bait("notes.json")
+    );
     s.parameters.push(Parameter {
         name: "unused".into(),
         value: 0.0,
@@ -180,9 +193,11 @@ fn path_like_strings_in_a_session_are_never_written_to() {
     });
     // a parameter named like a path loads (unused, with a warning); a method
     // named like one is refused; neither is followed
-    let mut text = s
-        .to_json_pretty()
-        .replacen("\"name\": \"unused\"", &format!("\"name\": {:?}", bait("name.json")), 1);
+    let mut text = s.to_json_pretty().replacen(
+        "\"name\": \"unused\"",
+        &format!("\"name\": {:?}", bait("name.json")),
+        1,
+    );
     let attempt = text.replacen(
         "\"method\": \"auto\"",
         &format!("\"method\": {:?}", bait("method.json")),
@@ -197,7 +212,9 @@ fn path_like_strings_in_a_session_are_never_written_to() {
     );
     let (loaded, warnings) = session::load(&text).expect("loads");
     assert!(
-        warnings.iter().any(|w| w.starts_with("output: unknown field")),
+        warnings
+            .iter()
+            .any(|w| w.starts_with("output: unknown field")),
         "{warnings:?}"
     );
     let sys = loaded.system().expect("system");

@@ -256,9 +256,17 @@ proptest! {
 #[test]
 fn deep_right_nesting_is_refused_with_the_depth_cap() {
     // a*(q+(q+(...))) keeps one pending value per level
-    let ok = format!("{}q{}", "q*(".repeat(MAX_EVAL_DEPTH - 2), ")".repeat(MAX_EVAL_DEPTH - 2));
+    let ok = format!(
+        "{}q{}",
+        "q*(".repeat(MAX_EVAL_DEPTH - 2),
+        ")".repeat(MAX_EVAL_DEPTH - 2)
+    );
     assert!(exercise(&ok).is_none(), "depth within the cap compiles");
-    let deep = format!("{}q{}", "q*(".repeat(MAX_EVAL_DEPTH + 1), ")".repeat(MAX_EVAL_DEPTH + 1));
+    let deep = format!(
+        "{}q{}",
+        "q*(".repeat(MAX_EVAL_DEPTH + 1),
+        ")".repeat(MAX_EVAL_DEPTH + 1)
+    );
     let e = exercise(&deep).expect("refused");
     assert_eq!(e.kind, FormulaErrorKind::TooDeep);
     assert_eq!(

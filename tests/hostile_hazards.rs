@@ -116,7 +116,10 @@ fn no_equilibrium_is_reported_at_a_singular_point() {
     let qs: Vec<f64> = a.equilibria.iter().map(|e| e.q).collect();
     let root = 3f64.powf(0.25);
     assert_eq!(qs.len(), 2, "{qs:?}");
-    assert!((qs[0] + root).abs() < 1e-9 && (qs[1] - root).abs() < 1e-9, "{qs:?}");
+    assert!(
+        (qs[0] + root).abs() < 1e-9 && (qs[1] - root).abs() < 1e-9,
+        "{qs:?}"
+    );
 }
 
 #[test]
@@ -136,7 +139,10 @@ fn logarithm_and_root_of_negative_values_leave_half_the_window_blank() {
         );
         assert!(!a.curves.is_empty());
         for c in &a.curves {
-            assert!(c.points.iter().all(|p| p[0] >= 0.0), "{src}: a curve in q < 0");
+            assert!(
+                c.points.iter().all(|p| p[0] >= 0.0),
+                "{src}: a curve in q < 0"
+            );
         }
     }
 }
@@ -264,12 +270,26 @@ fn command_line_shows_the_hazard_messages() {
         "--window=-6,6,-3,3",
     ]);
     assert_eq!(code, Some(0));
-    assert!(out.contains("Warning: H is NaN or infinite on 14% of the window"), "{out}");
+    assert!(
+        out.contains("Warning: H is NaN or infinite on 14% of the window"),
+        "{out}"
+    );
     let (out, _, code) = cli(&[
-        "orbit", "--formula", "p^2/2 - q^4", "--q0", "0.5", "--p0", "1", "--duration", "10",
+        "orbit",
+        "--formula",
+        "p^2/2 - q^4",
+        "--q0",
+        "0.5",
+        "--p0",
+        "1",
+        "--duration",
+        "10",
     ]);
     assert_eq!(code, Some(0));
-    assert!(out.contains("stopped            left the bounds at t = 0.74"), "{out}");
+    assert!(
+        out.contains("stopped            left the bounds at t = 0.74"),
+        "{out}"
+    );
     let (_, err, code) = cli(&["analyze", "--formula", "p^2/2 + 1e400*q"]);
     assert_eq!(code, Some(2));
     assert_eq!(

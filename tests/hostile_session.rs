@@ -255,8 +255,11 @@ fn mutate(example: &str, pick: prop::sample::Index, m: &Mutation) -> String {
                 o.insert("__phasewright_duplicate__".into(), Value::Null);
             }
             let key = serde_json::to_string(k).unwrap_or_default();
-            v.to_string()
-                .replacen("\"__phasewright_duplicate__\":null", &format!("{key}:{text}"), 1)
+            v.to_string().replacen(
+                "\"__phasewright_duplicate__\":null",
+                &format!("{key}:{text}"),
+                1,
+            )
         }
     }
 }

@@ -203,7 +203,12 @@ pub fn blank_jumps(sys: &System, grid: &mut Grid) -> Jumps {
                 continue;
             }
             let nbs = [k.checked_sub(1).map(rise), (k + 2 < n).then(|| rise(k + 1))];
-            let finite: Vec<f64> = nbs.iter().flatten().copied().filter(|x| x.is_finite()).collect();
+            let finite: Vec<f64> = nbs
+                .iter()
+                .flatten()
+                .copied()
+                .filter(|x| x.is_finite())
+                .collect();
             if finite.is_empty() || finite.iter().any(|&x| x * d >= 0.0) {
                 continue;
             }

@@ -660,7 +660,10 @@ fn tokenizer_error(source: &str, e: ParseError) -> FormulaError {
 fn first_huge_literal(source: &str) -> Option<(String, Pos)> {
     let b = source.as_bytes();
     token_spans(source).into_iter().find_map(|start| {
-        if !b.get(start).is_some_and(|c| c.is_ascii_digit() || *c == b'.') {
+        if !b
+            .get(start)
+            .is_some_and(|c| c.is_ascii_digit() || *c == b'.')
+        {
             return None;
         }
         let mut end = start;
@@ -668,7 +671,10 @@ fn first_huge_literal(source: &str) -> Option<(String, Pos)> {
             end += 1;
         }
         // the literal may carry a signed exponent: 1e+400
-        if end < b.len() && (b[end] == b'+' || b[end] == b'-') && b[end - 1].eq_ignore_ascii_case(&b'e') {
+        if end < b.len()
+            && (b[end] == b'+' || b[end] == b'-')
+            && b[end - 1].eq_ignore_ascii_case(&b'e')
+        {
             end += 1;
             while end < b.len() && b[end].is_ascii_digit() {
                 end += 1;
@@ -676,7 +682,8 @@ fn first_huge_literal(source: &str) -> Option<(String, Pos)> {
         }
         let text = &source[start..end];
         let v: f64 = text.parse().ok()?;
-        v.is_infinite().then(|| (text.to_string(), pos_of(source, start)))
+        v.is_infinite()
+            .then(|| (text.to_string(), pos_of(source, start)))
     })
 }
 
@@ -965,7 +972,10 @@ impl<'a> Compiler<'a> {
     /// literal, which the language does not have.
     fn warn_non_finite_names(&mut self) {
         for name in &self.params {
-            if NON_FINITE_NAMES.iter().any(|n| n.eq_ignore_ascii_case(name)) {
+            if NON_FINITE_NAMES
+                .iter()
+                .any(|n| n.eq_ignore_ascii_case(name))
+            {
                 let pos = find_word(self.source, name).map(|b| pos_of(self.source, b));
                 self.warnings.push(FormulaWarning {
                     message: format!(
