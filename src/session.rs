@@ -440,7 +440,7 @@ fn friendly(msg: &str) -> String {
         .replace("expected a string", "expected a text in quotes")
         .replace(
             "number out of range",
-            "a number beyond ±1.8e308, the largest a file may hold",
+            "number out of range: beyond ±1.8e308, the largest a file may hold",
         )
 }
 
