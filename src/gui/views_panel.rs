@@ -590,6 +590,16 @@ impl ViewsPanel {
         let clicked = pane_plot(ui, "bifurcation-diagram", DIAGRAM_LABEL, view, look, height);
         if let Some(x) = clicked {
             let (lo, hi) = range_of(&inp.session.parameters, &name).unwrap_or((from, to));
+            // On the slider's steps when it has them, as the slider would set it.
+            let step = inp
+                .session
+                .parameter(&name)
+                .and_then(|p| p.step)
+                .filter(|s| *s > 0.0);
+            let x = match step {
+                Some(s) => lo + ((x - lo) / s).round() * s,
+                None => x,
+            };
             commands.push(Command::SetParam {
                 name: name.clone(),
                 value: x.clamp(lo, hi),
