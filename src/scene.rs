@@ -858,7 +858,7 @@ impl Scene {
         {
             curves.push(guide(vec![[e, y.min], [e, y.max]]));
             legend.push(line_entry(
-                format!("escape energy {}", short_number(e)),
+                "escape energy".to_string(),
                 GUIDE_COLOUR,
                 GUIDE_WIDTH,
                 true,

@@ -241,6 +241,8 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
             ),
         ));
     }
+    // a byte-order mark, as some editors write, is not part of the JSON
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let raw = check_header(text)?;
     let mut de = serde_json::Deserializer::from_str(text);
     let mut session: Session = match serde_path_to_error::deserialize(&mut de) {
@@ -436,6 +438,10 @@ fn friendly(msg: &str) -> String {
         .replace("expected u32", "expected a whole number ≥ 0")
         .replace("expected a boolean", "expected true or false")
         .replace("expected a string", "expected a text in quotes")
+        .replace(
+            "number out of range",
+            "number out of range: beyond ±1.8e308, the largest a file may hold",
+        )
 }
 
 fn parse_error(e: serde_path_to_error::Error<serde_json::Error>) -> SessionError {
@@ -456,6 +462,15 @@ fn parse_error(e: serde_path_to_error::Error<serde_json::Error>) -> SessionError
             format!("{field}.{name}")
         };
         problem = format!("missing{tail}");
+    } else if let Some(rest) = problem.strip_prefix("duplicate field `")
+        && let Some((name, tail)) = rest.split_once('`')
+    {
+        field = if field.is_empty() {
+            name.to_string()
+        } else {
+            format!("{field}.{name}")
+        };
+        problem = format!("given twice{tail}; keep one");
     }
     SessionError::new(field, problem)
 }
@@ -720,7 +735,7 @@ impl Session {
                 let clamped = MAX_DURATION.copysign(o.duration);
                 warnings.push(format!(
                     "orbits[{i}].duration: {} is beyond the cap of ±{MAX_DURATION:e}; using {clamped:e}",
-                    o.duration
+                    crate::core::analysis::short_number(o.duration)
                 ));
                 o.duration = clamped;
             }
@@ -942,6 +957,16 @@ pub fn write_atomic(
             "the path does not name a file",
         ))
     })?;
+    // Renaming over a device, a pipe or a folder would replace it (as root,
+    // even /dev/null); a session goes only onto a regular file or a new name.
+    if let Ok(meta) = std::fs::metadata(path)
+        && !meta.is_file()
+    {
+        return Err(err(io::Error::new(
+            io::ErrorKind::InvalidInput,
+            "the path names a folder, device or pipe, not a file; choose a file name",
+        )));
+    }
     let dir = match path.parent() {
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),

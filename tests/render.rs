@@ -213,8 +213,12 @@ fn png_has_requested_size_and_marker_colours_at_equilibria() {
     }
 }
 
-/// The centre of a mark group: its first circle's centre, or the midpoint of its first path.
+/// The centre of a mark group: its square's or first circle's centre, or the midpoint of its first path.
 fn marker_centre(g: &roxmltree::Node) -> (f64, f64) {
+    if let Some(r) = g.children().find(|n| n.has_tag_name("rect")) {
+        let v = |a| r.attribute(a).unwrap().parse::<f64>().unwrap();
+        return (v("x") + v("width") / 2.0, v("y") + v("height") / 2.0);
+    }
     if let Some(c) = g.children().find(|n| n.has_tag_name("circle")) {
         let v = |a| c.attribute(a).unwrap().parse::<f64>().unwrap();
         return (v("cx"), v("cy"));
@@ -633,4 +637,362 @@ fn folds_scene_draws_the_cusp_curve_and_marks_the_cusp() {
     );
     assert_eq!(scene.x.label, "mu");
     assert_eq!(scene.y.label, "eps");
+}
+
+#[test]
+fn diagram_svg_has_one_path_per_branch_and_one_mark_per_bifurcation() {
+    let (sys, s) = imperfect_pitchfork_sweep();
+    let svg = to_svg(&Scene::diagram(&sys, &s, Some(0.1)), FigureSize::default());
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let branches: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("path") && has_class(n, "branch"))
+        .collect();
+    assert_eq!(branches.len(), s.branches.len());
+    let dashed = branches
+        .iter()
+        .filter(|n| n.attribute("stroke-dasharray").is_some())
+        .count();
+    let saddles = s
+        .branches
+        .iter()
+        .filter(|b| b.kind == EquilibriumKind::Saddle)
+        .count();
+    // The folded branch: one saddle half between two center pieces (closed form above).
+    assert_eq!((dashed, saddles), (1, 1));
+    let marks: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("g") && has_class(n, "bifurcation"))
+        .collect();
+    assert_eq!(marks.len(), s.bifurcations.len());
+    let label = marks[0]
+        .descendants()
+        .find(|n| n.has_tag_name("text"))
+        .and_then(|n| n.text())
+        .unwrap();
+    assert_eq!(label, "saddle-node mu = 0.25650");
+    let mu: f64 = marks[0].attribute("data-x").unwrap().parse().unwrap();
+    assert_eq!(mu.to_bits(), s.bifurcations[0].param.to_bits());
+}
+
+#[test]
+fn diagram_png_has_the_bifurcation_marker_colour_at_the_saddle_node() {
+    let (sys, s) = imperfect_pitchfork_sweep();
+    let size = FigureSize {
+        width: 1600,
+        height: 1200,
+    };
+    let svg = to_svg(&Scene::diagram(&sys, &s, None), size);
+    let pixmap = rasterize(&svg, 1.0).unwrap();
+    assert_eq!((pixmap.width(), pixmap.height()), (1600, 1200));
+    let drawn = pixmap
+        .pixels()
+        .iter()
+        .filter(|p| p.red() < 200 || p.green() < 200 || p.blue() < 200)
+        .count();
+    assert!(drawn > 5_000, "only {drawn} drawn pixels");
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let view: Vec<f64> = doc
+        .root_element()
+        .attribute("viewBox")
+        .unwrap()
+        .split(' ')
+        .map(|v| v.parse().unwrap())
+        .collect();
+    let scale = 1600.0 / view[2];
+    let mark = doc
+        .descendants()
+        .find(|n| n.has_tag_name("g") && has_class(n, "bifurcation"))
+        .unwrap();
+    let (cx, cy) = marker_centre(&mark);
+    let p = pixmap
+        .pixel((cx * scale).floor() as u32, (cy * scale).floor() as u32)
+        .unwrap();
+    let want = scene::BIFURCATION_MARKER.colour;
+    let close = |a: u8, b: u8| (i32::from(a) - i32::from(b)).abs() <= 24;
+    assert!(
+        close(p.red(), want.0) && close(p.green(), want.1) && close(p.blue(), want.2),
+        "saddle-node pixel is {:?}, want {want:?}",
+        (p.red(), p.green(), p.blue())
+    );
+}
+
+/// The views a session's settings allow (a backbone needs a center in view,
+/// which every example has).
+fn views_of(session: &phasewright::session::Session) -> Vec<&'static str> {
+    let mut views = vec!["portrait", "backbone"];
+    if session.sweep.is_some() {
+        views.push("diagram");
+    }
+    if session.folds.is_some() {
+        views.push("folds");
+    }
+    views
+}
+
+#[test]
+fn render_command_draws_every_session_in_every_view_its_settings_allow() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut diagrams = 0;
+    for path in session_files() {
+        let (session, _) = phasewright::session::load_file(&path).unwrap();
+        for view in views_of(&session) {
+            let out = dir.path().join(format!("{view}.svg"));
+            let o = run(&[
+                "render",
+                path.to_str().unwrap(),
+                "-o",
+                out.to_str().unwrap(),
+                "--view",
+                view,
+            ]);
+            assert!(
+                o.status.success(),
+                "{} --view {view}: {}",
+                path.display(),
+                String::from_utf8_lossy(&o.stderr)
+            );
+            let svg = std::fs::read_to_string(&out).unwrap();
+            let doc = roxmltree::Document::parse(&svg).unwrap();
+            let class = match view {
+                "portrait" => "level",
+                "diagram" => "branch",
+                "folds" => "fold",
+                other => other,
+            };
+            let curves = doc
+                .descendants()
+                .filter(|n| n.has_tag_name("path") && has_class(n, class))
+                .count();
+            assert!(
+                curves > 0,
+                "{} --view {view}: no {class} path",
+                path.display()
+            );
+            diagrams += usize::from(view == "diagram");
+        }
+    }
+    assert!(diagrams >= 4, "only {diagrams} sessions have a sweep");
+}
+
+#[test]
+fn render_command_names_the_missing_settings_and_exits_2() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("d.svg");
+    // The bond example has no sweep and no fold settings.
+    let path = sessions_dir().join("diatomic-bond.json");
+    for (view, flag) in [("diagram", "--param"), ("folds", "--box")] {
+        let o = run(&[
+            "render",
+            path.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--view",
+            view,
+        ]);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{view}: {err}");
+        assert!(
+            err.contains(flag) && err.contains("session"),
+            "{view}: {err}"
+        );
+    }
+    // Flags supply what the file lacks.
+    let o = run(&[
+        "render",
+        path.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--view",
+        "diagram",
+        "--param",
+        "D",
+        "--from",
+        "1",
+        "--to",
+        "8",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(!dir.path().join("f.svg").exists());
+}
+
+/// Run `render` of `session` to a CSV file with extra flags; the parsed rows.
+fn render_csv(session: &str, flags: &[&str]) -> Vec<Vec<String>> {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("t.csv");
+    let path = sessions_dir().join(session);
+    let mut args = vec![
+        "render",
+        path.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+    ];
+    args.extend(flags);
+    let o = run(&args);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    parse_csv(&std::fs::read_to_string(&out).unwrap())
+}
+
+fn bits(text: &str) -> u64 {
+    text.parse::<f64>().unwrap().to_bits()
+}
+
+fn load_example(name: &str) -> (phasewright::session::Session, System) {
+    let (session, _) = phasewright::session::load_file(&sessions_dir().join(name)).unwrap();
+    let sys = session.system().unwrap();
+    (session, sys)
+}
+
+#[test]
+fn sweep_csv_holds_the_branches_and_bifurcations_bit_for_bit() {
+    let rows = render_csv("imperfect-strut.json", &["--view", "diagram"]);
+    let (session, sys) = load_example("imperfect-strut.json");
+    let s = phasewright::render::sweep_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
+    // Header: the swept parameter by name, then the other parameters' values.
+    assert_eq!(
+        rows[0],
+        [
+            "record", "branch", "P", "q", "p", "energy", "kind", "g", "w"
+        ]
+    );
+    let points: Vec<_> = s.branches.iter().flat_map(|b| &b.points).collect();
+    assert_eq!(rows.len(), 1 + points.len() + s.bifurcations.len());
+    for (row, pt) in rows[1..].iter().zip(&points) {
+        assert_eq!(row[0], "point");
+        for (i, v) in [(2, pt.param), (3, pt.q), (4, pt.p), (5, pt.energy)] {
+            assert_eq!(bits(&row[i]), v.to_bits(), "{row:?}");
+        }
+        assert_eq!(row[6], scene::kind_name(pt.kind));
+    }
+    let last = &rows[rows.len() - 1];
+    let b = &s.bifurcations[s.bifurcations.len() - 1];
+    assert_eq!(
+        (last[0].as_str(), last[6].as_str()),
+        ("bifurcation", "saddle-node")
+    );
+    assert_eq!(bits(&last[2]), b.param.to_bits());
+    assert_eq!(bits(&last[3]), b.q.to_bits());
+    assert_eq!(last[7], "0.8");
+}
+
+#[test]
+fn folds_csv_holds_the_curves_and_cusps_bit_for_bit() {
+    let rows = render_csv("imperfect-strut.json", &["--view", "folds"]);
+    let (session, sys) = load_example("imperfect-strut.json");
+    let f = phasewright::render::folds_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
+    assert_eq!(
+        rows[0],
+        ["record", "curve", "P", "w", "q", "p", "energy", "g"]
+    );
+    let points: Vec<_> = f.curves.iter().flat_map(|c| &c.points).collect();
+    assert_eq!(rows.len(), 1 + points.len() + f.cusps.len());
+    for (row, pt) in rows[1..]
+        .iter()
+        .zip(points.iter().chain(&f.cusps.iter().collect::<Vec<_>>()))
+    {
+        for (i, v) in [
+            (2, pt.params[0]),
+            (3, pt.params[1]),
+            (4, pt.q),
+            (5, pt.p),
+            (6, pt.energy),
+        ] {
+            assert_eq!(bits(&row[i]), v.to_bits(), "{row:?}");
+        }
+    }
+    // The strut's cusp: P = 1, w = 0 (cusp catastrophe of q⁴/4 − (P − 1)q²/2 − wq; closed form).
+    let cusp = &rows[rows.len() - 1];
+    assert_eq!(cusp[0], "cusp");
+    assert!(
+        (cusp[2].parse::<f64>().unwrap() - 1.0).abs() < 1e-8,
+        "{cusp:?}"
+    );
+    assert!(cusp[3].parse::<f64>().unwrap().abs() < 1e-8, "{cusp:?}");
+}
+
+#[test]
+fn backbone_csv_holds_every_row_bit_for_bit() {
+    let rows = render_csv("biased-resonator.json", &["--view", "backbone"]);
+    let (session, sys) = load_example("biased-resonator.json");
+    let b =
+        phasewright::render::backbone_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
+    assert_eq!(
+        rows[0],
+        [
+            "energy",
+            "period",
+            "frequency",
+            "action",
+            "amplitude",
+            "k",
+            "b",
+            "c"
+        ]
+    );
+    assert_eq!(rows.len(), 1 + b.rows.len());
+    for (row, r) in rows[1..].iter().zip(&b.rows) {
+        for (i, v) in [r.energy, r.period, r.frequency, r.action, r.amplitude]
+            .into_iter()
+            .enumerate()
+        {
+            assert_eq!(bits(&row[i]), v.to_bits(), "{row:?}");
+        }
+    }
+    // Small oscillations in the well at q = 0 with unit stiffness and mass: T = 2π (closed form).
+    assert!((rows[1][1].parse::<f64>().unwrap() - 2.0 * PI).abs() < 1e-9);
+}
+
+#[cfg(feature = "gui")]
+#[test]
+fn explorer_export_writes_the_same_bytes_as_the_render_command() {
+    use phasewright::render::{ExportFormat, FigureFormat, PortraitTable, View};
+    let dir = tempfile::tempdir().unwrap();
+    let (session, _) = load_example("imperfect-strut.json");
+    let path = sessions_dir().join("imperfect-strut.json");
+    let cases = [
+        (
+            View::Diagram,
+            "diagram",
+            ExportFormat::Figure(FigureFormat::Svg),
+            "svg",
+        ),
+        (
+            View::Folds,
+            "folds",
+            ExportFormat::Csv(PortraitTable::Equilibria),
+            "csv",
+        ),
+    ];
+    for (view, flag, format, ext) in cases {
+        let from_cli = dir.path().join(format!("cli.{ext}"));
+        let o = run(&[
+            "render",
+            path.to_str().unwrap(),
+            "-o",
+            from_cli.to_str().unwrap(),
+            "--view",
+            flag,
+        ]);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let from_gui = dir.path().join(format!("gui.{ext}"));
+        let done = phasewright::gui::export_to_file(&session, view, format, &from_gui).unwrap();
+        assert!(done.starts_with("exported"), "{done}");
+        assert_eq!(
+            std::fs::read(&from_gui).unwrap(),
+            std::fs::read(&from_cli).unwrap(),
+            "{flag}"
+        );
+    }
+    // A session without sweep settings: the export says so and writes nothing.
+    let (bond, _) = load_example("diatomic-bond.json");
+    let target = dir.path().join("none.svg");
+    let e = phasewright::gui::export_to_file(
+        &bond,
+        View::Diagram,
+        ExportFormat::Figure(FigureFormat::Svg),
+        &target,
+    )
+    .unwrap_err();
+    assert!(e.contains("sweep settings"), "{e}");
+    assert!(!target.exists());
 }

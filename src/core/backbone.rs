@@ -510,7 +510,7 @@ impl Well<'_> {
         let qm = self.turning_point(depth, from.0, limits.0)?;
         let qp = self.turning_point(depth, from.1, limits.1)?;
         let half = 0.5 * (qp - qm);
-        if !(half > 0.0) {
+        if half.is_nan() || half <= 0.0 {
             return None;
         }
         let m = 1.0 / hpp.abs();
@@ -725,7 +725,8 @@ fn gk_rule(f: &dyn Fn(f64) -> [f64; 2], lo: f64, hi: f64) -> Piece {
         vals[2 * i - 1] = f(c - h * x);
         vals[2 * i] = f(c + h * x);
     }
-    let weight = |n: usize| if n == 0 { 0 } else { (n + 1) / 2 };
+    // Value n was taken at node ⌈n/2⌉ of GK_NODES.
+    let weight = |n: usize| n.div_ceil(2);
     let mut val = [0.0; 2];
     let mut err = [0.0; 2];
     let mut floor = true;

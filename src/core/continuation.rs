@@ -22,6 +22,13 @@
 //! point where one branch is tangent to μ = const is a pitchfork, otherwise it
 //! is transcritical.
 //!
+//! Branches start from the equilibria in view at both ends of the range and
+//! then from those at three values inside it that lie on no traced branch
+//! (a seed is on a branch when a traced chord crosses its μ and the curve's
+//! point there is the seed): a curve that reaches neither end, such as the
+//! isola q² + μ² = a² of V' = q² + μ² − a², is traced from its interior seed
+//! both ways, or once around when it closes.
+//!
 //! Reference: E. L. Allgower and K. Georg, *Introduction to Numerical
 //! Continuation Methods* (SIAM 2003), ch. 2 (predictor–corrector), ch. 8
 //! (detection of bifurcation points, branch switching); H. B. Keller, "Numerical
@@ -113,7 +120,7 @@ pub struct SweepConfig {
     pub step: StepConfig,
     /// Continuation steps over all branches together (default 20 000).
     pub max_steps: usize,
-    /// The equilibrium search that seeds the branches at both ends.
+    /// The equilibrium search that seeds the branches (at both ends and inside the range).
     pub equilibria: EquilibriumConfig,
 }
 
@@ -1221,7 +1228,9 @@ fn seeds_at(
 /// Trace every branch of equilibria of `sys` as the parameter `param` moves
 /// from `from` to `to`, inside `window`.
 ///
-/// Branches start at every equilibrium in view at both ends of the range;
+/// Branches start at every equilibrium in view at both ends of the range,
+/// then at those at a few values inside it that no traced branch passes
+/// (so isolas and branches born and dying inside the range are found);
 /// branch points spawn the branches through them; each piece of curve is
 /// traced once. `progress` is called after every accepted step (from the
 /// calling thread); `cancel` stops the work early with partial results.

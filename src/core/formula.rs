@@ -24,6 +24,14 @@ pub const MAX_SOURCE_BYTES: usize = 64 * 1024;
 pub const MAX_TAPE_OPS: usize = 20_000;
 /// Most parameters a formula may name.
 pub const MAX_PARAMS: usize = 64;
+/// Most values an evaluation may hold at once (the depth of the evaluation
+/// stack). Only right-nested chains such as `q*(q+(q+(...)))` need more than a
+/// handful; the grid evaluator keeps a 256-point row per entry, so this bounds
+/// its memory (about 2 KiB per entry).
+pub const MAX_EVAL_DEPTH: usize = 256;
+/// Parameter names that look like the non-finite literals of other notations
+/// (compared ignoring case); the formula language has none, so they get a warning.
+const NON_FINITE_NAMES: [&str; 3] = ["nan", "inf", "infinity"];
 /// Largest integer exponent compiled to repeated multiplication.
 const MAX_FAST_POWER: f64 = 64.0;
 
@@ -130,6 +138,7 @@ pub enum FormulaErrorKind {
     VariableCalled(String),
     BadNumber,
     TooManyParameters,
+    TooDeep,
 }
 
 /// A formula that does not compile: what, and where (1-based line and column,
@@ -223,7 +232,10 @@ impl Formula {
         if let Some((i, ch)) = source.char_indices().find(|(_, c)| !c.is_ascii()) {
             return Err(FormulaError::new(
                 FormulaErrorKind::Syntax,
-                format!("the character '{ch}' is not part of the formula language"),
+                format!(
+                    "the character '{ch}' (U+{:04X}) is not part of the formula language",
+                    ch as u32
+                ),
                 Some(pos_of(source, i)),
             ));
         }
@@ -351,6 +363,51 @@ impl Formula {
     /// Evaluate in plain `f64`.
     pub fn eval_f64(&self, slots: &[f64]) -> f64 {
         self.eval::<f64>(slots)
+    }
+
+    /// H at `slots` together with a first-order bound on its rounding error:
+    /// each operation adds one rounding unit of its result, and the errors of
+    /// its operands carried through by the operation's exact partial
+    /// derivatives (forward error analysis; N. J. Higham, *Accuracy and
+    /// Stability of Numerical Algorithms*, 2nd ed., SIAM 2002, ch. 3). Used to
+    /// tell an H that is constant up to rounding (cosh(q)^2 - sinh(q)^2) from one
+    /// that merely has a small scale. The bound is infinite where a derivative is.
+    pub fn eval_with_rounding(&self, slots: &[f64]) -> (f64, f64) {
+        use num_dual::Dual64;
+        const U: f64 = f64::EPSILON;
+        let mut st: Vec<(f64, f64)> = Vec::with_capacity(self.max_depth);
+        // values in f64 exactly as the tape computes them; partial derivatives
+        // from dual numbers
+        fn step<D: DualNum<Primitive = f64> + Copy>(op: Op, a: D, b: D) -> D {
+            match op {
+                Op::Neg => -a,
+                Op::PowI(n) => a.powi(n),
+                Op::PowF(c) => powf(a, c),
+                Op::F1(f) => apply1(f, a),
+                _ => apply2(&op, a, b),
+            }
+        }
+        for &op in &self.ops {
+            match op {
+                Op::Const(c) => st.push((c, 0.5 * U * c.abs())),
+                Op::Slot(k) => st.push((slots.get(k as usize).copied().unwrap_or(f64::NAN), 0.0)),
+                Op::Neg | Op::PowI(_) | Op::PowF(_) | Op::F1(_) => {
+                    let (x, e) = st.pop().unwrap_or((f64::NAN, 0.0));
+                    let v = step(op, x, 0.0);
+                    let d = step(op, Dual64::new(x, 1.0), Dual64::from_re(0.0)).eps;
+                    st.push((v, d.abs() * e + U * v.abs()));
+                }
+                _ => {
+                    let (b, eb) = st.pop().unwrap_or((f64::NAN, 0.0));
+                    let (a, ea) = st.pop().unwrap_or((f64::NAN, 0.0));
+                    let v = step(op, a, b);
+                    let da = step(op, Dual64::new(a, 1.0), Dual64::from_re(b)).eps;
+                    let db = step(op, Dual64::from_re(a), Dual64::new(b, 1.0)).eps;
+                    st.push((v, da.abs() * ea + db.abs() * eb + U * v.abs()));
+                }
+            }
+        }
+        st.first().copied().unwrap_or((f64::NAN, f64::NAN))
     }
 
     /// A program for fast evaluation over many points at fixed t and
@@ -529,6 +586,7 @@ fn token_spans(source: &str) -> Vec<usize> {
 fn describe_char(c: u8) -> String {
     match c {
         b'\n' => "a line break".into(),
+        c if c.is_ascii_control() => format!("the control character U+{c:04X}"),
         _ => format!("'{}'", c as char),
     }
 }
@@ -596,6 +654,48 @@ fn tokenizer_error(source: &str, e: ParseError) -> FormulaError {
             FormulaError::new(FormulaErrorKind::Syntax, msg, Some(pos_of(source, end)))
         }
     }
+}
+
+/// The first numeric literal in `source` that is too large for f64, with its position.
+fn first_huge_literal(source: &str) -> Option<(String, Pos)> {
+    let b = source.as_bytes();
+    token_spans(source).into_iter().find_map(|start| {
+        if !b
+            .get(start)
+            .is_some_and(|c| c.is_ascii_digit() || *c == b'.')
+        {
+            return None;
+        }
+        let mut end = start;
+        while end < b.len() && (b[end].is_ascii_alphanumeric() || b[end] == b'.') {
+            end += 1;
+        }
+        // the literal may carry a signed exponent: 1e+400
+        if end < b.len()
+            && (b[end] == b'+' || b[end] == b'-')
+            && b[end - 1].eq_ignore_ascii_case(&b'e')
+        {
+            end += 1;
+            while end < b.len() && b[end].is_ascii_digit() {
+                end += 1;
+            }
+        }
+        let text = &source[start..end];
+        let v: f64 = text.parse().ok()?;
+        v.is_infinite()
+            .then(|| (text.to_string(), pos_of(source, start)))
+    })
+}
+
+/// Byte offset of `word` standing alone (not inside a longer identifier).
+fn find_word(source: &str, word: &str) -> Option<usize> {
+    let b = source.as_bytes();
+    let ident = |c: u8| c.is_ascii_alphanumeric() || c == b'_';
+    source.match_indices(word).map(|(i, _)| i).find(|&i| {
+        let before = i == 0 || !ident(b[i - 1]);
+        let after = b.get(i + word.len()).is_none_or(|&c| !ident(c));
+        before && after
+    })
 }
 
 fn word_before(source: &str, at: usize) -> String {
@@ -666,6 +766,23 @@ impl<'a> Compiler<'a> {
         self.max_depth = self.max_depth.max(self.depth);
     }
 
+    /// Refuse a formula whose evaluation would hold more than
+    /// [`MAX_EVAL_DEPTH`] values at once.
+    fn too_deep(&self) -> Result<(), FormulaError> {
+        if self.depth > MAX_EVAL_DEPTH {
+            return Err(FormulaError::new(
+                FormulaErrorKind::TooDeep,
+                format!(
+                    "the formula nests too deeply: evaluating it would hold more than \
+                     {MAX_EVAL_DEPTH} values at once (a long chain like a*(b+(c*(d+...)))); \
+                     write it with fewer nested parentheses"
+                ),
+                None,
+            ));
+        }
+        Ok(())
+    }
+
     fn too_long(&self) -> Result<(), FormulaError> {
         if self.ops.len() > MAX_TAPE_OPS {
             return Err(FormulaError::new(
@@ -698,6 +815,7 @@ impl<'a> Compiler<'a> {
             tape.push(op);
             let mut stack = vec![0.0; arity.max(1)];
             let v = run_tape(&tape, &slots, &mut stack);
+            self.warn_non_finite_constant(v);
             for _ in 0..arity {
                 self.ops.pop();
                 self.consts.pop();
@@ -755,10 +873,17 @@ impl<'a> Compiler<'a> {
             match tok {
                 Token::Number(x) => {
                     if !x.is_finite() {
+                        let (text, pos) = match first_huge_literal(self.source) {
+                            Some((t, p)) => (format!(" {t}"), Some(p)),
+                            None => (String::new(), None),
+                        };
                         return Err(FormulaError::new(
                             FormulaErrorKind::BadNumber,
-                            "a number in the formula is too large to represent".into(),
-                            None,
+                            format!(
+                                "the number{text} is too large to represent (the largest is \
+                                 about 1.8e308)"
+                            ),
+                            pos,
                         ));
                     }
                     self.push(Op::Const(*x), Some(*x), 0);
@@ -825,11 +950,13 @@ impl<'a> Compiler<'a> {
                 }
             }
             self.too_long()?;
+            self.too_deep()?;
         }
         if self.consts.len() != 1 {
             return Err(self.syntax("two values stand side by side without an operator"));
         }
         let separable = self.sep[0];
+        self.warn_non_finite_names();
         Ok(Formula {
             source: self.source.to_string(),
             ops: self.ops,
@@ -839,6 +966,42 @@ impl<'a> Compiler<'a> {
             uses: self.uses,
             separable,
         })
+    }
+
+    /// A parameter called `nan`, `inf` or `infinity` is most likely meant as a
+    /// literal, which the language does not have.
+    fn warn_non_finite_names(&mut self) {
+        for name in &self.params {
+            if NON_FINITE_NAMES
+                .iter()
+                .any(|n| n.eq_ignore_ascii_case(name))
+            {
+                let pos = find_word(self.source, name).map(|b| pos_of(self.source, b));
+                self.warnings.push(FormulaWarning {
+                    message: format!(
+                        "'{name}' is read as a parameter: the formula language has no NaN or \
+                         infinity literals"
+                    ),
+                    line: pos.map(|p| p.line).unwrap_or(1),
+                    column: pos.map(|p| p.column),
+                });
+            }
+        }
+    }
+
+    /// Once per formula: a part without q, p, t or parameters that is already
+    /// infinite or undefined (10^400, 0/0, ln(-1)) makes H undefined.
+    fn warn_non_finite_constant(&mut self, v: f64) {
+        const MESSAGE: &str = "a part of the formula without variables is infinite or \
+                               undefined (an overflow such as 10^400, or 0/0, ln(-1)); H is \
+                               undefined wherever that part counts";
+        if !v.is_finite() && !self.warnings.iter().any(|w| w.message == MESSAGE) {
+            self.warnings.push(FormulaWarning {
+                message: MESSAGE.to_string(),
+                line: 1,
+                column: None,
+            });
+        }
     }
 
     fn warn_zero_derivative(&mut self, what: &str, pos: Option<Pos>) {

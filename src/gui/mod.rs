@@ -33,6 +33,7 @@ pub use plot_panel::PLOT_LABEL;
 pub use tables_panel::{equilibrium_rows, orbit_row, well_rows};
 pub use views_panel::{BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, PaneSettings};
 
+use crate::render;
 use dialogs::Modal;
 use files::{DataDir, DialogOutcome, DialogPurpose, PendingDialog};
 use history::{EditKind, History};
@@ -135,6 +136,10 @@ pub enum Command {
     SaveAs,
     SavePrompt,
     SaveTo(PathBuf),
+    /// Export a view as a figure or table: ask where.
+    Export(render::View, render::ExportFormat),
+    /// Export a view to this file (off the UI thread).
+    ExportTo(render::View, render::ExportFormat, PathBuf),
     Undo,
     Redo,
     SetDark(bool),
@@ -187,6 +192,8 @@ pub struct Explorer {
     param_settle_at: Option<f64>,
     modal: Modal,
     pending_dialog: Option<PendingDialog>,
+    /// Exports running on their own threads; each answers with its outcome.
+    exports: Vec<std::sync::mpsc::Receiver<Result<String, String>>>,
     data: Option<DataDir>,
     recent: Vec<PathBuf>,
     dark: bool,
@@ -253,6 +260,7 @@ impl Explorer {
                 Modal::None
             },
             pending_dialog: None,
+            exports: Vec::new(),
             data,
             recent,
             dark: false,
@@ -482,6 +490,7 @@ impl Explorer {
         let mut commands = self.shortcuts(&ctx);
         self.handle_close_request(&ctx, &mut commands);
         self.poll_dialog(&mut commands);
+        self.poll_exports();
 
         egui::Panel::top("menu").show(ui, |ui| {
             commands.extend(menu_bar::ui(
@@ -491,6 +500,8 @@ impl Explorer {
                     can_undo: self.history.can_undo(),
                     can_redo: self.history.can_redo(),
                     dark: self.dark,
+                    has_sweep: self.session.sweep.is_some(),
+                    has_folds: self.session.folds.is_some(),
                 },
             ));
         });
@@ -588,7 +599,7 @@ impl Explorer {
         self.dragging_seen = false;
         self.update_title(&ctx);
         self.autosave();
-        if self.pending_dialog.is_some() {
+        if self.pending_dialog.is_some() || !self.exports.is_empty() {
             ctx.request_repaint_after(Duration::from_millis(100));
         }
         self.log_frame(t0);
@@ -658,6 +669,57 @@ impl Explorer {
         }
     }
 
+    /// Export `view` of the session as it is now to `path` on a thread of
+    /// its own, through the same `render::export` the command line uses.
+    fn start_export(&mut self, view: render::View, format: render::ExportFormat, path: PathBuf) {
+        let session = self.session.clone();
+        let (tx, rx) = std::sync::mpsc::channel();
+        let spawned = std::thread::Builder::new()
+            .name("phasewright-export".into())
+            .spawn(move || {
+                let outcome = export_to_file(&session, view, format, &path);
+                let _ = tx.send(outcome);
+            });
+        match spawned {
+            Ok(_) => {
+                self.status = format!("exporting the {}…", view.name());
+                self.exports.push(rx);
+            }
+            Err(e) => {
+                self.modal = Modal::Message {
+                    title: "Export failed".into(),
+                    text: format!("cannot start the export: {e}"),
+                }
+            }
+        }
+    }
+
+    fn poll_exports(&mut self) {
+        let mut i = 0;
+        while i < self.exports.len() {
+            match self.exports[i].try_recv() {
+                Err(std::sync::mpsc::TryRecvError::Empty) => {
+                    i += 1;
+                    continue;
+                }
+                Ok(Ok(done)) => self.status = done,
+                Ok(Err(problem)) => {
+                    self.modal = Modal::Message {
+                        title: "Export failed".into(),
+                        text: problem,
+                    }
+                }
+                Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                    self.modal = Modal::Message {
+                        title: "Export failed".into(),
+                        text: "the export stopped without a result".into(),
+                    }
+                }
+            }
+            self.exports.remove(i);
+        }
+    }
+
     fn poll_dialog(&mut self, commands: &mut Vec<Command>) {
         let Some(d) = &self.pending_dialog else {
             return;
@@ -671,6 +733,7 @@ impl Explorer {
             DialogOutcome::Chosen(path) => commands.push(match purpose {
                 DialogPurpose::Open => Command::OpenFile(path),
                 DialogPurpose::SaveAs => Command::SaveTo(path),
+                DialogPurpose::Export(view, format) => Command::ExportTo(view, format, path),
             }),
             DialogOutcome::Cancelled => {}
             DialogOutcome::Unavailable => self.prompt_path(
@@ -686,7 +749,20 @@ impl Explorer {
             (None, DialogPurpose::SaveAs) => std::env::current_dir()
                 .map(|d| d.join("session.json").display().to_string())
                 .unwrap_or_else(|_| "session.json".into()),
-            (None, DialogPurpose::Open) => String::new(),
+            (None, DialogPurpose::Open | DialogPurpose::Export(..)) => String::new(),
+        };
+        let text = match purpose {
+            DialogPurpose::Export(view, format) => {
+                let name = files::export_file_name(view, format);
+                let dir = self
+                    .file
+                    .as_ref()
+                    .and_then(|f| f.parent().map(Path::to_path_buf))
+                    .or_else(|| std::env::current_dir().ok())
+                    .unwrap_or_default();
+                dir.join(name).display().to_string()
+            }
+            _ => text,
         };
         self.modal = Modal::PathPrompt {
             purpose,
@@ -707,13 +783,16 @@ impl Explorer {
             .file
             .as_ref()
             .and_then(|f| f.parent().map(Path::to_path_buf));
-        let name = self
-            .file
-            .as_ref()
-            .and_then(|f| f.file_name())
-            .map_or("session.json".to_string(), |n| {
-                n.to_string_lossy().into_owned()
-            });
+        let name = match purpose {
+            DialogPurpose::Export(view, format) => files::export_file_name(view, format),
+            _ => self
+                .file
+                .as_ref()
+                .and_then(|f| f.file_name())
+                .map_or("session.json".to_string(), |n| {
+                    n.to_string_lossy().into_owned()
+                }),
+        };
         match PendingDialog::start(purpose, dir, &name) {
             Some(d) => self.pending_dialog = Some(d),
             None => self.prompt_path(purpose, ""),
@@ -890,6 +969,10 @@ impl Explorer {
             },
             Command::SaveAs => self.native_dialog(DialogPurpose::SaveAs),
             Command::SavePrompt => self.prompt_path(DialogPurpose::SaveAs, ""),
+            Command::Export(view, format) => {
+                self.native_dialog(DialogPurpose::Export(view, format));
+            }
+            Command::ExportTo(view, format, path) => self.start_export(view, format, path),
             Command::SaveTo(path) => match files::save_session(&self.session, &path) {
                 Ok(()) => {
                     self.file = Some(path.clone());
@@ -1218,4 +1301,27 @@ pub fn run(initial: Option<PathBuf>) -> Result<(), String> {
         Box::new(move |_cc| Ok(Box::new(ExplorerApp(explorer)))),
     )
     .map_err(|e| format!("the explorer window could not start: {e}"))
+}
+
+/// Compute and write one export; the status line on success, the problem otherwise.
+pub fn export_to_file(
+    session: &Session,
+    view: render::View,
+    format: render::ExportFormat,
+    path: &Path,
+) -> Result<String, String> {
+    let sys = session.system().map_err(|e| e.to_string())?;
+    let out = render::export(
+        session,
+        &sys,
+        &session.view,
+        view,
+        format,
+        render::FigureSize::default(),
+        &crate::core::Cancel::never(),
+    )
+    .map_err(|e| e.to_string())?;
+    crate::session::write_atomic(path, |w| std::io::Write::write_all(w, &out.bytes))
+        .map_err(|e| e.to_string())?;
+    Ok(format!("exported {} ({})", path.display(), out.summary))
 }
