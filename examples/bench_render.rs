@@ -1,12 +1,14 @@
-//! Time the figure pipeline on every example session: analysis with the
-//! session's orbits, scene, SVG text and PNG rasterisation at 1600x1200,
+//! Time the figure pipeline on every example session in every view its
+//! settings allow: the computation (analysis with the session's orbits, sweep,
+//! fold curves or backbone), scene, SVG text and PNG rasterisation at 1600x1200,
 //! best of several runs each.
 //!
 //! Run: `cargo run --release --no-default-features --example bench_render`
 
 use phasewright::core::Cancel;
 use phasewright::render::png::rasterize;
-use phasewright::render::{FigureSize, portrait_data, portrait_scene, to_svg};
+use phasewright::render::{FigureSize, View, to_svg, view_data, view_scene};
+use phasewright::scene::BackbonePlot;
 use std::path::Path;
 use std::time::{Duration, Instant};
 
@@ -53,8 +55,8 @@ fn main() {
         size.width, size.height
     );
     println!(
-        "{:<22} {:>8} {:>8} {:>8} {:>8} {:>8} {:>9}",
-        "session", "compute", "scene", "svg", "png", "total", "svg bytes"
+        "{:<28} {:>8} {:>8} {:>8} {:>8} {:>8} {:>9}",
+        "session/view", "compute", "scene", "svg", "png", "total", "svg bytes"
     );
     for path in files {
         let name = path
@@ -75,24 +77,41 @@ fn main() {
                 continue;
             }
         };
-        let (t_analyze, data) =
-            best(|| portrait_data(&session, &sys, &session.view, &Cancel::never()));
-        let (t_scene, scene) = best(|| portrait_scene(&session, &sys, &data));
-        let (t_svg, svg) = best(|| to_svg(&scene, size));
-        let (t_png, png) = best(|| rasterize(&svg, 1.0));
-        if let Err(e) = png {
-            eprintln!("{name}: {e}");
-            continue;
+        let mut views = vec![View::Portrait, View::Backbone(BackbonePlot::PeriodEnergy)];
+        if session.sweep.is_some() {
+            views.push(View::Diagram);
         }
-        let total = t_analyze + t_scene + t_svg + t_png;
-        println!(
-            "{name:<22} {} {} {} {} {} {:>9}",
-            ms(t_analyze),
-            ms(t_scene),
-            ms(t_svg),
-            ms(t_png),
-            ms(total),
-            svg.len()
-        );
+        if session.folds.is_some() {
+            views.push(View::Folds);
+        }
+        for view in views {
+            let label = format!("{name}/{}", view.name());
+            let (t_analyze, data) =
+                best(|| view_data(&session, &sys, &session.view, view, &Cancel::never()));
+            let data = match data {
+                Ok(d) => d,
+                Err(e) => {
+                    eprintln!("{label}: {e}");
+                    continue;
+                }
+            };
+            let (t_scene, scene) = best(|| view_scene(&session, &sys, &data, view));
+            let (t_svg, svg) = best(|| to_svg(&scene, size));
+            let (t_png, png) = best(|| rasterize(&svg, 1.0));
+            if let Err(e) = png {
+                eprintln!("{label}: {e}");
+                continue;
+            }
+            let total = t_analyze + t_scene + t_svg + t_png;
+            println!(
+                "{label:<28} {} {} {} {} {} {:>9}",
+                ms(t_analyze),
+                ms(t_scene),
+                ms(t_svg),
+                ms(t_png),
+                ms(total),
+                svg.len()
+            );
+        }
     }
 }

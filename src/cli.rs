@@ -6,12 +6,17 @@
 
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, analyze};
+use crate::core::backbone::Backbone;
+use crate::core::continuation::Sweep;
+use crate::core::folds::FoldCurves;
 use crate::core::formula::Formula;
 use crate::core::integrate::Method;
 use crate::core::orbit::{Orbit, OrbitRequest, StopReason, default_duration, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::session::{self, Parameter, Session};
+use crate::render::{self, View, ViewError, table::Table};
+use crate::scene::BackbonePlot;
+use crate::session::{self, BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
 use clap::{Args, Parser, Subcommand};
 use std::fmt::{self, Write as _};
 use std::path::PathBuf;
@@ -76,9 +81,9 @@ pub struct SystemArgs {
 pub struct AnalyzeArgs {
     #[command(flatten)]
     pub system: SystemArgs,
-    /// Print JSON instead of a table.
-    #[arg(long)]
-    pub json: bool,
+    /// `--json` prints everything as JSON; `--csv` prints the equilibria as CSV.
+    #[command(flatten)]
+    pub output: OutputArgs,
 }
 
 /// Arguments of `orbit`.
@@ -102,15 +107,12 @@ pub struct OrbitArgs {
     /// Fixed step size (default: from the local time scale).
     #[arg(long, value_name = "H")]
     pub step: Option<f64>,
-    /// Print JSON instead of a table.
-    #[arg(long, conflicts_with = "csv")]
-    pub json: bool,
-    /// Print the samples as CSV (t,q,p,H).
-    #[arg(long)]
-    pub csv: bool,
+    /// `--json` prints the measurements as JSON; `--csv` prints the samples (t,q,p,H).
+    #[command(flatten)]
+    pub output: OutputArgs,
 }
 
-/// How a bifurcation or backbone command prints its results.
+/// How an analysis command prints its results.
 #[derive(Debug, Clone, Default, Args)]
 pub struct OutputArgs {
     /// Print JSON instead of a table.
@@ -121,20 +123,50 @@ pub struct OutputArgs {
     pub csv: bool,
 }
 
+/// Which sweep: flags that replace the session's `sweep` settings.
+#[derive(Debug, Clone, Default, Args)]
+pub struct SweepFlags {
+    /// The parameter that moves (default: the session's sweep).
+    #[arg(long, value_name = "NAME")]
+    pub param: Option<String>,
+    /// Where the parameter starts (default: the session's sweep).
+    #[arg(long, value_name = "A", allow_hyphen_values = true)]
+    pub from: Option<String>,
+    /// Where the parameter ends (default: the session's sweep).
+    #[arg(long, value_name = "B", allow_hyphen_values = true)]
+    pub to: Option<String>,
+}
+
+/// Which fold curves: flags that replace the session's `folds` settings.
+#[derive(Debug, Clone, Default, Args)]
+pub struct FoldFlags {
+    /// The two parameters: NAME1,NAME2 (default: the session's folds).
+    #[arg(long, value_name = "NAME1,NAME2")]
+    pub params: Option<String>,
+    /// The parameter box [A1, B1] × [A2, B2]: A1,B1,A2,B2 (default: the session's folds).
+    #[arg(long = "box", value_name = "A1,B1,A2,B2", allow_hyphen_values = true)]
+    pub bounds: Option<String>,
+}
+
+/// Which backbone: flags that replace the session's `backbone` settings.
+#[derive(Debug, Clone, Default, Args)]
+pub struct BackboneFlags {
+    /// A point near the center of the well: Q,P (default: the session's
+    /// backbone, else the first center in view).
+    #[arg(long, value_name = "Q,P", allow_hyphen_values = true)]
+    pub center: Option<String>,
+    /// Energies sampled, the center's included (default: the session's, else 200).
+    #[arg(long, value_name = "N")]
+    pub energies: Option<usize>,
+}
+
 /// Arguments of `sweep`.
 #[derive(Debug, Clone, Args)]
 pub struct SweepArgs {
     #[command(flatten)]
     pub system: SystemArgs,
-    /// The parameter that moves.
-    #[arg(long, value_name = "NAME")]
-    pub param: String,
-    /// Where the parameter starts.
-    #[arg(long, value_name = "A", allow_hyphen_values = true)]
-    pub from: String,
-    /// Where the parameter ends.
-    #[arg(long, value_name = "B", allow_hyphen_values = true)]
-    pub to: String,
+    #[command(flatten)]
+    pub sweep: SweepFlags,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -144,12 +176,8 @@ pub struct SweepArgs {
 pub struct FoldsArgs {
     #[command(flatten)]
     pub system: SystemArgs,
-    /// The two parameters: NAME1,NAME2.
-    #[arg(long, value_name = "NAME1,NAME2")]
-    pub params: String,
-    /// The parameter box [A1, B1] × [A2, B2]: A1,B1,A2,B2.
-    #[arg(long = "box", value_name = "A1,B1,A2,B2", allow_hyphen_values = true)]
-    pub bounds: String,
+    #[command(flatten)]
+    pub folds: FoldFlags,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -159,9 +187,8 @@ pub struct FoldsArgs {
 pub struct BackboneArgs {
     #[command(flatten)]
     pub system: SystemArgs,
-    /// A point near the center of the well: Q,P.
-    #[arg(long, value_name = "Q,P", allow_hyphen_values = true)]
-    pub center: String,
+    #[command(flatten)]
+    pub backbone: BackboneFlags,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -171,10 +198,21 @@ pub struct BackboneArgs {
 pub enum FigureView {
     /// Level curves, equilibria and the session's orbits in the phase plane.
     Portrait,
-    /// Equilibria against one parameter.
+    /// Equilibria against one parameter (the session's sweep, or --param/--from/--to).
     Diagram,
-    /// Period against energy in the well of one center.
+    /// Period against energy, or frequency against amplitude, in the well of one center.
     Backbone,
+    /// Saddle-node curves in the plane of two parameters (the session's folds, or --params/--box).
+    Folds,
+}
+
+/// Which relation a backbone figure plots.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum PlotArg {
+    /// Period against energy, the escape energy as a guide.
+    PeriodEnergy,
+    /// Angular frequency against amplitude.
+    FrequencyAmplitude,
 }
 
 /// Arguments of `render`.
@@ -182,8 +220,8 @@ pub enum FigureView {
 pub struct RenderArgs {
     #[command(flatten)]
     pub system: SystemArgs,
-    /// The figure file to write: FILE.svg or FILE.png.
-    #[arg(short = 'o', long = "output", value_name = "FILE.svg|FILE.png")]
+    /// The file to write: FILE.svg or FILE.png (a figure), FILE.csv or FILE.json (its table).
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: PathBuf,
     /// Size in pixels, WIDTHxHEIGHT.
     #[arg(long, value_name = "WxH", default_value = "1000x750")]
@@ -191,21 +229,18 @@ pub struct RenderArgs {
     /// What to draw.
     #[arg(long, value_enum, default_value_t = FigureView::Portrait)]
     pub view: FigureView,
-    /// Diagram: the parameter to move.
-    #[arg(long, value_name = "NAME")]
-    pub param: Option<String>,
-    /// Diagram: where the parameter starts.
-    #[arg(long, value_name = "A", allow_hyphen_values = true)]
-    pub from: Option<f64>,
-    /// Diagram: where the parameter ends.
-    #[arg(long, value_name = "B", allow_hyphen_values = true)]
-    pub to: Option<f64>,
-    /// Backbone: the center whose well to follow (default: the first center).
-    #[arg(long, value_name = "Q,P", allow_hyphen_values = true)]
-    pub center: Option<String>,
-    /// With -o FILE.csv or FILE.json: which table of the portrait to write.
-    #[arg(long, value_enum, default_value_t = PortraitTable::Equilibria)]
-    pub table: PortraitTable,
+    /// Backbone: which relation to plot.
+    #[arg(long, value_enum, default_value_t = PlotArg::PeriodEnergy)]
+    pub plot: PlotArg,
+    #[command(flatten)]
+    pub sweep: SweepFlags,
+    #[command(flatten)]
+    pub folds: FoldFlags,
+    #[command(flatten)]
+    pub backbone: BackboneFlags,
+    /// Portrait with -o FILE.csv or FILE.json: which table to write.
+    #[arg(long, value_enum)]
+    pub table: Option<PortraitTable>,
 }
 
 /// The tables behind a portrait.
@@ -217,6 +252,31 @@ pub enum PortraitTable {
     Orbits,
     /// Every stored sample of every seeded orbit.
     Samples,
+}
+
+impl From<PortraitTable> for render::PortraitTable {
+    fn from(t: PortraitTable) -> Self {
+        match t {
+            PortraitTable::Equilibria => render::PortraitTable::Equilibria,
+            PortraitTable::Wells => render::PortraitTable::Wells,
+            PortraitTable::Orbits => render::PortraitTable::Orbits,
+            PortraitTable::Samples => render::PortraitTable::Samples,
+        }
+    }
+}
+
+impl FigureView {
+    fn view(self, plot: PlotArg) -> View {
+        match self {
+            FigureView::Portrait => View::Portrait,
+            FigureView::Diagram => View::Diagram,
+            FigureView::Folds => View::Folds,
+            FigureView::Backbone => View::Backbone(match plot {
+                PlotArg::PeriodEnergy => BackbonePlot::PeriodEnergy,
+                PlotArg::FrequencyAmplitude => BackbonePlot::FrequencyAmplitude,
+            }),
+        }
+    }
 }
 
 /// Bad input on the command line or in a file it names.
@@ -387,6 +447,53 @@ fn print_warnings(warnings: &[String]) {
     }
 }
 
+/// The three ways an analysis command prints: `--json` (the result with the
+/// formula, parameter values and window added), `--csv` (its table), or
+/// readable text. Each subcommand states only its result, table and text.
+fn emit<T: serde::Serialize>(
+    r: &Resolved,
+    output: &OutputArgs,
+    result: &T,
+    table: impl FnOnce() -> Table,
+    text: impl FnOnce() -> String,
+) -> String {
+    if output.json {
+        let params: Vec<(String, f64)> = r
+            .session
+            .parameters
+            .iter()
+            .map(|p| (p.name.clone(), p.value))
+            .collect();
+        render::table::annotated_json(result, &r.session.formula, &params, &r.window)
+    } else if output.csv {
+        table().to_csv()
+    } else {
+        text()
+    }
+}
+
+/// A view's results for a subcommand or `render`, its errors in command-line words.
+fn compute<T>(
+    r: &Resolved,
+    command: &str,
+    run: impl FnOnce(&Session, &System, &Window, &Cancel) -> Result<T, ViewError>,
+) -> Result<T, CliError> {
+    run(&r.session, &r.system, &r.window, &Cancel::never()).map_err(|e| view_error(&e, command))
+}
+
+fn view_error(e: &ViewError, command: &str) -> CliError {
+    CliError(match e {
+        ViewError::MissingSettings(View::Diagram) => format!(
+            "{command}: {e}; give --param NAME --from A --to B or add the section to the session"
+        ),
+        ViewError::MissingSettings(View::Folds) => format!(
+            "{command}: {e}; give --params NAME1,NAME2 --box A1,B1,A2,B2 or add the section to the session"
+        ),
+        ViewError::Refused { message, .. } => format!("{command}: {message}"),
+        other => format!("{command}: {other}"),
+    })
+}
+
 /// `analyze`: equilibria, wells, connections, diagnostics.
 pub fn run_analyze(args: &AnalyzeArgs) -> Result<String, CliError> {
     let r = args.system.resolve()?;
@@ -397,11 +504,29 @@ pub fn run_analyze(args: &AnalyzeArgs) -> Result<String, CliError> {
         &r.session.analysis_config(),
         &Cancel::never(),
     );
-    if args.json {
-        Ok(analysis_json(&r, &a))
-    } else {
-        Ok(analysis_table(&r, &a))
+    #[derive(serde::Serialize)]
+    struct Out<'a> {
+        equilibria: &'a [crate::core::equilibria::Equilibrium],
+        wells: &'a [crate::core::wells::Well],
+        connections: &'a [crate::core::wells::Connection],
+        diagnostics: &'a [crate::core::Diagnostic],
+        cancelled: bool,
     }
+    let out = Out {
+        equilibria: &a.equilibria,
+        wells: &a.wells,
+        connections: &a.connections,
+        diagnostics: &a.diagnostics,
+        cancelled: a.cancelled,
+    };
+    let params = render::table::parameter_pairs(&r.system);
+    Ok(emit(
+        &r,
+        &args.output,
+        &out,
+        || render::table::equilibria_table(&a.equilibria, &params),
+        || analysis_table(&r, &a),
+    ))
 }
 
 /// `orbit`: integrate one orbit and print its measurements or samples.
@@ -452,39 +577,18 @@ pub fn run_orbit(args: &OrbitArgs) -> Result<String, CliError> {
     if let StopReason::InvalidRequest { problem } = &orbit.stop {
         return Err(CliError(format!("--method {method_name}: {problem}")));
     }
-    if args.csv {
-        Ok(orbit_csv(&orbit))
-    } else if args.json {
-        Ok(orbit_json(&r, &orbit, q0, p0))
-    } else {
-        Ok(orbit_table(&r, &orbit, q0, p0))
-    }
+    Ok(emit(
+        &r,
+        &args.output,
+        &orbit_measurements(&orbit, q0, p0),
+        || render::table::orbit_samples_table(&orbit),
+        || orbit_table(&r, &orbit, q0, p0),
+    ))
 }
 
-/// The session's parameter values by name, for JSON output.
-fn parameter_map(r: &Resolved) -> serde_json::Map<String, serde_json::Value> {
-    r.session
-        .parameters
-        .iter()
-        .map(|p| (p.name.clone(), serde_json::Value::from(p.value)))
-        .collect()
-}
-
-/// The orbit's samples as CSV with a header.
-pub fn orbit_csv(orbit: &Orbit) -> String {
-    let mut out = String::from("t,q,p,H\n");
-    for s in &orbit.samples {
-        let _ = writeln!(out, "{},{},{},{}", s.t, s.q, s.p, s.h);
-    }
-    out
-}
-
-/// The orbit's measurements as JSON (samples left out; see `--csv`).
-pub fn orbit_json(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
-    let parameters = parameter_map(r);
-    let v = serde_json::json!({
-        "formula": r.session.formula,
-        "parameters": parameters,
+/// The orbit's measurements for JSON (samples left out; see `--csv`).
+fn orbit_measurements(orbit: &Orbit, q0: f64, p0: f64) -> serde_json::Value {
+    serde_json::json!({
         "q0": q0,
         "p0": p0,
         "method": orbit.method,
@@ -508,8 +612,7 @@ pub fn orbit_json(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
         "jet_evaluations": orbit.jet_evaluations,
         "samples": orbit.samples.len(),
         "diagnostics": orbit.diagnostics,
-    });
-    serde_json::to_string_pretty(&v).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+    })
 }
 
 /// The orbit's measurements as readable lines.
@@ -560,121 +663,226 @@ pub fn orbit_table(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
     out
 }
 
-/// `render`: build the scene the view asks for and write it as SVG or PNG,
-/// or write the numbers behind it as CSV or JSON.
-pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
-    use crate::render::{FigureFormat, FigureSize};
-    let ext = args
-        .output
-        .extension()
-        .and_then(|e| e.to_str())
-        .map(str::to_ascii_lowercase);
-    let table = matches!(ext.as_deref(), Some("csv" | "json"));
-    let format = FigureFormat::from_path(&args.output);
-    if format.is_none() && !table {
-        return Err(CliError(format!(
-            "-o {}: the file name must end in .svg or .png (a figure) or .csv or .json (a table)",
-            args.output.display()
-        )));
-    }
-    let size = FigureSize::parse(&args.size).map_err(|e| CliError(format!("--size: {e}")))?;
-    let r = args.system.resolve()?;
-    print_warnings(&r.warnings);
-    let (bytes, summary) = match args.view {
-        FigureView::Portrait => {
-            let data =
-                crate::render::portrait_data(&r.session, &r.system, &r.window, &Cancel::never());
-            if table {
-                let t = portrait_table(&r, &data, args.table);
-                let text = if ext.as_deref() == Some("csv") {
-                    t.to_csv()
-                } else {
-                    t.to_json()
-                };
-                (text.into_bytes(), format!("{} rows", t.rows.len()))
-            } else {
-                let scene = crate::render::portrait_scene(&r.session, &r.system, &data);
-                figure(&scene, size, format)?
-            }
-        }
-        FigureView::Diagram | FigureView::Backbone => {
-            return Err(CliError(format!(
-                "--view {}: this figure is not available yet",
-                match args.view {
-                    FigureView::Diagram => "diagram",
-                    _ => "backbone",
-                }
-            )));
-        }
-    };
-    session::write_atomic(&args.output, |w| w.write_all(&bytes))
-        .map_err(|e| CliError(e.to_string()))?;
-    Ok(format!("wrote {} ({summary})", args.output.display()))
+/// Parse one finite number given to `--option`.
+fn parse_one(option: &str, text: &str, shape: &str) -> Result<f64, CliError> {
+    Ok(parse_numbers(option, text, 1, shape)?[0])
 }
 
-/// The bytes of a figure and a one-line summary of it.
-fn figure(
-    scene: &crate::scene::Scene,
-    size: crate::render::FigureSize,
-    format: Option<crate::render::FigureFormat>,
-) -> Result<(Vec<u8>, String), CliError> {
-    let format = format.unwrap_or(crate::render::FigureFormat::Svg);
-    let bytes =
-        crate::render::figure_bytes(scene, size, format).map_err(|e| CliError(e.to_string()))?;
-    Ok((
-        bytes,
-        format!(
-            "{}x{} px, {} curves, {} marks",
-            size.width,
-            size.height,
-            scene.curves.len(),
-            scene.marks.len()
-        ),
+impl SweepFlags {
+    /// Replace the session's sweep settings with the flags given; the rest
+    /// come from the session. All three must be known in the end.
+    pub fn apply(&self, session: &mut Session) -> Result<(), CliError> {
+        if self.param.is_none() && self.from.is_none() && self.to.is_none() {
+            return Ok(());
+        }
+        let base = session.sweep.clone();
+        let from = match &self.from {
+            Some(t) => Some(parse_one("from", t, "A")?),
+            None => base.as_ref().map(|b| b.from),
+        };
+        let to = match &self.to {
+            Some(t) => Some(parse_one("to", t, "B")?),
+            None => base.as_ref().map(|b| b.to),
+        };
+        let param = self
+            .param
+            .clone()
+            .or(base.as_ref().map(|b| b.param.clone()));
+        match (param, from, to) {
+            (Some(param), Some(from), Some(to)) => {
+                session.sweep = Some(SweepSettings {
+                    param,
+                    from,
+                    to,
+                    max_step: base.and_then(|b| b.max_step),
+                });
+                Ok(())
+            }
+            (param, from, to) => {
+                let missing: Vec<&str> = [
+                    param.is_none().then_some("--param NAME"),
+                    from.is_none().then_some("--from A"),
+                    to.is_none().then_some("--to B"),
+                ]
+                .into_iter()
+                .flatten()
+                .collect();
+                Err(CliError(format!(
+                    "the session has no sweep settings to complete the flags; also give {}",
+                    missing.join(" ")
+                )))
+            }
+        }
+    }
+}
+
+impl FoldFlags {
+    /// Replace the session's fold-curve settings with the flags given.
+    pub fn apply(&self, session: &mut Session) -> Result<(), CliError> {
+        if self.params.is_none() && self.bounds.is_none() {
+            return Ok(());
+        }
+        let base = session.folds.clone();
+        let params = match &self.params {
+            Some(text) => {
+                let names: Vec<&str> = text.split(',').map(str::trim).collect();
+                if names.len() != 2 || names.iter().any(|n| n.is_empty()) {
+                    return Err(CliError(format!(
+                        "--params {text}: expected two parameter names NAME1,NAME2"
+                    )));
+                }
+                Some([names[0].to_string(), names[1].to_string()])
+            }
+            None => base.as_ref().map(|b| b.params.clone()),
+        };
+        let bounds = match &self.bounds {
+            Some(text) => {
+                let b = parse_numbers("box", text, 4, "A1,B1,A2,B2")?;
+                Some([b[0], b[1], b[2], b[3]])
+            }
+            None => base.as_ref().map(|b| b.bounds),
+        };
+        match (params, bounds) {
+            (Some(params), Some(bounds)) => {
+                session.folds = Some(FoldSettings { params, bounds });
+                Ok(())
+            }
+            (None, _) => Err(CliError(
+                "the session has no fold-curve settings to complete --box; also give --params NAME1,NAME2"
+                    .to_string(),
+            )),
+            (_, None) => Err(CliError(
+                "the session has no fold-curve settings to complete --params; also give --box A1,B1,A2,B2"
+                    .to_string(),
+            )),
+        }
+    }
+}
+
+impl BackboneFlags {
+    /// Replace the session's backbone settings with the flags given.
+    pub fn apply(&self, session: &mut Session) -> Result<(), CliError> {
+        if self.center.is_none() && self.energies.is_none() {
+            return Ok(());
+        }
+        let mut b = session.backbone.clone().unwrap_or_default();
+        if let Some(text) = &self.center {
+            let c = parse_numbers("center", text, 2, "Q,P")?;
+            b.center = Some([c[0], c[1]]);
+        }
+        if let Some(n) = self.energies {
+            let (lo, hi) = (
+                session::MIN_BACKBONE_ENERGIES,
+                session::MAX_BACKBONE_ENERGIES,
+            );
+            if !(lo..=hi).contains(&n) {
+                return Err(CliError(format!(
+                    "--energies {n}: expected a whole number in {lo}..={hi}"
+                )));
+            }
+            b.energies = Some(n);
+        }
+        session.backbone = Some(BackboneSettings { ..b });
+        Ok(())
+    }
+
+    /// How a refused backbone is introduced: by the flag that chose the center, if any.
+    fn command(&self) -> String {
+        self.center
+            .as_ref()
+            .map_or("backbone".to_string(), |c| format!("--center {c}"))
+    }
+}
+
+/// `sweep`: branches of equilibria and bifurcation points as one parameter moves.
+pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
+    let mut r = args.system.resolve()?;
+    args.sweep.apply(&mut r.session)?;
+    print_warnings(&r.warnings);
+    let s = compute(&r, "sweep", render::sweep_of)?;
+    Ok(emit(
+        &r,
+        &args.output,
+        &s,
+        || render::table::sweep_table(&s),
+        || sweep_text(&r, &s),
     ))
 }
 
-/// The table of a portrait that `--table` names.
-fn portrait_table(
-    r: &Resolved,
-    data: &crate::render::PortraitData,
-    which: PortraitTable,
-) -> crate::render::table::Table {
-    use crate::render::table;
-    let params = table::parameter_pairs(&r.system);
-    match which {
-        PortraitTable::Equilibria => table::equilibria_table(&data.analysis.equilibria, &params),
-        PortraitTable::Wells => table::wells_table(&data.analysis.wells, &params),
-        PortraitTable::Orbits => table::orbit_measurements_table(&data.orbits, &params),
-        PortraitTable::Samples => table::orbits_samples_table(&data.orbits, &params),
-    }
+/// `folds`: saddle-node curves in two parameters.
+pub fn run_folds(args: &FoldsArgs) -> Result<String, CliError> {
+    let mut r = args.system.resolve()?;
+    args.folds.apply(&mut r.session)?;
+    print_warnings(&r.warnings);
+    let f = compute(&r, "folds", render::folds_of)?;
+    Ok(emit(
+        &r,
+        &args.output,
+        &f,
+        || render::table::folds_table(&f),
+        || folds_text(&r, &f),
+    ))
 }
 
-/// The analysis as JSON: formula, parameters, window, equilibria, wells,
-/// connections and diagnostics.
-pub fn analysis_json(r: &Resolved, a: &Analysis) -> String {
-    let parameters = parameter_map(r);
-    #[derive(serde::Serialize)]
-    struct Out<'a> {
-        formula: &'a str,
-        parameters: serde_json::Map<String, serde_json::Value>,
-        window: &'a Window,
-        equilibria: &'a [crate::core::equilibria::Equilibrium],
-        wells: &'a [crate::core::wells::Well],
-        connections: &'a [crate::core::wells::Connection],
-        diagnostics: &'a [crate::core::Diagnostic],
-        cancelled: bool,
+/// `backbone`: period, frequency, action and amplitude against energy.
+pub fn run_backbone(args: &BackboneArgs) -> Result<String, CliError> {
+    let mut r = args.system.resolve()?;
+    args.backbone.apply(&mut r.session)?;
+    print_warnings(&r.warnings);
+    let b = compute(&r, &args.backbone.command(), render::backbone_of)?;
+    Ok(emit(
+        &r,
+        &args.output,
+        &b,
+        || render::table::backbone_table(&b),
+        || backbone_text(&r, &b),
+    ))
+}
+
+/// `render`: compute the view, then write it as SVG or PNG, or write the
+/// numbers behind it as CSV or JSON, through `render::export_data`.
+pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
+    use crate::render::{ExportFormat, FigureSize};
+    let view = args.view.view(args.plot);
+    let which = args.table.map(Into::into).unwrap_or_default();
+    let format = ExportFormat::from_path(&args.output, which).ok_or_else(|| {
+        CliError(format!(
+            "-o {}: the file name must end in .svg or .png (a figure) or .csv or .json (a table)",
+            args.output.display()
+        ))
+    })?;
+    if args.table.is_some() && view != View::Portrait {
+        return Err(CliError(format!(
+            "--table chooses among the portrait's tables; the {} has one table",
+            view.name()
+        )));
     }
-    let out = Out {
-        formula: &r.session.formula,
-        parameters,
-        window: &a.window,
-        equilibria: &a.equilibria,
-        wells: &a.wells,
-        connections: &a.connections,
-        diagnostics: &a.diagnostics,
-        cancelled: a.cancelled,
+    let size = FigureSize::parse(&args.size).map_err(|e| CliError(format!("--size: {e}")))?;
+    let mut r = args.system.resolve()?;
+    let command = match view {
+        View::Diagram => {
+            args.sweep.apply(&mut r.session)?;
+            "--view diagram".to_string()
+        }
+        View::Folds => {
+            args.folds.apply(&mut r.session)?;
+            "--view folds".to_string()
+        }
+        View::Backbone(_) => {
+            args.backbone.apply(&mut r.session)?;
+            args.backbone.command()
+        }
+        View::Portrait => "--view portrait".to_string(),
     };
-    serde_json::to_string_pretty(&out).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+    print_warnings(&r.warnings);
+    let data = compute(&r, &command, |s, sys, w, c| {
+        render::view_data(s, sys, w, view, c)
+    })?;
+    let out = render::export_data(&r.session, &r.system, &data, view, format, size)
+        .map_err(|e| view_error(&e, &command))?;
+    session::write_atomic(&args.output, |w| w.write_all(&out.bytes))
+        .map_err(|e| CliError(e.to_string()))?;
+    Ok(format!("wrote {} ({})", args.output.display(), out.summary))
 }
 
 /// A number for a table: fixed digits, without "-0".
@@ -868,20 +1076,6 @@ fn parse_numbers(
         .collect()
 }
 
-/// A CSV field: quoted when it holds a comma, quote or newline.
-fn csv_field(s: &str) -> String {
-    if s.contains([',', '"', '\n']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
-    } else {
-        s.to_string()
-    }
-}
-
-/// Numbers in CSV and JSON-like output keep every digit.
-fn full(v: f64) -> String {
-    format!("{v:?}")
-}
-
 fn diagnostics_text(out: &mut String, diagnostics: &[crate::core::Diagnostic], cancelled: bool) {
     if !diagnostics.is_empty() || cancelled {
         let _ = writeln!(out, "\nDiagnostics");
@@ -894,86 +1088,9 @@ fn diagnostics_text(out: &mut String, diagnostics: &[crate::core::Diagnostic], c
     }
 }
 
-fn to_json<T: serde::Serialize>(r: &Resolved, body: &T) -> String {
-    let parameters: serde_json::Map<String, serde_json::Value> = r
-        .session
-        .parameters
-        .iter()
-        .map(|p| (p.name.clone(), serde_json::Value::from(p.value)))
-        .collect();
-    let mut value = serde_json::to_value(body).unwrap_or(serde_json::Value::Null);
-    if let Some(map) = value.as_object_mut() {
-        map.insert("formula".into(), r.session.formula.clone().into());
-        map.insert("parameters".into(), parameters.into());
-        if let Ok(w) = serde_json::to_value(r.window) {
-            map.insert("window".into(), w);
-        }
-    }
-    serde_json::to_string_pretty(&value).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
-}
-
-/// `sweep`: branches of equilibria and bifurcation points as one parameter moves.
-pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
-    use crate::core::continuation::{SweepConfig, sweep};
-    let from = parse_numbers("from", &args.from, 1, "A")?[0];
-    let to = parse_numbers("to", &args.to, 1, "B")?[0];
-    let r = args.system.resolve()?;
-    if r.system.formula().param_index(&args.param).is_none() {
-        return Err(CliError(format!(
-            "--param {}: the formula has no parameter `{}` (it has: {})",
-            args.param,
-            args.param,
-            if r.system.formula().params().is_empty() {
-                "none".to_string()
-            } else {
-                r.system.formula().params().join(", ")
-            }
-        )));
-    }
-    print_warnings(&r.warnings);
-    let s = sweep(
-        &r.system,
-        &args.param,
-        from,
-        to,
-        &r.window,
-        &SweepConfig::default(),
-        &Cancel::never(),
-        &|_| {},
-    )
-    .map_err(|e| CliError(format!("sweep: {e}")))?;
-    if args.output.json {
-        return Ok(to_json(&r, &s));
-    }
+/// A sweep as readable tables.
+fn sweep_text(r: &Resolved, s: &Sweep) -> String {
     let mut out = String::new();
-    if args.output.csv {
-        let _ = writeln!(out, "record,branch,{},q,p,energy,kind", csv_field(&s.param));
-        for (i, b) in s.branches.iter().enumerate() {
-            for pt in &b.points {
-                let _ = writeln!(
-                    out,
-                    "point,{i},{},{},{},{},{}",
-                    full(pt.param),
-                    full(pt.q),
-                    full(pt.p),
-                    full(pt.energy),
-                    crate::scene::kind_name(pt.kind)
-                );
-            }
-        }
-        for b in &s.bifurcations {
-            let _ = writeln!(
-                out,
-                "bifurcation,,{},{},{},{},{}",
-                full(b.param),
-                full(b.q),
-                full(b.p),
-                full(b.energy),
-                b.kind.name()
-            );
-        }
-        return Ok(out);
-    }
     let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
     let _ = writeln!(out, "{} from {} to {}", s.param, s.from, s.to);
     let _ = writeln!(out, "\nBifurcations ({})", s.bifurcations.len());
@@ -1019,74 +1136,17 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
         table(&mut out, &["#", "kind", "points", &from, &to], &rows);
     }
     diagnostics_text(&mut out, &s.diagnostics, s.cancelled);
-    Ok(out)
+    out
 }
 
-/// `folds`: saddle-node curves in two parameters.
-pub fn run_folds(args: &FoldsArgs) -> Result<String, CliError> {
-    use crate::core::folds::{FoldConfig, fold_curves};
-    let names: Vec<&str> = args.params.split(',').map(str::trim).collect();
-    if names.len() != 2 || names.iter().any(|n| n.is_empty()) {
-        return Err(CliError(format!(
-            "--params {}: expected two parameter names NAME1,NAME2",
-            args.params
-        )));
-    }
-    let b = parse_numbers("box", &args.bounds, 4, "A1,B1,A2,B2")?;
-    let r = args.system.resolve()?;
-    print_warnings(&r.warnings);
-    let f = fold_curves(
-        &r.system,
-        [names[0], names[1]],
-        [b[0], b[1], b[2], b[3]],
-        &r.window,
-        &FoldConfig::default(),
-        &Cancel::never(),
-        &|_| {},
-    )
-    .map_err(|e| CliError(format!("folds: {e}")))?;
-    if args.output.json {
-        return Ok(to_json(&r, &f));
-    }
+/// Fold curves as readable tables.
+fn folds_text(r: &Resolved, f: &FoldCurves) -> String {
     let mut out = String::new();
-    if args.output.csv {
-        let _ = writeln!(
-            out,
-            "record,curve,{},{},q,p,energy",
-            csv_field(&f.params[0]),
-            csv_field(&f.params[1])
-        );
-        for (i, c) in f.curves.iter().enumerate() {
-            for pt in &c.points {
-                let _ = writeln!(
-                    out,
-                    "point,{i},{},{},{},{},{}",
-                    full(pt.params[0]),
-                    full(pt.params[1]),
-                    full(pt.q),
-                    full(pt.p),
-                    full(pt.energy)
-                );
-            }
-        }
-        for pt in &f.cusps {
-            let _ = writeln!(
-                out,
-                "cusp,,{},{},{},{},{}",
-                full(pt.params[0]),
-                full(pt.params[1]),
-                full(pt.q),
-                full(pt.p),
-                full(pt.energy)
-            );
-        }
-        return Ok(out);
-    }
     let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
     let _ = writeln!(
         out,
         "{} in [{}, {}], {} in [{}, {}]",
-        f.params[0], b[0], b[1], f.params[1], b[2], b[3]
+        f.params[0], f.bounds[0], f.bounds[1], f.params[1], f.bounds[2], f.bounds[3]
     );
     let _ = writeln!(out, "\nFold curves ({})", f.curves.len());
     let rows: Vec<Vec<String>> = f
@@ -1135,43 +1195,12 @@ pub fn run_folds(args: &FoldsArgs) -> Result<String, CliError> {
         );
     }
     diagnostics_text(&mut out, &f.diagnostics, f.cancelled);
-    Ok(out)
+    out
 }
 
-/// `backbone`: period, frequency, action and amplitude against energy.
-pub fn run_backbone(args: &BackboneArgs) -> Result<String, CliError> {
-    use crate::core::backbone::{BackboneConfig, backbone};
-    let c = parse_numbers("center", &args.center, 2, "Q,P")?;
-    let r = args.system.resolve()?;
-    print_warnings(&r.warnings);
-    let b = backbone(
-        &r.system,
-        [c[0], c[1]],
-        &r.window,
-        &BackboneConfig::default(),
-        &Cancel::never(),
-        &|_, _| {},
-    )
-    .map_err(|e| CliError(format!("--center {}: {e}", args.center)))?;
-    if args.output.json {
-        return Ok(to_json(&r, &b));
-    }
+/// A backbone as readable tables.
+fn backbone_text(r: &Resolved, b: &Backbone) -> String {
     let mut out = String::new();
-    if args.output.csv {
-        let _ = writeln!(out, "energy,period,frequency,action,amplitude");
-        for row in &b.rows {
-            let _ = writeln!(
-                out,
-                "{},{},{},{},{}",
-                full(row.energy),
-                full(row.period),
-                full(row.frequency),
-                full(row.action),
-                full(row.amplitude)
-            );
-        }
-        return Ok(out);
-    }
     let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
     let _ = writeln!(
         out,
@@ -1205,5 +1234,5 @@ pub fn run_backbone(args: &BackboneArgs) -> Result<String, CliError> {
         &rows,
     );
     diagnostics_text(&mut out, &b.diagnostics, b.cancelled);
-    Ok(out)
+    out
 }

@@ -5,7 +5,10 @@
 //! so the palette and the marker shapes defined here are the project's one look.
 
 use crate::core::analysis::Analysis;
+use crate::core::backbone::Backbone;
+use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
+use crate::core::folds::FoldCurves;
 use crate::core::system::System;
 
 /// A colour as 8-bit sRGB.
@@ -151,6 +154,27 @@ pub const LEVEL_WIDTH: f64 = 1.0;
 pub const SEPARATRIX_WIDTH: f64 = 2.2;
 pub const ORBIT_WIDTH: f64 = 1.8;
 pub const BRANCH_WIDTH: f64 = 2.0;
+pub const BACKBONE_WIDTH: f64 = 2.0;
+pub const FOLD_WIDTH: f64 = 2.0;
+pub const GUIDE_WIDTH: f64 = 1.2;
+
+/// Colour of a backbone curve.
+pub const BACKBONE_COLOUR: Rgb = Rgb(0x1f, 0x4f, 0x8c);
+/// Colour of a fold curve in the parameter plane.
+pub const FOLD_COLOUR: Rgb = Rgb(0x16, 0x7f, 0x8f);
+/// Colour of guide lines (current parameter value, escape energy).
+pub const GUIDE_COLOUR: Rgb = MUTED;
+
+/// The colour and dashing of a diagram branch of equilibria of `kind`:
+/// centers solid in the center marker's colour, saddles dashed in ink,
+/// degenerate pieces dashed in the degenerate marker's colour.
+pub fn branch_style(kind: EquilibriumKind) -> (Rgb, bool) {
+    match kind {
+        EquilibriumKind::Center => (CENTER_MARKER.colour, false),
+        EquilibriumKind::Saddle => (INK, true),
+        EquilibriumKind::Degenerate => (DEGENERATE_MARKER.colour, true),
+    }
+}
 
 /// One axis: its label and the data range shown.
 #[derive(Clone, Debug, PartialEq)]
@@ -171,12 +195,15 @@ pub enum CurveRole {
     Branch { kind: EquilibriumKind },
     /// A backbone (period, frequency or action against energy).
     Backbone,
-    /// A reference line (an escape energy, a sweep's end).
+    /// A saddle-node curve in the plane of two parameters.
+    Fold,
+    /// A reference line (an escape energy, the current parameter value).
     Guide,
 }
 
 impl CurveRole {
-    /// The class name used in figures: `level`, `separatrix`, `orbit`, `branch`, `backbone`, `guide`.
+    /// The class name used in figures: `level`, `separatrix`, `orbit`,
+    /// `branch`, `backbone`, `fold`, `guide`.
     pub fn class(&self) -> &'static str {
         match self {
             CurveRole::Level {
@@ -188,6 +215,7 @@ impl CurveRole {
             CurveRole::Orbit => "orbit",
             CurveRole::Branch { .. } => "branch",
             CurveRole::Backbone => "backbone",
+            CurveRole::Fold => "fold",
             CurveRole::Guide => "guide",
         }
     }
@@ -217,7 +245,10 @@ pub struct Curve {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum MarkRole {
     Equilibrium(EquilibriumKind),
+    /// A bifurcation point on a diagram.
     Bifurcation,
+    /// A cusp of a fold curve in the parameter plane.
+    Cusp,
 }
 
 /// One point mark, optionally labelled.
@@ -578,4 +609,352 @@ pub fn tick_label(v: f64, step: f64) -> String {
         format!("{v:.decimals$}")
     };
     text.replace('-', "\u{2212}")
+}
+
+/// Which relation a backbone figure plots.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum BackbonePlot {
+    /// Period T against energy E, with the escape energy as a vertical guide.
+    #[default]
+    PeriodEnergy,
+    /// Angular frequency ω against amplitude (half the q-extent of the orbit).
+    FrequencyAmplitude,
+}
+
+/// Share of a data range added on each side of an axis fitted to data.
+const DATA_MARGIN: f64 = 0.05;
+
+/// `H = <formula>` with every parameter's value except those in `skip`, then `tail`.
+fn caption_without(sys: &System, skip: &[&str], tail: &str) -> String {
+    let mut text = format!("H = {}", sys.formula().source().trim());
+    let values: Vec<String> = sys
+        .formula()
+        .params()
+        .iter()
+        .zip(sys.params())
+        .filter(|(n, _)| !skip.contains(&n.as_str()))
+        .map(|(n, v)| format!("{n} = {}", short_number(*v)))
+        .collect();
+    if !values.is_empty() {
+        text.push_str(&format!(" with {}", values.join(", ")));
+    }
+    if !tail.is_empty() {
+        text.push_str(&format!("; {tail}"));
+    }
+    text
+}
+
+/// A parameter value in a mark's label: five decimals in the usual range, else exponent form.
+pub fn label_number(v: f64) -> String {
+    let text = if v == 0.0 || (v.abs() >= 1e-3 && v.abs() < 1e5) {
+        format!("{v:.5}")
+    } else {
+        format!("{v:.4e}")
+    };
+    if text.starts_with('-') && text.trim_start_matches(['-', '0', '.']).is_empty() {
+        text[1..].to_string()
+    } else {
+        text
+    }
+}
+
+/// An axis over the finite values of `values`, widened by a margin; `fallback`
+/// when there is no finite spread (a single value is centred in a unit range).
+fn fitted_axis(label: &str, values: impl Iterator<Item = f64>, fallback: (f64, f64)) -> Axis {
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
+    for v in values.filter(|v| v.is_finite()) {
+        lo = lo.min(v);
+        hi = hi.max(v);
+    }
+    let (min, max) = if hi > lo {
+        let pad = (hi - lo) * DATA_MARGIN;
+        (lo - pad, hi + pad)
+    } else if lo.is_finite() {
+        let half = 0.5 * lo.abs().max(1.0);
+        (lo - half, lo + half)
+    } else {
+        fallback
+    };
+    Axis {
+        label: label.to_string(),
+        min,
+        max,
+    }
+}
+
+/// An axis from `a` to `b` in increasing order.
+fn range_axis(label: &str, a: f64, b: f64) -> Axis {
+    Axis {
+        label: label.to_string(),
+        min: a.min(b),
+        max: a.max(b),
+    }
+}
+
+fn guide(points: Vec<[f64; 2]>) -> Curve {
+    Curve {
+        role: CurveRole::Guide,
+        points,
+        closed: false,
+        colour: GUIDE_COLOUR,
+        width: GUIDE_WIDTH,
+        dashed: true,
+        arrows: Vec::new(),
+    }
+}
+
+fn line_entry(label: String, colour: Rgb, width: f64, dashed: bool) -> LegendEntry {
+    LegendEntry {
+        label,
+        swatch: Swatch::Line {
+            colour,
+            width,
+            dashed,
+        },
+    }
+}
+
+impl Scene {
+    /// The bifurcation diagram of a sweep: q of the equilibria against the
+    /// swept parameter, center branches solid, saddle branches dashed, each
+    /// bifurcation point marked and labelled with its kind and parameter value
+    /// (`saddle-node mu = 0.25650`), and a vertical guide at `current` (the
+    /// parameter's present value) when it lies in the range.
+    pub fn diagram(sys: &System, sweep: &Sweep, current: Option<f64>) -> Scene {
+        let name = sweep.param.as_str();
+        let x = range_axis(name, sweep.from, sweep.to);
+        let qs = sweep
+            .branches
+            .iter()
+            .flat_map(|b| b.points.iter().map(|pt| pt.q))
+            .chain(sweep.bifurcations.iter().map(|b| b.q));
+        let y = fitted_axis("q", qs, (-1.0, 1.0));
+        let mut curves = Vec::with_capacity(sweep.branches.len() + 1);
+        for b in &sweep.branches {
+            let (colour, dashed) = branch_style(b.kind);
+            curves.push(Curve {
+                role: CurveRole::Branch { kind: b.kind },
+                points: b.points.iter().map(|pt| [pt.param, pt.q]).collect(),
+                closed: false,
+                colour,
+                width: BRANCH_WIDTH,
+                dashed,
+                arrows: Vec::new(),
+            });
+        }
+        let marks: Vec<Mark> = sweep
+            .bifurcations
+            .iter()
+            .map(|b| Mark {
+                at: [b.param, b.q],
+                role: MarkRole::Bifurcation,
+                style: BIFURCATION_MARKER,
+                label: Some(format!(
+                    "{} {name} = {}",
+                    b.kind.name(),
+                    label_number(b.param)
+                )),
+            })
+            .collect();
+        let mut legend = Vec::new();
+        for kind in [
+            EquilibriumKind::Center,
+            EquilibriumKind::Saddle,
+            EquilibriumKind::Degenerate,
+        ] {
+            if sweep.branches.iter().any(|b| b.kind == kind) {
+                let (colour, dashed) = branch_style(kind);
+                legend.push(line_entry(
+                    format!("{} branch", kind_name(kind)),
+                    colour,
+                    BRANCH_WIDTH,
+                    dashed,
+                ));
+            }
+        }
+        if !marks.is_empty() {
+            legend.push(LegendEntry {
+                label: "bifurcation".to_string(),
+                swatch: Swatch::Marker(BIFURCATION_MARKER),
+            });
+        }
+        if let Some(v) = current.filter(|v| *v >= x.min && *v <= x.max) {
+            curves.push(guide(vec![[v, y.min], [v, y.max]]));
+            legend.push(line_entry(
+                format!("{name} = {}", short_number(v)),
+                GUIDE_COLOUR,
+                GUIDE_WIDTH,
+                true,
+            ));
+        }
+        let tail = format!(
+            "{name} from {} to {}",
+            short_number(sweep.from),
+            short_number(sweep.to)
+        );
+        Scene {
+            title: format!("Equilibria as {name} moves"),
+            caption: caption_without(sys, &[name], &tail),
+            x,
+            y,
+            curves,
+            marks,
+            colour_scale: None,
+            legend,
+        }
+    }
+
+    /// The backbone of one well: period against energy (with the escape
+    /// energy as a vertical guide) or frequency against amplitude.
+    pub fn backbone(sys: &System, backbone: &Backbone, plot: BackbonePlot) -> Scene {
+        let rows = &backbone.rows;
+        let finite = |a: f64, b: f64| a.is_finite() && b.is_finite();
+        let (points, x, y, title): (Vec<[f64; 2]>, Axis, Axis, &str) = match plot {
+            BackbonePlot::PeriodEnergy => {
+                let points: Vec<[f64; 2]> = rows
+                    .iter()
+                    .filter(|r| finite(r.energy, r.period))
+                    .map(|r| [r.energy, r.period])
+                    .collect();
+                let energies = points
+                    .iter()
+                    .map(|p| p[0])
+                    .chain([backbone.center_energy])
+                    .chain(backbone.escape_energy);
+                let x = fitted_axis("energy E", energies, (0.0, 1.0));
+                let y = fitted_axis("period T", points.iter().map(|p| p[1]), (0.0, 1.0));
+                (points, x, y, "Period against energy")
+            }
+            BackbonePlot::FrequencyAmplitude => {
+                let points: Vec<[f64; 2]> = rows
+                    .iter()
+                    .filter(|r| finite(r.amplitude, r.frequency))
+                    .map(|r| [r.amplitude, r.frequency])
+                    .collect();
+                let x = fitted_axis("amplitude", points.iter().map(|p| p[0]), (0.0, 1.0));
+                let y = fitted_axis("frequency \u{3c9}", points.iter().map(|p| p[1]), (0.0, 1.0));
+                (points, x, y, "Frequency against amplitude")
+            }
+        };
+        let mut curves = Vec::new();
+        let mut legend = vec![line_entry(
+            "backbone".to_string(),
+            BACKBONE_COLOUR,
+            BACKBONE_WIDTH,
+            false,
+        )];
+        curves.push(Curve {
+            role: CurveRole::Backbone,
+            points,
+            closed: false,
+            colour: BACKBONE_COLOUR,
+            width: BACKBONE_WIDTH,
+            dashed: false,
+            arrows: Vec::new(),
+        });
+        if plot == BackbonePlot::PeriodEnergy
+            && let Some(e) = backbone.escape_energy.filter(|e| e.is_finite())
+        {
+            curves.push(guide(vec![[e, y.min], [e, y.max]]));
+            legend.push(line_entry(
+                "escape energy".to_string(),
+                GUIDE_COLOUR,
+                GUIDE_WIDTH,
+                true,
+            ));
+        }
+        let tail = format!(
+            "well of the center at q = {}, p = {}",
+            short_number(backbone.center[0]),
+            short_number(backbone.center[1])
+        );
+        Scene {
+            title: title.to_string(),
+            caption: caption_without(sys, &[], &tail),
+            x,
+            y,
+            curves,
+            marks: Vec::new(),
+            colour_scale: None,
+            legend,
+        }
+    }
+
+    /// The saddle-node curves in the plane of two parameters over their box,
+    /// cusps marked and labelled, and cross-hair guides at `current` (the two
+    /// parameters' present values) when it lies in the box.
+    pub fn folds(sys: &System, folds: &FoldCurves, current: Option<[f64; 2]>) -> Scene {
+        let [n1, n2] = [folds.params[0].as_str(), folds.params[1].as_str()];
+        let [a1, b1, a2, b2] = folds.bounds;
+        let x = range_axis(n1, a1, b1);
+        let y = range_axis(n2, a2, b2);
+        let mut curves: Vec<Curve> = folds
+            .curves
+            .iter()
+            .map(|c| Curve {
+                role: CurveRole::Fold,
+                points: c.points.iter().map(|pt| pt.params).collect(),
+                closed: c.closed,
+                colour: FOLD_COLOUR,
+                width: FOLD_WIDTH,
+                dashed: false,
+                arrows: Vec::new(),
+            })
+            .collect();
+        let marks: Vec<Mark> = folds
+            .cusps
+            .iter()
+            .map(|c| Mark {
+                at: c.params,
+                role: MarkRole::Cusp,
+                style: BIFURCATION_MARKER,
+                label: Some(format!(
+                    "cusp {n1} = {}, {n2} = {}",
+                    label_number(c.params[0]),
+                    label_number(c.params[1])
+                )),
+            })
+            .collect();
+        let mut legend = Vec::new();
+        if !curves.is_empty() {
+            legend.push(line_entry(
+                "saddle-node".to_string(),
+                FOLD_COLOUR,
+                FOLD_WIDTH,
+                false,
+            ));
+        }
+        if !marks.is_empty() {
+            legend.push(LegendEntry {
+                label: "cusp".to_string(),
+                swatch: Swatch::Marker(BIFURCATION_MARKER),
+            });
+        }
+        if let Some([u, v]) = current
+            && u >= x.min
+            && u <= x.max
+            && v >= y.min
+            && v <= y.max
+        {
+            curves.push(guide(vec![[u, y.min], [u, y.max]]));
+            curves.push(guide(vec![[x.min, v], [x.max, v]]));
+            legend.push(line_entry(
+                format!("{n1} = {}, {n2} = {}", short_number(u), short_number(v)),
+                GUIDE_COLOUR,
+                GUIDE_WIDTH,
+                true,
+            ));
+        }
+        Scene {
+            title: format!("Saddle-node curves in ({n1}, {n2})"),
+            caption: caption_without(sys, &[n1, n2], ""),
+            x,
+            y,
+            curves,
+            marks,
+            colour_scale: None,
+            legend,
+        }
+    }
 }

@@ -4,6 +4,8 @@
 //! `save_atomic` replaces a file so that a failed save never destroys the old one.
 
 use crate::core::analysis::AnalysisConfig;
+use crate::core::backbone::BackboneConfig;
+use crate::core::continuation::SweepConfig;
 use crate::core::formula::Formula;
 use crate::core::integrate::Method;
 use crate::core::system::System;
@@ -30,6 +32,12 @@ pub const MAX_LEVELS: usize = 200;
 pub const MAX_ORBITS: usize = 64;
 /// Largest |duration| of one seeded orbit.
 pub const MAX_DURATION: f64 = 1e6;
+/// Smallest and largest longest-step share a sweep may ask for.
+pub const MIN_SWEEP_STEP: f64 = 1e-4;
+pub const MAX_SWEEP_STEP: f64 = 0.1;
+/// Fewest and most energies a backbone may sample.
+pub const MIN_BACKBONE_ENERGIES: usize = 2;
+pub const MAX_BACKBONE_ENERGIES: usize = 2000;
 /// Longest session file accepted, in bytes.
 pub const MAX_FILE_BYTES: usize = 16 * 1024 * 1024;
 
@@ -70,6 +78,53 @@ pub struct Session {
     pub levels: LevelSettings,
     #[serde(default)]
     pub orbits: Vec<SeededOrbit>,
+    /// The one-parameter sweep behind the bifurcation diagram, if set.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sweep: Option<SweepSettings>,
+    /// The two-parameter box of the saddle-node curves, if set.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub folds: Option<FoldSettings>,
+    /// The well whose backbone is drawn, if set.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub backbone: Option<BackboneSettings>,
+}
+
+/// The sweep of one parameter: which, over what range, how finely.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SweepSettings {
+    /// The parameter that moves (a parameter of the formula).
+    pub param: String,
+    /// Where the parameter starts.
+    pub from: f64,
+    /// Where the parameter ends (different from `from`; may be below it).
+    pub to: f64,
+    /// Longest continuation step as a share of the range and window (default
+    /// 0.02, kept within [`MIN_SWEEP_STEP`, `MAX_SWEEP_STEP`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub max_step: Option<f64>,
+}
+
+/// The plane of two parameters in which saddle-node curves are traced.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct FoldSettings {
+    /// The two parameters, horizontal axis first.
+    pub params: [String; 2],
+    /// The box [a1, b1] × [a2, b2] as [a1, b1, a2, b2].
+    #[serde(rename = "box")]
+    pub bounds: [f64; 4],
+}
+
+/// The well whose period, frequency and action against energy are drawn.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, Default)]
+pub struct BackboneSettings {
+    /// A point [q, p] near the center (Newton refines it); without it, the
+    /// first center in view.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub center: Option<[f64; 2]>,
+    /// Energies sampled, the center's included (default 200, kept within
+    /// [`MIN_BACKBONE_ENERGIES`, `MAX_BACKBONE_ENERGIES`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub energies: Option<usize>,
 }
 
 /// One parameter of the formula with its slider range.
@@ -186,6 +241,8 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
             ),
         ));
     }
+    // a byte-order mark, as some editors write, is not part of the JSON
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let raw = check_header(text)?;
     let mut de = serde_json::Deserializer::from_str(text);
     let mut session: Session = match serde_path_to_error::deserialize(&mut de) {
@@ -218,6 +275,20 @@ fn field_template() -> serde_json::Value {
         duration: 1.0,
         method: default_method(),
         colour: Some(String::new()),
+    });
+    s.sweep = Some(SweepSettings {
+        param: String::new(),
+        from: 0.0,
+        to: 1.0,
+        max_step: Some(0.02),
+    });
+    s.folds = Some(FoldSettings {
+        params: [String::new(), String::new()],
+        bounds: [0.0, 1.0, 0.0, 1.0],
+    });
+    s.backbone = Some(BackboneSettings {
+        center: Some([0.0, 0.0]),
+        energies: Some(200),
     });
     serde_json::to_value(&s).unwrap_or(serde_json::Value::Null)
 }
@@ -367,6 +438,10 @@ fn friendly(msg: &str) -> String {
         .replace("expected u32", "expected a whole number ≥ 0")
         .replace("expected a boolean", "expected true or false")
         .replace("expected a string", "expected a text in quotes")
+        .replace(
+            "number out of range",
+            "number out of range: beyond ±1.8e308, the largest a file may hold",
+        )
 }
 
 fn parse_error(e: serde_path_to_error::Error<serde_json::Error>) -> SessionError {
@@ -387,6 +462,15 @@ fn parse_error(e: serde_path_to_error::Error<serde_json::Error>) -> SessionError
             format!("{field}.{name}")
         };
         problem = format!("missing{tail}");
+    } else if let Some(rest) = problem.strip_prefix("duplicate field `")
+        && let Some((name, tail)) = rest.split_once('`')
+    {
+        field = if field.is_empty() {
+            name.to_string()
+        } else {
+            format!("{field}.{name}")
+        };
+        problem = format!("given twice{tail}; keep one");
     }
     SessionError::new(field, problem)
 }
@@ -418,6 +502,14 @@ fn check_less(
     }
 }
 
+fn names_or_none(names: &[String]) -> String {
+    if names.is_empty() {
+        "none".to_string()
+    } else {
+        names.join(", ")
+    }
+}
+
 /// Whether `s` is a colour written "#rrggbb".
 pub fn is_colour(s: &str) -> bool {
     let b = s.as_bytes();
@@ -446,6 +538,9 @@ impl Session {
             view: Window::default(),
             levels: LevelSettings::default(),
             orbits: Vec::new(),
+            sweep: None,
+            folds: None,
+            backbone: None,
         }
     }
 
@@ -503,6 +598,9 @@ impl Session {
         self.validate_view()?;
         self.validate_levels(&mut warnings);
         self.validate_orbits(formula.is_separable(), &mut warnings)?;
+        self.validate_sweep(&formula, &mut warnings)?;
+        self.validate_folds(&formula, &mut warnings)?;
+        self.validate_backbone(&mut warnings)?;
         Ok(warnings)
     }
 
@@ -637,7 +735,7 @@ impl Session {
                 let clamped = MAX_DURATION.copysign(o.duration);
                 warnings.push(format!(
                     "orbits[{i}].duration: {} is beyond the cap of ±{MAX_DURATION:e}; using {clamped:e}",
-                    o.duration
+                    crate::core::analysis::short_number(o.duration)
                 ));
                 o.duration = clamped;
             }
@@ -668,6 +766,130 @@ impl Session {
             self.orbits.truncate(MAX_ORBITS);
         }
         Ok(())
+    }
+
+    fn validate_sweep(
+        &mut self,
+        formula: &Formula,
+        warnings: &mut Vec<String>,
+    ) -> Result<(), SessionError> {
+        let Some(sw) = &mut self.sweep else {
+            return Ok(());
+        };
+        if sw.param.trim().is_empty() {
+            return Err(SessionError::new(
+                "sweep.param",
+                "is empty; name the parameter that moves",
+            ));
+        }
+        check_finite(|| "sweep.from".into(), sw.from)?;
+        check_finite(|| "sweep.to".into(), sw.to)?;
+        if sw.from == sw.to {
+            return Err(SessionError::new(
+                "sweep.to",
+                format!("must differ from `from` (both are {})", sw.from),
+            ));
+        }
+        if let Some(step) = sw.max_step {
+            check_finite(|| "sweep.max_step".into(), step)?;
+            if step <= 0.0 {
+                return Err(SessionError::new(
+                    "sweep.max_step",
+                    format!("must be greater than 0 (found {step})"),
+                ));
+            }
+            let kept = step.clamp(MIN_SWEEP_STEP, MAX_SWEEP_STEP);
+            if kept != step {
+                warnings.push(format!(
+                    "sweep.max_step: {step} is outside [{MIN_SWEEP_STEP}, {MAX_SWEEP_STEP}]; using {kept}"
+                ));
+                sw.max_step = Some(kept);
+            }
+        }
+        if formula.param_index(&sw.param).is_none() {
+            warnings.push(format!(
+                "sweep.param: the formula has no parameter `{}`; the diagram needs one of: {}",
+                sw.param,
+                names_or_none(formula.params())
+            ));
+        }
+        Ok(())
+    }
+
+    fn validate_folds(
+        &mut self,
+        formula: &Formula,
+        warnings: &mut Vec<String>,
+    ) -> Result<(), SessionError> {
+        let Some(f) = &self.folds else {
+            return Ok(());
+        };
+        for (i, name) in f.params.iter().enumerate() {
+            if name.trim().is_empty() {
+                return Err(SessionError::new(format!("folds.params[{i}]"), "is empty"));
+            }
+        }
+        if f.params[0] == f.params[1] {
+            return Err(SessionError::new(
+                "folds.params[1]",
+                format!("must differ from params[0] (both are `{}`)", f.params[0]),
+            ));
+        }
+        for (i, v) in f.bounds.iter().enumerate() {
+            check_finite(|| format!("folds.box[{i}]"), *v)?;
+        }
+        let [a1, b1, a2, b2] = f.bounds;
+        check_less(|| "folds.box[0]".into(), a1, b1, "box[1]")?;
+        check_less(|| "folds.box[2]".into(), a2, b2, "box[3]")?;
+        for (i, name) in f.params.iter().enumerate() {
+            if formula.param_index(name).is_none() {
+                warnings.push(format!(
+                    "folds.params[{i}]: the formula has no parameter `{name}`; the fold \
+                     curves need two of: {}",
+                    names_or_none(formula.params())
+                ));
+            }
+        }
+        Ok(())
+    }
+
+    fn validate_backbone(&mut self, warnings: &mut Vec<String>) -> Result<(), SessionError> {
+        let Some(b) = &mut self.backbone else {
+            return Ok(());
+        };
+        if let Some([q, p]) = b.center {
+            check_finite(|| "backbone.center[0]".into(), q)?;
+            check_finite(|| "backbone.center[1]".into(), p)?;
+        }
+        if let Some(n) = b.energies {
+            let kept = n.clamp(MIN_BACKBONE_ENERGIES, MAX_BACKBONE_ENERGIES);
+            if kept != n {
+                warnings.push(format!(
+                    "backbone.energies: {n} is outside {MIN_BACKBONE_ENERGIES}..={MAX_BACKBONE_ENERGIES}; using {kept}"
+                ));
+                b.energies = Some(kept);
+            }
+        }
+        Ok(())
+    }
+
+    /// Sweep settings for the core: the defaults with this session's longest step.
+    pub fn sweep_config(&self) -> SweepConfig {
+        let mut cfg = SweepConfig::default();
+        if let Some(step) = self.sweep.as_ref().and_then(|s| s.max_step) {
+            cfg.step.max = step;
+            cfg.step.initial = cfg.step.initial.min(step);
+        }
+        cfg
+    }
+
+    /// Backbone settings for the core: the defaults with this session's number of energies.
+    pub fn backbone_config(&self) -> BackboneConfig {
+        let mut cfg = BackboneConfig::default();
+        if let Some(n) = self.backbone.as_ref().and_then(|b| b.energies) {
+            cfg.energies = n;
+        }
+        cfg
     }
 
     /// The value of parameter `name`, if listed.
@@ -735,6 +957,16 @@ pub fn write_atomic(
             "the path does not name a file",
         ))
     })?;
+    // Renaming over a device, a pipe or a folder would replace it (as root,
+    // even /dev/null); a session goes only onto a regular file or a new name.
+    if let Ok(meta) = std::fs::metadata(path)
+        && !meta.is_file()
+    {
+        return Err(err(io::Error::new(
+            io::ErrorKind::InvalidInput,
+            "the path names a folder, device or pipe, not a file; choose a file name",
+        )));
+    }
     let dir = match path.parent() {
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),

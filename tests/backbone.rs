@@ -22,23 +22,15 @@ fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
 
-#[test]
-fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
-    // H = p²/2 − cos q: T(E) = 4K(m) with m = k² = (1 + E)/2, and
-    // I(E) = (8/π)[E(m) − (1 − m)K(m)] (pendulum libration; from memory), with
-    // K, E from the ellip crate. The well is bounded by the saddles at q = ±π
-    // at energy 1.
-    let b = run(
-        "p^2/2 - cos(q)",
-        [0.1, 0.05],
-        Window::new(-4.0, 4.0, -3.0, 3.0).expect("window"),
-    );
-    assert_eq!(b.method, BackboneMethod::Quadrature);
-    assert_eq!(b.rows.len(), 200);
-    assert!(b.center[0].abs() < 1e-14 && b.center[1].abs() < 1e-14);
-    assert!((b.escape_energy.expect("escape") - 1.0).abs() < 1e-14);
+/// Every row but the center's against the pendulum's closed forms at the
+/// pendulum energy E_p = sign·E (sign −1 for H = −(p²/2 − cos q), whose
+/// level curves are the pendulum's): T = 4K(m) with m = k² = (1 + E_p)/2,
+/// I = (8/π)[E(m) − (1 − m)K(m)] (pendulum libration; from memory), with K, E
+/// from the ellip crate, and turning points where −cos q = E_p (closed form).
+fn assert_pendulum_rows(b: &Backbone, sign: f64) {
     for r in &b.rows[1..] {
-        let m = (1.0 + r.energy) / 2.0;
+        let ep = sign * r.energy;
+        let m = (1.0 + ep) / 2.0;
         let k = ellip::ellipk(m).expect("K");
         let e = ellip::ellipe(m).expect("E");
         assert!(
@@ -57,9 +49,25 @@ fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
             r.action,
             action
         );
-        // Turning points where −cos q = E (closed form).
-        assert!(rel(r.amplitude, (-r.energy).acos()) < 1e-10);
+        assert!(rel(r.amplitude, (-ep).acos()) < 1e-10);
     }
+}
+
+#[test]
+fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
+    // H = p²/2 − cos q against the pendulum's closed forms (see
+    // `assert_pendulum_rows`). The well is bounded by the saddles at q = ±π
+    // at energy 1.
+    let b = run(
+        "p^2/2 - cos(q)",
+        [0.1, 0.05],
+        Window::new(-4.0, 4.0, -3.0, 3.0).expect("window"),
+    );
+    assert_eq!(b.method, BackboneMethod::Quadrature);
+    assert_eq!(b.rows.len(), 200);
+    assert!(b.center[0].abs() < 1e-14 && b.center[1].abs() < 1e-14);
+    assert!((b.escape_energy.expect("escape") - 1.0).abs() < 1e-14);
+    assert_pendulum_rows(&b, 1.0);
     // The center row is the small-oscillation limit: T = 2π (ω = 1).
     assert!(rel(b.rows[0].period, 2.0 * PI) < 1e-14);
     // Energies are increasing and crowd towards the escape energy.
@@ -73,11 +81,34 @@ fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
 }
 
 #[test]
+fn upside_down_pendulum_well_is_a_maximum_with_the_same_periods() {
+    // H = cos q − p²/2 = −(p²/2 − cos q): the flow of −H is the pendulum's run
+    // backwards, so the level E is the pendulum's level −E with its period,
+    // action and turning points (closed forms in `assert_pendulum_rows`). The
+    // center q = 0 is a maximum of H at E = 1; the well is bounded below by
+    // the saddles q = ±π at E = −1.
+    let b = run(
+        "cos(q) - p^2/2",
+        [0.05, 0.0],
+        Window::new(-4.0, 4.0, -3.0, 3.0).expect("window"),
+    );
+    assert_eq!(b.method, BackboneMethod::Quadrature);
+    assert!((b.center_energy - 1.0).abs() < 1e-14);
+    assert!((b.escape_energy.expect("escape") + 1.0).abs() < 1e-14);
+    assert!(b.rows.windows(2).all(|w| w[1].energy < w[0].energy));
+    assert_pendulum_rows(&b, -1.0);
+}
+
+#[test]
 fn pendulum_period_grows_like_two_passes_of_the_saddle() {
-    // Near the separatrix each passage close to a saddle with eigenvalue λ takes
-    // about −(1/λ) ln(E_escape − E) (linearised hyperbolic flow; from memory).
-    // A pendulum libration passes near both saddles ±π (λ = 1), so
-    // dT/d ln(1 − E) → −2, as 4K(m) ≈ 2 ln(16/(1 − m)) also says (from memory).
+    // Near the separatrix the orbit turns back close to a saddle with
+    // eigenvalue λ: in the linearised flow x'' = λ²x it follows x = a cosh λt
+    // with a² = 2(E_s − E)/λ², so the time spent within |x| < L is
+    // (2/λ) acosh(L/a) ≈ −(1/λ) ln(E_s − E) + const (closed form). A pendulum
+    // libration turns back at both saddles q = ±π (λ = 1), so T(E) ≈
+    // −(2/λ) ln(1 − E) and dT/d ln(1 − E) → −2, as T = 4K(m) with
+    // K(m) ≈ ½ ln(16/(1 − m)) as m → 1 also says (Abramowitz & Stegun 17.3.26;
+    // from memory).
     let b = run(
         "p^2/2 - cos(q)",
         [0.0, 0.0],
@@ -92,8 +123,11 @@ fn pendulum_period_grows_like_two_passes_of_the_saddle() {
 #[test]
 fn cubic_well_period_grows_like_one_pass_of_its_saddle() {
     // H = p²/2 + q²/2 − q³/3: saddle at q = 1 with V'' = −1 (λ = 1), escape
-    // energy 1/6; the orbit passes the one saddle once per period, so
-    // dT/d ln(E_escape − E) → −1/λ = −1 (linearised hyperbolic flow; from memory).
+    // energy 1/6. The orbit turns back near that one saddle once per period
+    // (its other turning point, near q = −1/2, is on the wall), and each such
+    // turn takes (2/λ) acosh(L/a) ≈ −(1/λ) ln(E_s − E) + const in the
+    // linearised flow x = a cosh λt, a² = 2(E_s − E)/λ² (closed form), so
+    // dT/d ln(E_s − E) → −1/λ = −1.
     let b = run(
         "p^2/2 + q^2/2 - q^3/3",
         [0.0, 0.0],

@@ -148,6 +148,91 @@ fn imperfect_pitchfork_has_one_saddle_node_at_the_closed_form_value() {
     assert_eq!(s.branches.len(), 3);
 }
 
+/// Checks a sweep of an isola q² + μ² = a² (p = 0): two saddle-nodes at
+/// μ = ±a, q = 0, and its two halves with V'' of sign `upper_kind` for q > 0.
+fn assert_isola(s: &Sweep, a: f64, upper: EquilibriumKind, lower: EquilibriumKind) {
+    let folds: Vec<_> = s
+        .bifurcations
+        .iter()
+        .filter(|b| b.kind == BifurcationKind::SaddleNode)
+        .collect();
+    assert_eq!(folds.len(), 2, "{:?}", s.bifurcations);
+    assert_eq!(s.bifurcations.len(), 2, "{:?}", s.bifurcations);
+    for (b, mu) in folds.iter().zip([-a, a]) {
+        assert!((b.param - mu).abs() < 1e-8, "fold at mu = {:.15}", b.param);
+        assert!(b.q.abs() < 1e-8 && b.p.abs() < 1e-10, "{b:?}");
+    }
+    let on_isola: Vec<_> = s
+        .branches
+        .iter()
+        .filter(|br| br.points.iter().all(|pt| pt.param.abs() <= a + 1e-9))
+        .collect();
+    assert_eq!(on_isola.len(), 2, "the two halves of the isola");
+    let mut kinds = Vec::new();
+    for br in &on_isola {
+        for pt in &br.points {
+            assert!(
+                (pt.q * pt.q + pt.param * pt.param - a * a).abs() < 1e-9 && pt.p.abs() < 1e-10,
+                "off q² + μ² = a²: {pt:?}"
+            );
+        }
+        // Each half runs from one fold to the other.
+        let ends = [&br.points[0], &br.points[br.points.len() - 1]];
+        assert!(
+            ends.iter().all(|e| (e.param.abs() - a).abs() < 1e-8),
+            "{ends:?}"
+        );
+        assert!((ends[0].param - ends[1].param).abs() > a);
+        let mid = &br.points[br.points.len() / 2];
+        kinds.push((mid.q > 0.0, br.kind));
+    }
+    kinds.sort_by_key(|k| k.0);
+    assert_eq!(kinds, vec![(false, lower), (true, upper)]);
+}
+
+#[test]
+fn isola_inside_the_range_is_found_with_both_saddle_nodes() {
+    // H = p²/2 + q³/3 + (μ² − a²)q, a = 0.6: V' = q² + μ² − a², so equilibria
+    // exist only for |μ| < a, on the circle q² + μ² = a² (p = 0), born at the
+    // saddle-node μ = −a and dying at μ = +a (q = 0); V'' = 2q, so q > 0 is a
+    // center and q < 0 a saddle (closed form). Neither end of μ ∈ [−1, 1] has
+    // an equilibrium.
+    let s = run(
+        "p^2/2 + q^3/3 + (mu^2 - 0.36)*q",
+        &[("mu", 0.0)],
+        -1.0,
+        1.0,
+        window(),
+    );
+    assert_eq!(s.branches.len(), 2, "{:?}", s.diagnostics);
+    assert_isola(&s, 0.6, EquilibriumKind::Center, EquilibriumKind::Saddle);
+}
+
+#[test]
+fn isola_beside_a_branch_across_the_range_is_traced_once() {
+    // V' = (q − 3/2)(q² + μ² − a²), a = 0.6: the branch q = 3/2 for every μ
+    // (V'' = q² + μ² − a² > 0 there: a center), and the isola q² + μ² = a²
+    // with V'' = 2q(q − 3/2): q > 0 a saddle, q < 0 a center (closed form).
+    // V = q⁴/4 − q³/2 + (μ² − a²)(q²/2 − 3q/2).
+    let s = run(
+        "p^2/2 + q^4/4 - 0.5*q^3 + (mu^2 - 0.36)*(q^2/2 - 1.5*q)",
+        &[("mu", 0.0)],
+        -1.0,
+        1.0,
+        window(),
+    );
+    assert_eq!(s.branches.len(), 3, "{:?}", s.diagnostics);
+    assert_isola(&s, 0.6, EquilibriumKind::Saddle, EquilibriumKind::Center);
+    let across: Vec<_> = s
+        .branches
+        .iter()
+        .filter(|br| br.points.iter().any(|pt| pt.param.abs() > 0.9))
+        .collect();
+    assert_eq!(across.len(), 1);
+    assert_eq!(across[0].kind, EquilibriumKind::Center);
+    assert!(across[0].points.iter().all(|pt| (pt.q - 1.5).abs() < 1e-9));
+}
+
 #[test]
 fn transcritical_normal_form_exchanges_stability() {
     // H = p²/2 + q³/3 − μq²/2: V' = q² − μq, branches q = 0 and q = μ cross at

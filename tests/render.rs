@@ -175,22 +175,11 @@ fn png_has_requested_size_and_marker_colours_at_equilibria() {
     let pixmap = rasterize(&svg, 1.0).unwrap();
     assert_eq!((pixmap.width(), pixmap.height()), (1200, 900));
     // Not blank: many pixels differ from white.
-    let dark = pixmap
-        .pixels()
-        .iter()
-        .filter(|p| p.red() < 200 || p.green() < 200 || p.blue() < 200)
-        .count();
+    let dark = drawn_pixels(&pixmap);
     assert!(dark > 10_000, "only {dark} drawn pixels");
     // The mark's centre in pixels: read it back from the SVG the PNG was made from.
     let doc = roxmltree::Document::parse(&svg).unwrap();
-    let view: Vec<f64> = doc
-        .root_element()
-        .attribute("viewBox")
-        .unwrap()
-        .split(' ')
-        .map(|v| v.parse().unwrap())
-        .collect();
-    let scale = 1200.0 / view[2];
+    let scale = pixel_scale(&doc, 1200);
     for m in doc
         .descendants()
         .filter(|n| n.has_tag_name("g") && has_class(n, "equilibrium"))
@@ -200,21 +189,62 @@ fn png_has_requested_size_and_marker_colours_at_equilibria() {
             Some("saddle") => EquilibriumKind::Saddle,
             _ => EquilibriumKind::Degenerate,
         };
-        let (cx, cy) = marker_centre(&m);
-        let (px, py) = ((cx * scale).floor() as u32, (cy * scale).floor() as u32);
-        let p = pixmap.pixel(px, py).unwrap();
-        let want = marker_for(kind).colour;
-        let close = |a: u8, b: u8| (i32::from(a) - i32::from(b)).abs() <= 24;
-        assert!(
-            close(p.red(), want.0) && close(p.green(), want.1) && close(p.blue(), want.2),
-            "{kind:?} at ({px},{py}) is {:?}, want {want:?}",
-            (p.red(), p.green(), p.blue())
+        assert_mark_colour(
+            &pixmap,
+            scale,
+            &m,
+            marker_for(kind).colour,
+            &format!("{kind:?}"),
         );
     }
 }
 
-/// The centre of a mark group: its first circle's centre, or the midpoint of its first path.
+/// Pixels of `pixmap` drawn in something other than near-white.
+fn drawn_pixels(pixmap: &resvg::tiny_skia::Pixmap) -> usize {
+    pixmap
+        .pixels()
+        .iter()
+        .filter(|p| p.red() < 200 || p.green() < 200 || p.blue() < 200)
+        .count()
+}
+
+/// Output pixels per SVG unit: the PNG's width over the viewBox's.
+fn pixel_scale(doc: &roxmltree::Document, width: u32) -> f64 {
+    let view: Vec<f64> = doc
+        .root_element()
+        .attribute("viewBox")
+        .unwrap()
+        .split(' ')
+        .map(|v| v.parse().unwrap())
+        .collect();
+    f64::from(width) / view[2]
+}
+
+/// Assert that the pixel at the centre of mark group `g` has colour `want` (within 24 per channel).
+fn assert_mark_colour(
+    pixmap: &resvg::tiny_skia::Pixmap,
+    scale: f64,
+    g: &roxmltree::Node,
+    want: scene::Rgb,
+    what: &str,
+) {
+    let (cx, cy) = marker_centre(g);
+    let (px, py) = ((cx * scale).floor() as u32, (cy * scale).floor() as u32);
+    let p = pixmap.pixel(px, py).unwrap();
+    let close = |a: u8, b: u8| (i32::from(a) - i32::from(b)).abs() <= 24;
+    assert!(
+        close(p.red(), want.0) && close(p.green(), want.1) && close(p.blue(), want.2),
+        "{what} at ({px},{py}) is {:?}, want {want:?}",
+        (p.red(), p.green(), p.blue())
+    );
+}
+
+/// The centre of a mark group: its square's or first circle's centre, or the midpoint of its first path.
 fn marker_centre(g: &roxmltree::Node) -> (f64, f64) {
+    if let Some(r) = g.children().find(|n| n.has_tag_name("rect")) {
+        let v = |a| r.attribute(a).unwrap().parse::<f64>().unwrap();
+        return (v("x") + v("width") / 2.0, v("y") + v("height") / 2.0);
+    }
     if let Some(c) = g.children().find(|n| n.has_tag_name("circle")) {
         let v = |a| c.attribute(a).unwrap().parse::<f64>().unwrap();
         return (v("cx"), v("cy"));
@@ -490,4 +520,485 @@ fn render_command_csv_holds_the_analysis_values_bit_for_bit() {
             w.energy.to_bits()
         );
     }
+}
+
+/// The imperfect pitchfork H = p²/2 + q⁴/4 − μq²/2 − εq at ε = 0.05 and the
+/// given μ, with a window holding all its equilibria for |μ| ≤ 1.
+fn imperfect_pitchfork(mu: f64) -> (System, Window) {
+    let sys = System::from_source(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", mu), ("eps", 0.05)],
+    )
+    .unwrap();
+    (sys, Window::new(-2.0, 2.0, -1.0, 1.0).unwrap())
+}
+
+/// The imperfect pitchfork H = p²/2 + q⁴/4 − μq²/2 − εq with ε = 0.05 swept
+/// over μ in [−1, 1]: one saddle-node at μ = (27ε²/4)^(1/3) = 0.25649639200150,
+/// q = −√(μ/3) (cusp catastrophe; closed form).
+fn imperfect_pitchfork_sweep() -> (System, phasewright::core::continuation::Sweep) {
+    use phasewright::core::continuation::{SweepConfig, sweep};
+    let (sys, window) = imperfect_pitchfork(0.1);
+    let s = sweep(
+        &sys,
+        "mu",
+        -1.0,
+        1.0,
+        &window,
+        &SweepConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .unwrap();
+    (sys, s)
+}
+
+#[test]
+fn diagram_scene_draws_each_branch_once_and_labels_the_saddle_node() {
+    use phasewright::scene::{BIFURCATION_MARKER, CurveRole, MarkRole};
+    let (sys, s) = imperfect_pitchfork_sweep();
+    let scene = Scene::diagram(&sys, &s, Some(0.1));
+    let branches: Vec<_> = scene.curves_with("branch").collect();
+    assert_eq!(branches.len(), s.branches.len());
+    assert_eq!(branches.len(), 3);
+    for (c, b) in branches.iter().zip(&s.branches) {
+        assert_eq!(c.role, CurveRole::Branch { kind: b.kind });
+        // Saddle branches dashed, center branches solid.
+        assert_eq!(c.dashed, b.kind == EquilibriumKind::Saddle, "{:?}", b.kind);
+        assert_eq!(c.points.len(), b.points.len());
+        assert_eq!(c.points[0], [b.points[0].param, b.points[0].q]);
+    }
+    assert_eq!(scene.marks.len(), 1);
+    let m = &scene.marks[0];
+    assert_eq!(m.role, MarkRole::Bifurcation);
+    assert_eq!(m.style, BIFURCATION_MARKER);
+    // μ* = 0.25649639… rounds to 0.25650 (closed form above).
+    assert_eq!(m.label.as_deref(), Some("saddle-node mu = 0.25650"));
+    assert!((m.at[1] + 0.29240177382129).abs() < 1e-8);
+    let guides: Vec<_> = scene.curves_with("guide").collect();
+    assert_eq!(guides.len(), 1);
+    assert_eq!(guides[0].points[0][0], 0.1);
+    assert_eq!((scene.x.min, scene.x.max), (-1.0, 1.0));
+    assert_eq!(scene.x.label, "mu");
+    assert!(scene.caption.contains("eps = 0.05") && !scene.caption.contains("mu = 0.1"));
+    assert!(
+        scene.caption.ends_with("mu from -1 to 1"),
+        "{}",
+        scene.caption
+    );
+    // A current value outside the range draws no guide.
+    let outside = Scene::diagram(&sys, &s, Some(3.0));
+    assert_eq!(outside.curves_with("guide").count(), 0);
+}
+
+#[test]
+fn backbone_scene_plots_period_against_energy_up_to_the_escape_energy() {
+    use phasewright::core::backbone::{BackboneConfig, backbone};
+    use phasewright::scene::BackbonePlot;
+    // Pendulum H = p²/2 − cos q: the well at 0 escapes over the saddles at H = 1,
+    // and T → 2π as E → −1 (common practice: the textbook pendulum).
+    let sys = System::from_source("p^2/2 - cos(q)", &[]).unwrap();
+    let window = Window::new(-4.0, 4.0, -3.0, 3.0).unwrap();
+    let cfg = BackboneConfig {
+        energies: 40,
+        ..BackboneConfig::default()
+    };
+    let b = backbone(
+        &sys,
+        [0.1, 0.0],
+        &window,
+        &cfg,
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .unwrap();
+    let scene = Scene::backbone(&sys, &b, BackbonePlot::PeriodEnergy);
+    let curve = scene.curves_with("backbone").next().unwrap();
+    assert_eq!(curve.points.len(), b.rows.len());
+    for (pt, row) in curve.points.iter().zip(&b.rows) {
+        assert_eq!(*pt, [row.energy, row.period]);
+    }
+    assert!((curve.points[0][1] - 2.0 * PI).abs() < 1e-9);
+    let guide = scene.curves_with("guide").next().unwrap();
+    assert!((guide.points[0][0] - 1.0).abs() < 1e-12);
+    assert!(scene.x.min <= -1.0 && scene.x.max >= 1.0);
+    let fa = Scene::backbone(&sys, &b, BackbonePlot::FrequencyAmplitude);
+    let curve = fa.curves_with("backbone").next().unwrap();
+    assert_eq!(curve.points[3], [b.rows[3].amplitude, b.rows[3].frequency]);
+    assert_eq!(fa.curves_with("guide").count(), 0);
+    assert_eq!(fa.y.label, "frequency \u{3c9}");
+}
+
+#[test]
+fn folds_scene_draws_the_cusp_curve_and_marks_the_cusp() {
+    use phasewright::core::folds::{FoldConfig, fold_curves};
+    use phasewright::scene::MarkRole;
+    // 27ε² = 4μ³ with its cusp at μ = ε = 0 (cusp catastrophe; closed form).
+    let (sys, window) = imperfect_pitchfork(0.5);
+    let f = fold_curves(
+        &sys,
+        ["mu", "eps"],
+        [-0.5, 1.0, -0.2, 0.2],
+        &window,
+        &FoldConfig::default(),
+        &Cancel::never(),
+        &|_| {},
+    )
+    .unwrap();
+    let scene = Scene::folds(&sys, &f, Some([0.5, 0.05]));
+    let folds: Vec<_> = scene.curves_with("fold").collect();
+    assert_eq!(folds.len(), 1);
+    for [mu, eps] in &folds[0].points {
+        assert!((27.0 * eps * eps - 4.0 * mu * mu * mu).abs() < 1e-10);
+    }
+    assert_eq!(scene.marks.len(), 1);
+    assert_eq!(scene.marks[0].role, MarkRole::Cusp);
+    assert_eq!(
+        scene.marks[0].label.as_deref(),
+        Some("cusp mu = 0.00000, eps = 0.00000")
+    );
+    assert_eq!(scene.curves_with("guide").count(), 2);
+    assert_eq!(
+        [scene.x.min, scene.x.max, scene.y.min, scene.y.max],
+        [-0.5, 1.0, -0.2, 0.2]
+    );
+    assert_eq!(scene.x.label, "mu");
+    assert_eq!(scene.y.label, "eps");
+}
+
+#[test]
+fn diagram_svg_has_one_path_per_branch_and_one_mark_per_bifurcation() {
+    let (sys, s) = imperfect_pitchfork_sweep();
+    let svg = to_svg(&Scene::diagram(&sys, &s, Some(0.1)), FigureSize::default());
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let branches: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("path") && has_class(n, "branch"))
+        .collect();
+    assert_eq!(branches.len(), s.branches.len());
+    let dashed = branches
+        .iter()
+        .filter(|n| n.attribute("stroke-dasharray").is_some())
+        .count();
+    let saddles = s
+        .branches
+        .iter()
+        .filter(|b| b.kind == EquilibriumKind::Saddle)
+        .count();
+    // The folded branch: one saddle half between two center pieces (closed form above).
+    assert_eq!((dashed, saddles), (1, 1));
+    let marks: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("g") && has_class(n, "bifurcation"))
+        .collect();
+    assert_eq!(marks.len(), s.bifurcations.len());
+    let label = marks[0]
+        .descendants()
+        .find(|n| n.has_tag_name("text"))
+        .and_then(|n| n.text())
+        .unwrap();
+    assert_eq!(label, "saddle-node mu = 0.25650");
+    let mu: f64 = marks[0].attribute("data-x").unwrap().parse().unwrap();
+    assert_eq!(mu.to_bits(), s.bifurcations[0].param.to_bits());
+}
+
+#[test]
+fn diagram_png_has_the_bifurcation_marker_colour_at_the_saddle_node() {
+    let (sys, s) = imperfect_pitchfork_sweep();
+    let size = FigureSize {
+        width: 1600,
+        height: 1200,
+    };
+    let svg = to_svg(&Scene::diagram(&sys, &s, None), size);
+    let pixmap = rasterize(&svg, 1.0).unwrap();
+    assert_eq!((pixmap.width(), pixmap.height()), (1600, 1200));
+    let drawn = drawn_pixels(&pixmap);
+    assert!(drawn > 5_000, "only {drawn} drawn pixels");
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let mark = doc
+        .descendants()
+        .find(|n| n.has_tag_name("g") && has_class(n, "bifurcation"))
+        .unwrap();
+    let want = scene::BIFURCATION_MARKER.colour;
+    assert_mark_colour(&pixmap, pixel_scale(&doc, 1600), &mark, want, "saddle-node");
+}
+
+/// The views a session's settings allow (a backbone needs a center in view,
+/// which every example has).
+fn views_of(session: &phasewright::session::Session) -> Vec<&'static str> {
+    let mut views = vec!["portrait", "backbone"];
+    if session.sweep.is_some() {
+        views.push("diagram");
+    }
+    if session.folds.is_some() {
+        views.push("folds");
+    }
+    views
+}
+
+#[test]
+fn render_command_draws_every_session_in_every_view_its_settings_allow() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut diagrams = 0;
+    for path in session_files() {
+        let (session, _) = phasewright::session::load_file(&path).unwrap();
+        for view in views_of(&session) {
+            let out = dir.path().join(format!("{view}.svg"));
+            let o = run(&[
+                "render",
+                path.to_str().unwrap(),
+                "-o",
+                out.to_str().unwrap(),
+                "--view",
+                view,
+            ]);
+            assert!(
+                o.status.success(),
+                "{} --view {view}: {}",
+                path.display(),
+                String::from_utf8_lossy(&o.stderr)
+            );
+            let svg = std::fs::read_to_string(&out).unwrap();
+            let doc = roxmltree::Document::parse(&svg).unwrap();
+            let class = match view {
+                "portrait" => "level",
+                "diagram" => "branch",
+                "folds" => "fold",
+                other => other,
+            };
+            let curves = doc
+                .descendants()
+                .filter(|n| n.has_tag_name("path") && has_class(n, class))
+                .count();
+            assert!(
+                curves > 0,
+                "{} --view {view}: no {class} path",
+                path.display()
+            );
+            diagrams += usize::from(view == "diagram");
+        }
+    }
+    assert!(diagrams >= 4, "only {diagrams} sessions have a sweep");
+}
+
+#[test]
+fn render_command_names_the_missing_settings_and_exits_2() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("d.svg");
+    // The bond example has no sweep and no fold settings.
+    let path = sessions_dir().join("diatomic-bond.json");
+    for (view, flag) in [("diagram", "--param"), ("folds", "--box")] {
+        let o = run(&[
+            "render",
+            path.to_str().unwrap(),
+            "-o",
+            out.to_str().unwrap(),
+            "--view",
+            view,
+        ]);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{view}: {err}");
+        assert!(
+            err.contains(flag) && err.contains("session"),
+            "{view}: {err}"
+        );
+    }
+    // Flags supply what the file lacks.
+    let o = run(&[
+        "render",
+        path.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--view",
+        "diagram",
+        "--param",
+        "D",
+        "--from",
+        "1",
+        "--to",
+        "8",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(!dir.path().join("f.svg").exists());
+}
+
+/// Run `render` of `session` to a CSV file with extra flags; the parsed rows.
+fn render_csv(session: &str, flags: &[&str]) -> Vec<Vec<String>> {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("t.csv");
+    let path = sessions_dir().join(session);
+    let mut args = vec![
+        "render",
+        path.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+    ];
+    args.extend(flags);
+    let o = run(&args);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    parse_csv(&std::fs::read_to_string(&out).unwrap())
+}
+
+fn bits(text: &str) -> u64 {
+    text.parse::<f64>().unwrap().to_bits()
+}
+
+fn load_example(name: &str) -> (phasewright::session::Session, System) {
+    let (session, _) = phasewright::session::load_file(&sessions_dir().join(name)).unwrap();
+    let sys = session.system().unwrap();
+    (session, sys)
+}
+
+#[test]
+fn sweep_csv_holds_the_branches_and_bifurcations_bit_for_bit() {
+    let rows = render_csv("imperfect-strut.json", &["--view", "diagram"]);
+    let (session, sys) = load_example("imperfect-strut.json");
+    let s = phasewright::render::sweep_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
+    // Header: the swept parameter by name, then the other parameters' values.
+    assert_eq!(
+        rows[0],
+        [
+            "record", "branch", "P", "q", "p", "energy", "kind", "g", "w"
+        ]
+    );
+    let points: Vec<_> = s.branches.iter().flat_map(|b| &b.points).collect();
+    assert_eq!(rows.len(), 1 + points.len() + s.bifurcations.len());
+    for (row, pt) in rows[1..].iter().zip(&points) {
+        assert_eq!(row[0], "point");
+        for (i, v) in [(2, pt.param), (3, pt.q), (4, pt.p), (5, pt.energy)] {
+            assert_eq!(bits(&row[i]), v.to_bits(), "{row:?}");
+        }
+        assert_eq!(row[6], scene::kind_name(pt.kind));
+    }
+    let last = &rows[rows.len() - 1];
+    let b = &s.bifurcations[s.bifurcations.len() - 1];
+    assert_eq!(
+        (last[0].as_str(), last[6].as_str()),
+        ("bifurcation", "saddle-node")
+    );
+    assert_eq!(bits(&last[2]), b.param.to_bits());
+    assert_eq!(bits(&last[3]), b.q.to_bits());
+    assert_eq!(last[7], "0.8");
+}
+
+#[test]
+fn folds_csv_holds_the_curves_and_cusps_bit_for_bit() {
+    let rows = render_csv("imperfect-strut.json", &["--view", "folds"]);
+    let (session, sys) = load_example("imperfect-strut.json");
+    let f = phasewright::render::folds_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
+    assert_eq!(
+        rows[0],
+        ["record", "curve", "P", "w", "q", "p", "energy", "g"]
+    );
+    let points: Vec<_> = f.curves.iter().flat_map(|c| &c.points).collect();
+    assert_eq!(rows.len(), 1 + points.len() + f.cusps.len());
+    for (row, pt) in rows[1..]
+        .iter()
+        .zip(points.iter().chain(&f.cusps.iter().collect::<Vec<_>>()))
+    {
+        for (i, v) in [
+            (2, pt.params[0]),
+            (3, pt.params[1]),
+            (4, pt.q),
+            (5, pt.p),
+            (6, pt.energy),
+        ] {
+            assert_eq!(bits(&row[i]), v.to_bits(), "{row:?}");
+        }
+    }
+    // The strut's cusp: P = 1, w = 0 (cusp catastrophe of q⁴/4 − (P − 1)q²/2 − wq; closed form).
+    let cusp = &rows[rows.len() - 1];
+    assert_eq!(cusp[0], "cusp");
+    assert!(
+        (cusp[2].parse::<f64>().unwrap() - 1.0).abs() < 1e-8,
+        "{cusp:?}"
+    );
+    assert!(cusp[3].parse::<f64>().unwrap().abs() < 1e-8, "{cusp:?}");
+}
+
+#[test]
+fn backbone_csv_holds_every_row_bit_for_bit() {
+    let rows = render_csv("biased-resonator.json", &["--view", "backbone"]);
+    let (session, sys) = load_example("biased-resonator.json");
+    let b =
+        phasewright::render::backbone_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
+    assert_eq!(
+        rows[0],
+        [
+            "energy",
+            "period",
+            "frequency",
+            "action",
+            "amplitude",
+            "k",
+            "b",
+            "c"
+        ]
+    );
+    assert_eq!(rows.len(), 1 + b.rows.len());
+    for (row, r) in rows[1..].iter().zip(&b.rows) {
+        for (i, v) in [r.energy, r.period, r.frequency, r.action, r.amplitude]
+            .into_iter()
+            .enumerate()
+        {
+            assert_eq!(bits(&row[i]), v.to_bits(), "{row:?}");
+        }
+    }
+    // Small oscillations in the well at q = 0 with unit stiffness and mass: T = 2π (closed form).
+    assert!((rows[1][1].parse::<f64>().unwrap() - 2.0 * PI).abs() < 1e-9);
+}
+
+#[cfg(feature = "gui")]
+#[test]
+fn explorer_export_writes_the_same_bytes_as_the_render_command() {
+    use phasewright::render::{ExportFormat, FigureFormat, PortraitTable, View};
+    let dir = tempfile::tempdir().unwrap();
+    let (session, _) = load_example("imperfect-strut.json");
+    let path = sessions_dir().join("imperfect-strut.json");
+    let cases = [
+        (
+            View::Diagram,
+            "diagram",
+            ExportFormat::Figure(FigureFormat::Svg),
+            "svg",
+        ),
+        (
+            View::Folds,
+            "folds",
+            ExportFormat::Csv(PortraitTable::Equilibria),
+            "csv",
+        ),
+    ];
+    for (view, flag, format, ext) in cases {
+        let from_cli = dir.path().join(format!("cli.{ext}"));
+        let o = run(&[
+            "render",
+            path.to_str().unwrap(),
+            "-o",
+            from_cli.to_str().unwrap(),
+            "--view",
+            flag,
+        ]);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let from_gui = dir.path().join(format!("gui.{ext}"));
+        let done = phasewright::gui::export_to_file(&session, view, format, &from_gui).unwrap();
+        assert!(done.starts_with("exported"), "{done}");
+        assert_eq!(
+            std::fs::read(&from_gui).unwrap(),
+            std::fs::read(&from_cli).unwrap(),
+            "{flag}"
+        );
+    }
+    // A session without sweep settings: the export says so and writes nothing.
+    let (bond, _) = load_example("diatomic-bond.json");
+    let target = dir.path().join("none.svg");
+    let e = phasewright::gui::export_to_file(
+        &bond,
+        View::Diagram,
+        ExportFormat::Figure(FigureFormat::Svg),
+        &target,
+    )
+    .unwrap_err();
+    assert!(e.contains("sweep settings"), "{e}");
+    assert!(!target.exists());
 }

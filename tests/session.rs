@@ -465,6 +465,9 @@ fn session_strategy() -> impl Strategy<Value = Session> {
                     refine,
                 },
                 orbits,
+                sweep: None,
+                folds: None,
+                backbone: None,
             },
         )
 }
@@ -607,4 +610,161 @@ fn explicit_method_on_a_non_separable_formula_is_a_warning() {
     let (_, w) = load(&text).expect("loads");
     assert_eq!(w.len(), 1, "{w:?}");
     assert!(w[0].starts_with("orbits[0].method"), "{w:?}");
+}
+
+/// GOOD with the sweep, fold-curve and backbone settings added.
+fn with_analyses() -> String {
+    bad(
+        r#""orbits": ["#,
+        r#""sweep": { "param": "b", "from": -1.5, "to": 1.5, "max_step": 0.01 },
+  "folds": { "params": ["b", "a"], "box": [-1.5, 1.5, 0.2, 2.0] },
+  "backbone": { "center": [0.1, 0.0], "energies": 120 },
+  "orbits": ["#,
+    )
+}
+
+#[test]
+fn analysis_settings_load_and_round_trip_exactly() {
+    let text = with_analyses();
+    let (s, w) = load(&text).expect("loads");
+    assert!(w.is_empty(), "{w:?}");
+    let sw = s.sweep.as_ref().expect("sweep settings");
+    assert_eq!(
+        (sw.param.as_str(), sw.from, sw.to, sw.max_step),
+        ("b", -1.5, 1.5, Some(0.01))
+    );
+    let f = s.folds.as_ref().expect("fold settings");
+    assert_eq!(f.params, ["b".to_string(), "a".to_string()]);
+    assert_eq!(f.bounds, [-1.5, 1.5, 0.2, 2.0]);
+    let b = s.backbone.as_ref().expect("backbone settings");
+    assert_eq!((b.center, b.energies), (Some([0.1, 0.0]), Some(120)));
+    assert_eq!(s.sweep_config().step.max, 0.01);
+    assert_eq!(s.backbone_config().energies, 120);
+    let back = Session::from_json(&s.to_json_pretty()).expect("reloads");
+    assert_eq!(s, back);
+    assert_eq!(s.to_json_pretty(), back.to_json_pretty());
+}
+
+#[test]
+fn a_file_without_analysis_settings_loads_and_saves_without_them() {
+    let s = Session::from_json(GOOD).expect("loads");
+    assert_eq!((&s.sweep, &s.folds, &s.backbone), (&None, &None, &None));
+    let text = s.to_json_pretty();
+    for key in ["\"sweep\"", "\"folds\"", "\"backbone\""] {
+        assert!(!text.contains(key), "{key} written: {text}");
+    }
+    // Defaults of the core apply when the session says nothing.
+    assert_eq!(s.sweep_config().step.max, 0.02);
+    assert_eq!(s.backbone_config().energies, 200);
+}
+
+#[test]
+fn bad_analysis_settings_are_named_by_field() {
+    let good = with_analyses();
+    let cases: [(&str, &str, &str, &str); 9] = [
+        (
+            r#""from": -1.5"#,
+            r#""from": "low""#,
+            "sweep.from",
+            "expected a number",
+        ),
+        (r#""to": 1.5"#, r#""to": -1.5"#, "sweep.to", "must differ"),
+        (r#""param": "b", "#, "", "sweep.param", "missing"),
+        (
+            r#""max_step": 0.01"#,
+            r#""max_step": -0.01"#,
+            "sweep.max_step",
+            "greater than 0",
+        ),
+        (
+            r#""params": ["b", "a"]"#,
+            r#""params": ["a", "a"]"#,
+            "folds.params[1]",
+            "must differ",
+        ),
+        (
+            r#"[-1.5, 1.5, 0.2, 2.0]"#,
+            r#"[1.5, -1.5, 0.2, 2.0]"#,
+            "folds.box[0]",
+            "less than",
+        ),
+        (
+            r#"[-1.5, 1.5, 0.2, 2.0]"#,
+            r#"[-1.5, 1.5, 0.2]"#,
+            "folds.box",
+            "length",
+        ),
+        (
+            r#""center": [0.1, 0.0]"#,
+            r#""center": [0.1]"#,
+            "backbone.center",
+            "length",
+        ),
+        (
+            r#""energies": 120"#,
+            r#""energies": -3"#,
+            "backbone.energies",
+            "",
+        ),
+    ];
+    for (from, to, field, words) in cases {
+        assert_eq!(good.matches(from).count(), 1, "{from}");
+        let e = error_of(&good.replace(from, to));
+        assert_eq!(e.field, field, "{from} -> {to}: {e}");
+        assert!(e.problem.contains(words), "{from} -> {to}: {e}");
+    }
+}
+
+#[test]
+fn analysis_work_amounts_load_clamped_with_warnings() {
+    let text = with_analyses()
+        .replace(r#""max_step": 0.01"#, r#""max_step": 5"#)
+        .replace(r#""energies": 120"#, r#""energies": 1000000"#);
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(
+        s.sweep.as_ref().and_then(|x| x.max_step),
+        Some(session::MAX_SWEEP_STEP)
+    );
+    assert_eq!(
+        s.backbone.as_ref().and_then(|x| x.energies),
+        Some(session::MAX_BACKBONE_ENERGIES)
+    );
+    assert_eq!(w.len(), 2, "{w:?}");
+    assert!(w.iter().any(|m| m.starts_with("sweep.max_step")), "{w:?}");
+    assert!(
+        w.iter().any(|m| m.starts_with("backbone.energies")),
+        "{w:?}"
+    );
+    let few = with_analyses().replace(r#""energies": 120"#, r#""energies": 1"#);
+    let (s, w) = load(&few).expect("loads");
+    assert_eq!(
+        s.backbone.as_ref().and_then(|x| x.energies),
+        Some(session::MIN_BACKBONE_ENERGIES)
+    );
+    assert_eq!(w.len(), 1, "{w:?}");
+}
+
+#[test]
+fn analysis_settings_naming_no_formula_parameter_warn_and_keep_the_name() {
+    let text = with_analyses()
+        .replace(r#""param": "b""#, r#""param": "beta""#)
+        .replace(r#""params": ["b", "a"]"#, r#""params": ["b", "gamma"]"#);
+    let (s, w) = load(&text).expect("loads");
+    assert_eq!(s.sweep.as_ref().map(|x| x.param.as_str()), Some("beta"));
+    assert_eq!(w.len(), 2, "{w:?}");
+    assert!(
+        w[0].starts_with("sweep.param") && w[0].contains("a, b"),
+        "{w:?}"
+    );
+    assert!(w[1].starts_with("folds.params[1]"), "{w:?}");
+}
+
+#[test]
+fn unknown_fields_inside_analysis_settings_are_named() {
+    let text = with_analyses().replace(r#""energies": 120"#, r#""energies": 120, "centre": 1"#);
+    let (_, w) = load(&text).expect("loads");
+    assert_eq!(
+        w,
+        vec!["backbone.centre: unknown field, ignored (check the spelling)"]
+    );
 }

@@ -15,9 +15,15 @@ pub const MIN_ANALYSIS_GRID: usize = 16;
 /// Most evenly spaced levels an analysis draws.
 pub const MAX_ANALYSIS_LEVELS: usize = 1000;
 
-/// H counts as constant in view when its spread over the grid is below this
-/// fraction of its magnitude (or of 1 when H is near zero).
-const CONSTANT_SPREAD_REL: f64 = 1e-12;
+/// H counts as constant in view when its spread over the grid is at most
+/// this many times the largest rounding error bound of H found on a coarse
+/// lattice over the window ([`Formula::eval_with_rounding`]).
+///
+/// [`Formula::eval_with_rounding`]: super::formula::Formula::eval_with_rounding
+const CONSTANT_NOISE_FACTOR: f64 = 4.0;
+
+/// Points per side of the lattice on which H's rounding error is bounded.
+const NOISE_LATTICE: usize = 9;
 
 /// Two saddle levels closer than this fraction of H's spread in view are
 /// drawn as one separatrix level.
@@ -89,7 +95,36 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
             "H depends on t, so energy is not conserved; the portrait shows H at t = 0",
         ));
     }
-    let grid = super::contour::sample_grid(sys, window, n, n);
+    let mut grid = super::contour::sample_grid(sys, window, n, n);
+    grid_diagnostics(&grid, &mut diagnostics);
+    let constant = grid.range.and_then(|(lo, hi)| {
+        (hi == lo || hi - lo <= CONSTANT_NOISE_FACTOR * rounding_noise(sys, window))
+            .then_some((lo, hi))
+    });
+    if let Some((lo, hi)) = constant {
+        diagnostics.push(Diagnostic::info(format!(
+            "H is constant in view (H = {}{}): every point is an equilibrium, so none is \
+             listed, and there are no level curves to draw",
+            short_number(lo),
+            if hi == lo { "" } else { " up to rounding" }
+        )));
+    } else if grid.range.is_some() {
+        let jumps = super::contour::blank_jumps(sys, &mut grid);
+        if let Some((q, p)) = jumps.first {
+            // a midpoint that is zero up to rounding is shown as zero
+            let snap = |x: f64, side: f64| if x.abs() <= 1e-12 * side { 0.0 } else { x };
+            let (q, p) = (snap(q, window.width()), snap(p, window.height()));
+            let share = 100.0 * jumps.samples as f64 / grid.values.len().max(1) as f64;
+            diagnostics.push(Diagnostic::warning(format!(
+                "H jumps or has a pole between neighbouring grid points (first near q = {}, \
+                 p = {}); the cells there ({}% of the window) are left blank so that no level \
+                 curve is drawn across it",
+                short_number(q),
+                short_number(p),
+                percent(share)
+            )));
+        }
+    }
     let mut out = Analysis {
         window: *window,
         grid,
@@ -100,8 +135,7 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
         diagnostics,
         cancelled: false,
     };
-    grid_diagnostics(&out.grid, &mut out.diagnostics);
-    if out.grid.range.is_none() {
+    if out.grid.range.is_none() || constant.is_some() {
         return out;
     }
     if stop(cancel, &mut out) {
@@ -174,28 +208,61 @@ fn stop(cancel: &Cancel, out: &mut Analysis) -> bool {
 }
 
 fn grid_diagnostics(grid: &Grid, diagnostics: &mut Vec<Diagnostic>) {
-    let Some((lo, hi)) = grid.range else {
+    if grid.range.is_none() {
         diagnostics.push(Diagnostic::warning(
             "H is NaN or infinite everywhere in the window; nothing to draw",
         ));
         return;
-    };
+    }
     if grid.nonfinite_fraction > 0.0 {
-        let pct = 100.0 * grid.nonfinite_fraction;
-        let shown = if pct < 1.0 {
-            format!("{pct:.2}")
-        } else {
-            format!("{pct:.0}")
-        };
         diagnostics.push(Diagnostic::warning(format!(
-            "H is NaN or infinite on {shown}% of the window; those cells are left blank"
+            "H is NaN or infinite on {}% of the window; those cells are left blank",
+            percent(100.0 * grid.nonfinite_fraction)
         )));
     }
-    let scale = lo.abs().max(hi.abs()).max(1.0);
-    if hi - lo <= CONSTANT_SPREAD_REL * scale {
-        diagnostics.push(Diagnostic::info(format!(
-            "H is constant in view (H = {lo}); there are no level curves to draw"
-        )));
+}
+
+/// The largest finite rounding error bound of H over a coarse lattice of the window.
+fn rounding_noise(sys: &System, window: &Window) -> f64 {
+    let f = sys.formula();
+    let mut slots = vec![0.0; f.slot_count()];
+    for (s, &v) in slots[super::formula::FIRST_PARAM_SLOT..]
+        .iter_mut()
+        .zip(sys.params())
+    {
+        *s = v;
+    }
+    let last = (NOISE_LATTICE - 1) as f64;
+    let mut noise: f64 = 0.0;
+    for j in 0..NOISE_LATTICE {
+        for i in 0..NOISE_LATTICE {
+            slots[super::formula::SLOT_Q] = window.qmin + window.width() * i as f64 / last;
+            slots[super::formula::SLOT_P] = window.pmin + window.height() * j as f64 / last;
+            let (_, err) = f.eval_with_rounding(&slots);
+            if err.is_finite() {
+                noise = noise.max(err);
+            }
+        }
+    }
+    noise
+}
+
+/// A share in percent for a message: two decimals below 1 %, whole numbers above.
+fn percent(pct: f64) -> String {
+    if pct < 1.0 {
+        format!("{pct:.2}")
+    } else {
+        format!("{pct:.0}")
+    }
+}
+
+/// A number for a message: plain digits (at most nine decimals) in the usual
+/// range, else with an exponent, so that 1e300 is not written out in full.
+pub fn short_number(x: f64) -> String {
+    if x == 0.0 || (1e-4..1e9).contains(&x.abs()) {
+        format!("{}", (x * 1e9).round() / 1e9)
+    } else {
+        format!("{x:.6e}")
     }
 }
 

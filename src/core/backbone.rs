@@ -10,11 +10,23 @@
 //! where H(q, p_c) = E (found by bracketed Newton). Then
 //! period = √(2m) ∫ dq/√W and action = (1/π) √(2m) ∫ √W dq with
 //! W = E − H(q, p_c). The substitution q = q_mid + (Δ/2) sin θ removes the
-//! inverse square-root singularities at the turning points analytically, and
-//! the smooth integrand in θ is integrated by adaptive Gauss–Kronrod (7, 15)
-//! to a relative tolerance of about 1e-13; the sharpening peak near the escape
-//! energy (where the period grows like −(1/λ) ln(E_escape − E)) is handled by
-//! the adaptive subdivision.
+//! inverse square-root singularities at the turning points analytically, so
+//! the integrand in θ is smooth and Gauss rules converge fast. Next to each
+//! turning point e, W is the integral of the slope, −∫ σ ∂H/∂q dq from e
+//! (a four-point Gauss–Legendre rule), which keeps its relative accuracy where
+//! E − H(q) would lose its digits to cancellation. The integral in θ is taken
+//! by globally adaptive Gauss–Kronrod (7, 15) with QUADPACK's error estimate
+//! to a relative tolerance of about 1e-13. Each level's bracketed Newton for
+//! its turning points starts from those of the level below.
+//!
+//! Near the escape energy E_s the orbit lingers by the saddle(s) bounding the
+//! well: each pass close to a saddle with eigenvalue λ takes about
+//! −(1/λ) ln(E_s − E), so T(E) ≈ −(n/λ) ln(E_s − E) + O(1) with n the number
+//! of saddle passes per period: n = 2 for the pendulum's libration, which
+//! turns back at both saddles q = ±π (4K(m) ≈ 2 ln(16/(1 − m)),
+//! Abramowitz & Stegun 17.3.26), n = 1 for a well open over one saddle (the
+//! other turning point lies on a wall). The integrand's peak next to the
+//! turning points sharpens accordingly and is resolved by the subdivision.
 //!
 //! # Orbit over one period (any other H)
 //!
@@ -33,7 +45,10 @@
 //! Reference: L. D. Landau and E. M. Lifshitz, *Mechanics* (3rd ed.,
 //! Pergamon 1976) §11–12 (period from the energy integral) and §49 (action);
 //! W. H. Press et al., *Numerical Recipes* (3rd ed., 2007) §4.6 (Gauss–Kronrod),
-//! §17.1 (Runge–Kutta); M. Hénon, Physica D 5 (1982) 412 (landing on a section).
+//! §17.1 (Runge–Kutta); R. Piessens et al., *QUADPACK* (Springer 1983) §2
+//! (adaptive Gauss–Kronrod and its error estimate); M. Abramowitz and
+//! I. A. Stegun, *Handbook of Mathematical Functions* (1964) 17.3.26;
+//! M. Hénon, Physica D 5 (1982) 412 (landing on a section).
 
 use super::equilibria::{EquilibriumConfig, EquilibriumKind, classify, find_equilibria};
 use super::system::System;
@@ -50,8 +65,23 @@ const CENTER_REACH: f64 = 0.05;
 const BARRIER_SCAN_CELLS: f64 = 800.0;
 /// Relative tolerance of a quadratic kinetic part, checked at a few momenta.
 const QUADRATIC_KINETIC_TOL: f64 = 1e-10;
-/// Within this fraction of the half-width of a turning point, W comes from a Taylor series.
-const TAYLOR_ZONE: f64 = 1e-4;
+/// Within this fraction of the half-width of a turning point, W comes from
+/// the integral of the slope (a Gauss–Legendre rule) rather than E − H.
+const SLOPE_ZONE: f64 = 0.02;
+/// Gauss–Legendre nodes on [0, 1] and weights, 4 points (exact for
+/// polynomials of degree 7; Abramowitz & Stegun table 25.4).
+const GL_SLOPE_NODES: [f64; 4] = [
+    0.069_431_844_202_973_71,
+    0.330_009_478_207_571_9,
+    0.669_990_521_792_428_1,
+    0.930_568_155_797_026_3,
+];
+const GL_SLOPE_WEIGHTS: [f64; 4] = [
+    0.173_927_422_568_726_93,
+    0.326_072_577_431_273_07,
+    0.326_072_577_431_273_07,
+    0.173_927_422_568_726_93,
+];
 /// Runge–Kutta steps per small-oscillation period on the orbit path.
 const ORBIT_STEPS_PER_PERIOD: f64 = 2000.0;
 
@@ -275,6 +305,8 @@ pub fn backbone(
         amplitude: 0.0,
     });
     let limits = (left.reach, right.reach);
+    // The turning points of the last level bracket the next one from inside.
+    let mut from = (qc, qc);
     for i in 1..n {
         if cancel.is_cancelled() {
             cancelled = true;
@@ -282,7 +314,11 @@ pub fn backbone(
         }
         let depth = depth_at(i);
         let row = if quadratic {
-            well.quadrature_row(depth, limits, jc.hpp, cfg.tolerance)
+            well.quadrature_row(depth, limits, from, jc.hpp, cfg.tolerance)
+                .map(|(row, ends)| {
+                    from = ends;
+                    row
+                })
         } else {
             well.orbit_row(depth, limits, cfg.max_orbit_steps)
         };
@@ -423,9 +459,10 @@ impl Well<'_> {
         0.5 * (a + b)
     }
 
-    /// The q between the center and `reach` where the depth equals `depth`.
-    fn turning_point(&self, depth: f64, reach: f64) -> Option<f64> {
-        let (mut a, mut b) = (self.qc, reach);
+    /// The q between `from` (the center, or the turning point of a lower
+    /// level on the same side) and `reach` where the depth equals `depth`.
+    fn turning_point(&self, depth: f64, from: f64, reach: f64) -> Option<f64> {
+        let (mut a, mut b) = (from, reach);
         let (db, _) = self.depth_q(b);
         if db < depth {
             return None;
@@ -454,41 +491,48 @@ impl Well<'_> {
         Some(q)
     }
 
+    /// σ ∂H/∂q(q, p_c): the slope of the depth.
+    fn slope(&self, q: f64) -> f64 {
+        self.sigma * self.sys.dh_dq(q, self.pc, 0.0).1
+    }
+
+    /// Period, action and amplitude of the level at `depth` whose turning
+    /// points lie between `from` and `limits` on each side; `from` holds the
+    /// turning points of a lower level (or the center twice).
     fn quadrature_row(
         &self,
         depth: f64,
         limits: (f64, f64),
+        from: (f64, f64),
         hpp: f64,
         tol: f64,
-    ) -> Option<BackboneRow> {
-        let qm = self.turning_point(depth, limits.0)?;
-        let qp = self.turning_point(depth, limits.1)?;
+    ) -> Option<(BackboneRow, (f64, f64))> {
+        let qm = self.turning_point(depth, from.0, limits.0)?;
+        let qp = self.turning_point(depth, from.1, limits.1)?;
         let half = 0.5 * (qp - qm);
+        if half.is_nan() || half <= 0.0 {
+            return None;
+        }
         let m = 1.0 / hpp.abs();
+        let ends = [qm, qp];
+        let zone = SLOPE_ZONE * half;
         // W(q) = σ(E − H(q, p_c)) ≥ 0 between the turning points. Next to a
-        // turning point e the difference E − H loses its digits to
-        // cancellation, so there W comes from the Taylor series of H about e
-        // (exact derivatives up to third order), taking W(e) = 0 exactly: a
-        // residual of a few ulps at e would otherwise move the square-root
-        // singularity off the end and cost digits.
-        let taylor = [qm, qp].map(|e| {
-            let j = self.sys.third_jet(e, self.pc, &[]);
-            let s = self.sigma;
-            (e, s * j.grad[0], s * j.hess[0][0], s * j.third[0][0][0])
-        });
-        // W at q = e + d next to end e (d measured from the end, exactly).
+        // turning point e the difference E − H(q) loses its digits to
+        // cancellation, so there W = −∫₀^d σ H_q(e + s) ds (q = e + d) by
+        // Gauss–Legendre on the slope, which has no cancellation: W keeps its
+        // relative accuracy down to the end, and W(e) = 0 exactly.
         let w = |end: usize, d: f64| {
-            let (e, d1, d2, d3) = taylor[end];
-            let v = if d.abs() < TAYLOR_ZONE * half {
-                -d * (d1 + d * (0.5 * d2 + d * d3 / 6.0))
+            let e = ends[end];
+            let v = if d.abs() < zone {
+                let mut acc = 0.0;
+                for (x, wt) in GL_SLOPE_NODES.iter().zip(GL_SLOPE_WEIGHTS) {
+                    acc += wt * self.slope(e + d * x);
+                }
+                -d * acc
             } else {
-                depth - self.depth_q(e + d).0
+                depth - self.sigma * (self.sys.energy(e + d, self.pc) - self.ec)
             };
-            if v > 0.0 {
-                v
-            } else {
-                (d1 * d).abs().max(f64::MIN_POSITIVE)
-            }
+            v.max(f64::MIN_POSITIVE)
         };
         // θ = ±(π/2 − u): q − e = ∓2·half·sin²(u/2) and cos θ = sin u, both
         // without cancellation; the two halves are integrated together.
@@ -496,26 +540,27 @@ impl Well<'_> {
             let c = u.sin();
             let d = 2.0 * half * (0.5 * u).sin().powi(2);
             let (wl, wu) = (w(0, d), w(1, -d));
-            [
-                half * c * (1.0 / wl.sqrt() + 1.0 / wu.sqrt()),
-                half * c * (wl.sqrt() + wu.sqrt()),
-            ]
+            let (sl, su) = (wl.sqrt(), wu.sqrt());
+            [half * c * (1.0 / sl + 1.0 / su), half * c * (sl + su)]
         };
         let [ti, ai] = gauss_kronrod(&f, 0.0, 0.5 * PI, tol)?;
         let period = (2.0 * m).sqrt() * ti;
         let action = (2.0 * m).sqrt() * ai / PI;
-        Some(BackboneRow {
-            energy: self.ec + self.sigma * depth,
-            period,
-            frequency: 2.0 * PI / period,
-            action,
-            amplitude: half,
-        })
+        Some((
+            BackboneRow {
+                energy: self.ec + self.sigma * depth,
+                period,
+                frequency: 2.0 * PI / period,
+                action,
+                amplitude: half,
+            },
+            (qm, qp),
+        ))
     }
 
     /// One period of the orbit through the point right of the center on p = p_c.
     fn orbit_row(&self, depth: f64, limits: (f64, f64), max_steps: usize) -> Option<BackboneRow> {
-        let q0 = self.turning_point(depth, limits.1)?;
+        let q0 = self.turning_point(depth, self.qc, limits.1)?;
         let field = |s: [f64; 3]| {
             let j = self.sys.jet(s[0], s[1]);
             [j.hp, -j.hq, s[1] * j.hp]
@@ -651,75 +696,130 @@ const GK_GAUSS: [f64; 4] = [
     0.129_484_966_168_869_7,
 ];
 
-/// Most subintervals and deepest bisection of the adaptive quadrature.
-const GK_MAX_INTERVALS: usize = 20_000;
-const GK_MAX_DEPTH: usize = 50;
-/// An interval is done when |Kronrod − Gauss| is at the roundoff level of its sum.
+/// Most subintervals of the adaptive quadrature.
+const GK_MAX_INTERVALS: usize = 2_000;
+/// The error of a rule is never taken below this many ulps of Σ|w f|.
 const GK_ROUNDOFF: f64 = 50.0;
-/// An interval's error is negligible below this share of the tolerance
-/// (next to a turning point the integrand is noisy but contributes nothing).
-const GK_NEGLIGIBLE: f64 = 1e-3;
 
-/// Adaptive Gauss–Kronrod of a two-component integrand over [a, b] to
-/// relative tolerance `tol` (on each component).
-fn gauss_kronrod(f: &dyn Fn(f64) -> [f64; 2], a: f64, b: f64, tol: f64) -> Option<[f64; 2]> {
-    // Returns the Kronrod estimate, |Kronrod − Gauss| and Σ|w f| (for the roundoff floor).
-    let rule = |a: f64, b: f64| {
-        let c = 0.5 * (a + b);
-        let h = 0.5 * (b - a);
-        let mut k = [0.0; 2];
-        let mut g = [0.0; 2];
-        let mut abs = [0.0; 2];
-        for (i, &x) in GK_NODES.iter().enumerate() {
-            let vals = if i == 0 {
-                [f(c), [0.0; 2]]
-            } else {
-                [f(c - h * x), f(c + h * x)]
-            };
-            for comp in 0..2 {
-                let s = vals[0][comp] + vals[1][comp];
-                k[comp] += GK_KRONROD[i] * s;
-                abs[comp] += GK_KRONROD[i] * (vals[0][comp].abs() + vals[1][comp].abs());
-                if i % 2 == 0 {
-                    g[comp] += GK_GAUSS[i / 2] * s;
-                }
+/// One interval of the adaptive quadrature: its rule's estimate and error.
+struct Piece {
+    lo: f64,
+    hi: f64,
+    val: [f64; 2],
+    err: [f64; 2],
+    /// Both errors are at the roundoff floor: bisecting cannot lower them.
+    floor: bool,
+}
+
+/// The (7, 15) Gauss–Kronrod rule on [lo, hi] for both components: the
+/// Kronrod estimate and its error, taken as QUADPACK's qk15 does:
+/// ε = I_|f−mean| · min(1, (200 |K − G| / I_|f−mean|)^1.5), at least 50 ulps of
+/// ∫|f| (the Kronrod value is far more accurate than its difference from the
+/// Gauss value).
+fn gk_rule(f: &dyn Fn(f64) -> [f64; 2], lo: f64, hi: f64) -> Piece {
+    let c = 0.5 * (lo + hi);
+    let h = 0.5 * (hi - lo);
+    let mut vals = [[0.0; 2]; 15];
+    vals[0] = f(c);
+    for (i, &x) in GK_NODES.iter().enumerate().skip(1) {
+        vals[2 * i - 1] = f(c - h * x);
+        vals[2 * i] = f(c + h * x);
+    }
+    // Value n was taken at node ⌈n/2⌉ of GK_NODES.
+    let weight = |n: usize| n.div_ceil(2);
+    let mut val = [0.0; 2];
+    let mut err = [0.0; 2];
+    let mut floor = true;
+    for comp in 0..2 {
+        let (mut k, mut g, mut abs) = (0.0, 0.0, 0.0);
+        for (n, v) in vals.iter().enumerate() {
+            let i = weight(n);
+            k += GK_KRONROD[i] * v[comp];
+            abs += GK_KRONROD[i] * v[comp].abs();
+            if i % 2 == 0 {
+                g += GK_GAUSS[i / 2] * v[comp];
             }
         }
+        let mean = 0.5 * k;
+        let asc: f64 = vals
+            .iter()
+            .enumerate()
+            .map(|(n, v)| GK_KRONROD[weight(n)] * (v[comp] - mean).abs())
+            .sum();
         let h = h.abs();
-        (
-            [k[0] * h, k[1] * h],
-            [(k[0] - g[0]).abs() * h, (k[1] - g[1]).abs() * h],
-            [abs[0] * h, abs[1] * h],
-        )
-    };
-    let (total, _, _) = rule(a, b);
-    let scale = [
-        total[0].abs().max(f64::MIN_POSITIVE),
-        total[1].abs().max(f64::MIN_POSITIVE),
-    ];
-    let mut stack = vec![(a, b, 0usize)];
-    let mut sum = [0.0; 2];
-    let mut intervals = 0usize;
-    while let Some((lo, hi, depth)) = stack.pop() {
-        intervals += 1;
-        if intervals > GK_MAX_INTERVALS {
+        let (diff, asc, abs) = ((k - g).abs() * h, asc * h, abs * h);
+        let mut e = diff;
+        if asc > 0.0 && diff > 0.0 {
+            e = asc * (200.0 * diff / asc).powf(1.5).min(1.0);
+        }
+        let least = GK_ROUNDOFF * f64::EPSILON * abs;
+        floor &= e <= least;
+        val[comp] = k * h;
+        err[comp] = e.max(least);
+    }
+    Piece {
+        lo,
+        hi,
+        val,
+        err,
+        floor,
+    }
+}
+
+/// Globally adaptive Gauss–Kronrod (7, 15) of a two-component integrand over
+/// [a, b] to relative tolerance `tol` on each component: the interval with
+/// the largest error is bisected until the errors add up to less than `tol`
+/// of the integral (an interval too short to bisect, or at the roundoff
+/// floor, is left as it is). Piessens et al., *QUADPACK* (Springer 1983) §2.
+fn gauss_kronrod(f: &dyn Fn(f64) -> [f64; 2], a: f64, b: f64, tol: f64) -> Option<[f64; 2]> {
+    let first = gk_rule(f, a, b);
+    let mut pieces = Vec::new();
+    // Pieces that can no longer be refined.
+    let mut settled: Vec<Piece> = Vec::new();
+    if first.floor {
+        settled.push(first);
+    } else {
+        pieces.push(first);
+    }
+    loop {
+        let mut val = [0.0; 2];
+        let mut err = [0.0; 2];
+        for p in pieces.iter().chain(&settled) {
+            for c in 0..2 {
+                val[c] += p.val[c];
+                err[c] += p.err[c];
+            }
+        }
+        if !(val[0].is_finite() && val[1].is_finite()) {
             return None;
         }
-        let (val, err, abs) = rule(lo, hi);
-        let share = ((hi - lo) / (b - a)).abs();
-        let fine = depth >= GK_MAX_DEPTH
-            || (0..2).all(|c| {
-                err[c] <= tol * scale[c] * share.max(GK_NEGLIGIBLE)
-                    || err[c] <= GK_ROUNDOFF * f64::EPSILON * abs[c]
-            });
-        if fine {
-            sum[0] += val[0];
-            sum[1] += val[1];
-        } else {
-            let m = 0.5 * (lo + hi);
-            stack.push((lo, m, depth + 1));
-            stack.push((m, hi, depth + 1));
+        let bound = [tol * val[0].abs(), tol * val[1].abs()];
+        if (err[0] <= bound[0] && err[1] <= bound[1]) || pieces.is_empty() {
+            return Some(val);
+        }
+        if pieces.len() + settled.len() >= GK_MAX_INTERVALS {
+            return None;
+        }
+        // The piece contributing most to the component furthest from its bound.
+        let worst = (0..2)
+            .max_by(|&x, &y| (err[x] / bound[x]).total_cmp(&(err[y] / bound[y])))
+            .unwrap_or(0);
+        let (k, _) = pieces
+            .iter()
+            .enumerate()
+            .max_by(|x, y| x.1.err[worst].total_cmp(&y.1.err[worst]))?;
+        let p = pieces.swap_remove(k);
+        let m = 0.5 * (p.lo + p.hi);
+        if m <= p.lo || m >= p.hi {
+            settled.push(p);
+            continue;
+        }
+        for half in [gk_rule(f, p.lo, m), gk_rule(f, m, p.hi)] {
+            if half.floor {
+                settled.push(half);
+            } else {
+                pieces.push(half);
+            }
         }
     }
-    (sum[0].is_finite() && sum[1].is_finite()).then_some(sum)
 }

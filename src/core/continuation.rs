@@ -22,6 +22,13 @@
 //! point where one branch is tangent to μ = const is a pitchfork, otherwise it
 //! is transcritical.
 //!
+//! Branches start from the equilibria in view at both ends of the range and
+//! then from those at three values inside it that lie on no traced branch
+//! (a seed is on a branch when a traced chord crosses its μ and the curve's
+//! point there is the seed): a curve that reaches neither end, such as the
+//! isola q² + μ² = a² of V' = q² + μ² − a², is traced from its interior seed
+//! both ways, or once around when it closes.
+//!
 //! Reference: E. L. Allgower and K. Georg, *Introduction to Numerical
 //! Continuation Methods* (SIAM 2003), ch. 2 (predictor–corrector), ch. 8
 //! (detection of bifurcation points, branch switching); H. B. Keller, "Numerical
@@ -49,6 +56,10 @@ const LOCATE_ITERATIONS: usize = 80;
 const BRANCH_POINT_FINE_STEP: f64 = 1e-5;
 /// Two points closer than this (scaled units, max norm) are the same point.
 const MATCH_TOL: f64 = 1e-6;
+/// Where inside the range (fractions of it) equilibria seed branches that
+/// reach neither end; placed off the centre so that a symmetric parameter
+/// value (a pitchfork) is not hit.
+const INTERIOR_SEED_FRACTIONS: [f64; 3] = [0.1545, 0.4045, 0.6545];
 /// A branch whose tangent's μ-component is below this (scaled) is tangent to μ = const.
 const FLAT_TANGENT_TOL: f64 = 1e-6;
 
@@ -109,7 +120,7 @@ pub struct SweepConfig {
     pub step: StepConfig,
     /// Continuation steps over all branches together (default 20 000).
     pub max_steps: usize,
-    /// The equilibrium search that seeds the branches at both ends.
+    /// The equilibrium search that seeds the branches (at both ends and inside the range).
     pub equilibria: EquilibriumConfig,
 }
 
@@ -404,6 +415,83 @@ pub(crate) fn advance<C: Curve<N>, const N: usize>(
     None
 }
 
+/// What every continuation walk shares: the cancel flag, the step budget
+/// over all its curves (warned about once when spent) and the diagnostics.
+pub(crate) struct Walk<'a> {
+    cancel: &'a Cancel,
+    max_steps: usize,
+    pub steps: usize,
+    pub cancelled: bool,
+    pub out_of_steps: bool,
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+impl<'a> Walk<'a> {
+    pub fn new(cancel: &'a Cancel, max_steps: usize) -> Self {
+        Walk {
+            cancel,
+            max_steps,
+            steps: 0,
+            cancelled: false,
+            out_of_steps: false,
+            diagnostics: Vec::new(),
+        }
+    }
+
+    /// True once cancelled or out of steps.
+    pub fn stopped(&self) -> bool {
+        self.cancelled || self.out_of_steps
+    }
+
+    /// One counted [`advance`] from (y, t), or None when the curve must stop
+    /// here: cancelled, the budget spent (warned once with `spent(steps)`),
+    /// or no step possible (warned with `stuck()`).
+    #[allow(clippy::too_many_arguments)]
+    pub fn step<C: Curve<N>, const N: usize>(
+        &mut self,
+        curve: &C,
+        y: &Vector<N>,
+        t: &Vector<N>,
+        h: f64,
+        cfg: &StepConfig,
+        spent: impl FnOnce(usize) -> String,
+        stuck: impl FnOnce() -> String,
+    ) -> Option<Step<N>> {
+        if self.cancel.is_cancelled() {
+            self.cancelled = true;
+            return None;
+        }
+        if self.steps >= self.max_steps {
+            if !self.out_of_steps {
+                self.diagnostics
+                    .push(Diagnostic::warning(spent(self.steps)));
+            }
+            self.out_of_steps = true;
+            return None;
+        }
+        let Some(st) = advance(curve, y, t, h, cfg) else {
+            self.diagnostics.push(Diagnostic::warning(stuck()));
+            return None;
+        };
+        self.steps += 1;
+        Some(st)
+    }
+}
+
+/// Where the step from `last` to `next` (outside `bounds`) leaves the box:
+/// the curve's point on the bound it crosses first, and that coordinate.
+pub(crate) fn exit_point<C: Curve<N>, const N: usize>(
+    curve: &C,
+    last: &Vector<N>,
+    next: &Vector<N>,
+    bounds: &[(f64, f64); N],
+    cfg: &StepConfig,
+) -> Option<(Vector<N>, usize)> {
+    let (j, bound) = first_exit(last, next, bounds)?;
+    let y = point_at_coordinate(curve, last, next, j, bound, cfg)?;
+    inside(&y, bounds, 1e-12).then_some((y, j))
+}
+
 /// The next step length after an accepted step.
 pub(crate) fn next_step_length(step_h: f64, iterations: usize, cfg: &StepConfig) -> f64 {
     if iterations <= 3 {
@@ -576,6 +664,15 @@ impl EquilibriumCurve<'_> {
     pub fn at(&self, mu: f64) -> System {
         self.sys.with_param(self.param, mu)
     }
+
+    pub fn param_name(&self) -> String {
+        self.sys
+            .formula()
+            .params()
+            .get(self.param)
+            .cloned()
+            .unwrap_or_default()
+    }
 }
 
 impl Curve<3> for EquilibriumCurve<'_> {
@@ -739,17 +836,13 @@ struct Tracer<'a> {
     curve: EquilibriumCurve<'a>,
     bounds: [(f64, f64); 3],
     cfg: &'a SweepConfig,
-    cancel: &'a Cancel,
     progress: &'a dyn Fn(SweepProgress),
-    steps: usize,
+    walk: Walk<'a>,
     segments: Vec<Vec<Vector<3>>>,
     bifurcations: Vec<(Vector<3>, BifurcationKind)>,
     nodes: Vec<Node>,
     seeds: Vec<Seed>,
     queue: VecDeque<Origin>,
-    diagnostics: Vec<Diagnostic>,
-    cancelled: bool,
-    out_of_steps: bool,
 }
 
 impl Tracer<'_> {
@@ -757,8 +850,13 @@ impl Tracer<'_> {
         for i in 0..self.seeds.len() {
             self.queue.push_back(Origin::Seed(i));
         }
+        self.drain();
+    }
+
+    /// Trace from every queued origin (seeds and branch-point directions).
+    fn drain(&mut self) {
         while let Some(origin) = self.queue.pop_front() {
-            if self.cancelled || self.out_of_steps {
+            if self.walk.stopped() {
                 break;
             }
             match origin {
@@ -771,10 +869,12 @@ impl Tracer<'_> {
                     let dir = if self.seeds[i].upper { -1.0 } else { 1.0 };
                     let t_ref = Vector::<3>::new(0.0, 0.0, dir);
                     match tangent(&self.curve, &y0, &t_ref) {
-                        Some((t0, det0)) => self.trace(y0, t0, Some(det0)),
+                        Some((t0, det0)) => {
+                            self.trace(y0, t0, Some(det0));
+                        }
                         None => {
                             let x = self.curve.x(&y0);
-                            self.diagnostics.push(Diagnostic::info(format!(
+                            self.walk.diagnostics.push(Diagnostic::info(format!(
                                 "the equilibrium at q = {:.6}, p = {:.6} ({} = {}) is degenerate; \
                                  its branches are traced from elsewhere if they reach the range",
                                 x[0],
@@ -798,53 +898,106 @@ impl Tracer<'_> {
     }
 
     fn param_name(&self) -> String {
-        self.curve
-            .sys
-            .formula()
-            .params()
-            .get(self.curve.param)
-            .cloned()
-            .unwrap_or_default()
+        self.curve.param_name()
+    }
+
+    /// True when `y` lies on a piece of curve already traced: some traced
+    /// chord crosses y's parameter value near y, and the curve's point there
+    /// (corrected at that value) is y.
+    fn on_traced(&self, y: &Vector<3>) -> bool {
+        self.segments.iter().any(|seg| {
+            seg.windows(2).any(|w| {
+                let (a, b) = (&w[0], &w[1]);
+                (a[2] - y[2]) * (b[2] - y[2]) <= 0.0
+                    && a[2] != b[2]
+                    && distance_to_polyline(y, w) <= (b - a).norm() + MATCH_TOL
+                    && point_at_coordinate(&self.curve, a, b, 2, y[2], &self.cfg.step)
+                        .is_some_and(|c| (c - y).amax() < MATCH_TOL)
+            })
+        })
+    }
+
+    /// Trace the curve through an equilibrium found inside the range, both
+    /// ways, unless it is already traced. The two halves are joined at the
+    /// seed so that branches still end only at the range, the window or a
+    /// bifurcation point; a closed curve (an isola) is traced once around.
+    fn trace_interior(&mut self, y0: Vector<3>) {
+        if self.on_traced(&y0) {
+            return;
+        }
+        let up = Vector::<3>::new(0.0, 0.0, 1.0);
+        // A degenerate seed is skipped: its branches are reached from the others.
+        let Some((t0, det0)) = tangent(&self.curve, &y0, &up) else {
+            return;
+        };
+        let first = self.segments.len();
+        let closed = self.trace(y0, t0, Some(det0));
+        let starts_at_seed = |seg: Option<&Vec<Vector<3>>>| seg.is_some_and(|s| s[0] == y0);
+        if closed {
+            // Around the loop: the last piece ends where the first begins.
+            let last = self.segments.len() - 1;
+            if last > first && starts_at_seed(self.segments.get(first)) {
+                let tail = self.segments.remove(last);
+                let head = std::mem::take(&mut self.segments[first]);
+                self.segments[first] = tail.into_iter().chain(head.into_iter().skip(1)).collect();
+            }
+            return;
+        }
+        let Some((t1, det1)) = tangent(&self.curve, &y0, &-up) else {
+            return;
+        };
+        let second = self.segments.len();
+        self.trace(y0, t1, Some(det1));
+        if starts_at_seed(self.segments.get(first)) && starts_at_seed(self.segments.get(second)) {
+            let back = self.segments.remove(second);
+            let ahead = std::mem::take(&mut self.segments[first]);
+            self.segments[first] = back
+                .into_iter()
+                .rev()
+                .chain(ahead.into_iter().skip(1))
+                .collect();
+        }
     }
 
     /// Follow one curve from y0 along t0 until it ends (range, window, branch
-    /// point, closed loop, budget). Splits the trace at saddle-nodes.
-    fn trace(&mut self, y0: Vector<3>, t0: Vector<3>, det0: Option<f64>) {
+    /// point, closed loop, budget). Splits the trace at saddle-nodes. True
+    /// when the curve closed on itself.
+    fn trace(&mut self, y0: Vector<3>, t0: Vector<3>, det0: Option<f64>) -> bool {
         let mut seg = vec![y0];
         let (mut y, mut t) = (y0, t0);
         let mut det = det0;
         let mut h = self.cfg.step.initial;
         let mut total = 0usize;
+        let mut closed = false;
         loop {
-            if self.cancel.is_cancelled() {
-                self.cancelled = true;
-                break;
-            }
-            if self.steps >= self.cfg.max_steps {
-                if !self.out_of_steps {
-                    self.diagnostics.push(Diagnostic::warning(format!(
-                        "the sweep stopped after {} continuation steps; some branches may be incomplete",
-                        self.steps
-                    )));
-                }
-                self.out_of_steps = true;
-                break;
-            }
-            let Some(st) = advance(&self.curve, &y, &t, h, &self.cfg.step) else {
-                let x = self.curve.x(&y);
-                self.diagnostics.push(Diagnostic::warning(format!(
-                    "a branch could not be continued past q = {:.6}, p = {:.6}, {} = {:.6}",
-                    x[0],
-                    x[1],
-                    self.param_name(),
-                    x[2]
-                )));
+            let curve = &self.curve;
+            let Some(st) = self.walk.step(
+                curve,
+                &y,
+                &t,
+                h,
+                &self.cfg.step,
+                |n| {
+                    format!(
+                        "the sweep stopped after {n} continuation steps; some branches may be incomplete"
+                    )
+                },
+                || {
+                    let x = curve.x(&y);
+                    format!(
+                        "a branch could not be continued past q = {:.6}, p = {:.6}, {} = {:.6}",
+                        x[0],
+                        x[1],
+                        curve.param_name(),
+                        x[2]
+                    )
+                },
+            ) else {
                 break;
             };
-            self.steps += 1;
             total += 1;
             (self.progress)(SweepProgress {
-                steps: self.steps,
+                steps: self.walk.steps,
                 max_steps: self.cfg.max_steps,
                 branches: self.segments.len(),
             });
@@ -859,12 +1012,12 @@ impl Tracer<'_> {
                         self.finish(std::mem::take(&mut seg));
                         let arriving = (yb - y).try_normalize(0.0).unwrap_or(t);
                         self.branch_point(yb, arriving);
-                        return;
+                        return false;
                     }
                     Some(_) => {}
                     None => {
                         let x = self.curve.x(&y);
-                        self.diagnostics.push(Diagnostic::warning(format!(
+                        self.walk.diagnostics.push(Diagnostic::warning(format!(
                             "a branch point near q = {:.6}, p = {:.6}, {} = {:.6} could not be located",
                             x[0],
                             x[1],
@@ -890,10 +1043,8 @@ impl Tracer<'_> {
             }
             if !inside(&st.y, &self.bounds, 0.0) {
                 let last = seg.last().copied().unwrap_or(y);
-                if let Some((j, bound)) = first_exit(&last, &st.y, &self.bounds)
-                    && let Some(yc) =
-                        point_at_coordinate(&self.curve, &last, &st.y, j, bound, &self.cfg.step)
-                    && inside(&yc, &self.bounds, 1e-12)
+                if let Some((yc, j)) =
+                    exit_point(&self.curve, &last, &st.y, &self.bounds, &self.cfg.step)
                 {
                     seg.push(yc);
                     if j == 2 {
@@ -905,6 +1056,7 @@ impl Tracer<'_> {
             seg.push(st.y);
             if total > 8 && det0.is_some() && (st.y - y0).norm() < 0.5 * st.h {
                 seg.push(y0);
+                closed = true;
                 break;
             }
             y = st.y;
@@ -913,6 +1065,7 @@ impl Tracer<'_> {
             h = next_step_length(st.h, st.iterations, &self.cfg.step);
         }
         self.finish(seg);
+        closed
     }
 
     fn finish(&mut self, seg: Vec<Vector<3>>) {
@@ -1041,7 +1194,7 @@ impl Tracer<'_> {
             }
             None => {
                 let x = self.curve.x(&yb);
-                self.diagnostics.push(Diagnostic::warning(format!(
+                self.walk.diagnostics.push(Diagnostic::warning(format!(
                     "a degenerate branch point at q = {:.6}, p = {:.6}, {} = {:.6} was not resolved; \
                      branches through it may be missing",
                     x[0],
@@ -1075,7 +1228,9 @@ fn seeds_at(
 /// Trace every branch of equilibria of `sys` as the parameter `param` moves
 /// from `from` to `to`, inside `window`.
 ///
-/// Branches start at every equilibrium in view at both ends of the range;
+/// Branches start at every equilibrium in view at both ends of the range,
+/// then at those at a few values inside it that no traced branch passes
+/// (so isolas and branches born and dying inside the range are found);
 /// branch points spawn the branches through them; each piece of curve is
 /// traced once. `progress` is called after every accepted step (from the
 /// calling thread); `cancel` stops the work early with partial results.
@@ -1146,26 +1301,37 @@ pub fn sweep_index(
         curve,
         bounds,
         cfg,
-        cancel,
         progress,
-        steps: 0,
+        walk: Walk::new(cancel, cfg.max_steps),
         segments: Vec::new(),
         bifurcations: Vec::new(),
         nodes: Vec::new(),
         seeds,
         queue: VecDeque::new(),
-        diagnostics: Vec::new(),
-        cancelled: false,
-        out_of_steps: false,
     };
-    if tracer.seeds.is_empty() {
-        tracer.diagnostics.push(Diagnostic::info(format!(
-            "no equilibria in view at {name} = {lo} or {name} = {hi}; nothing to continue"
+    tracer.run();
+    // Branches that reach neither end (an isola, a pair born at one
+    // saddle-node and dying at another) are seeded inside the range.
+    let mut interior_seeds = 0usize;
+    for f in INTERIOR_SEED_FRACTIONS {
+        if tracer.walk.stopped() || cancel.is_cancelled() {
+            break;
+        }
+        let mu = lo + f * (hi - lo);
+        let found = seeds_at(&tracer.curve.at(mu), window, &cfg.equilibria, cancel);
+        interior_seeds += found.len();
+        for [q, p] in found {
+            tracer.trace_interior(Vector::<3>::new(q / scale[0], p / scale[1], mu / scale[2]));
+            tracer.drain();
+        }
+    }
+    if tracer.seeds.is_empty() && interior_seeds == 0 {
+        tracer.walk.diagnostics.push(Diagnostic::info(format!(
+            "no equilibria in view for {name} in {lo} .. {hi}; nothing to continue"
         )));
     }
-    tracer.run();
     if cancel.is_cancelled() {
-        tracer.cancelled = true;
+        tracer.walk.cancelled = true;
     }
     let curve = &tracer.curve;
     let mut bifurcations: Vec<Bifurcation> = tracer
@@ -1235,8 +1401,8 @@ pub fn sweep_index(
         to,
         branches,
         bifurcations,
-        diagnostics: tracer.diagnostics,
-        steps: tracer.steps,
-        cancelled: tracer.cancelled,
+        steps: tracer.walk.steps,
+        cancelled: tracer.walk.cancelled,
+        diagnostics: tracer.walk.diagnostics,
     })
 }

@@ -156,6 +156,125 @@ pub fn sample_grid(sys: &System, window: &Window, nq: usize, np: usize) -> Grid 
     }
 }
 
+/// Bisections along a grid edge that confirm a jump in H (each halves the bracket).
+const JUMP_BISECTIONS: usize = 10;
+/// After the bisections, an edge still rising by more than this fraction of
+/// its whole rise holds a pole or a jump rather than a steep stretch.
+const JUMP_KEEP_REL: f64 = 0.5;
+
+/// Grid samples set blank by [`blank_jumps`].
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct Jumps {
+    /// Samples set to NaN.
+    pub samples: usize,
+    /// The first edge found, as its midpoint (q, p).
+    pub first: Option<(f64, f64)>,
+}
+
+/// Blank the grid where H has a pole or a jump between two neighbouring
+/// samples (1/q, tan q, a sawtooth): marching squares would otherwise draw
+/// level curves straight across it, joining −∞ to +∞.
+///
+/// An edge is suspect when its rise has the opposite sign to both neighbouring
+/// edges' rises in the same row or column and is larger than both together — a
+/// zig-zag that a continuous H resolved by the grid cannot make. A suspect is
+/// confirmed by bisection on the exact H: the sub-edge across which H keeps
+/// crossing the edge's middle value is halved [`JUMP_BISECTIONS`] times; for
+/// a continuous H its rise shrinks with it, at a pole or jump it does not
+/// (more than [`JUMP_KEEP_REL`] of the whole rise is left, or H is not finite
+/// on the way). Both samples of a confirmed edge become NaN, so the cells
+/// around it are blank, and the grid's range and non-finite share are updated.
+pub fn blank_jumps(sys: &System, grid: &mut Grid) -> Jumps {
+    let (nq, np) = (grid.nq, grid.np);
+    let mut marked: Vec<usize> = Vec::new();
+    let mut first = None;
+    let v = &grid.values;
+    // (index of the edge's first sample, stride to the next sample, count of samples on the line)
+    let mut lines: Vec<(usize, usize, usize)> = (0..np).map(|j| (j * nq, 1, nq)).collect();
+    lines.extend((0..nq).map(|i| (i, nq, np)));
+    for (start, stride, n) in lines {
+        if n < 3 {
+            continue;
+        }
+        let rise = |k: usize| v[start + (k + 1) * stride] - v[start + k * stride];
+        for k in 0..n - 1 {
+            let d = rise(k);
+            if !d.is_finite() || d == 0.0 {
+                continue;
+            }
+            let nbs = [k.checked_sub(1).map(rise), (k + 2 < n).then(|| rise(k + 1))];
+            let finite: Vec<f64> = nbs
+                .iter()
+                .flatten()
+                .copied()
+                .filter(|x| x.is_finite())
+                .collect();
+            if finite.is_empty() || finite.iter().any(|&x| x * d >= 0.0) {
+                continue;
+            }
+            let sum: f64 = finite.iter().map(|x| x.abs()).sum();
+            let needed = if finite.len() == 2 { sum } else { 2.0 * sum };
+            if d.abs() <= needed {
+                continue;
+            }
+            let (a, b) = (start + k * stride, start + (k + 1) * stride);
+            let at = |idx: usize| (grid.q(idx % nq), grid.p(idx / nq));
+            if edge_jumps(sys, at(a), at(b), v[a], v[b]) {
+                marked.push(a);
+                marked.push(b);
+                if first.is_none() {
+                    let ((qa, pa), (qb, pb)) = (at(a), at(b));
+                    first = Some((0.5 * (qa + qb), 0.5 * (pa + pb)));
+                }
+            }
+        }
+    }
+    marked.sort_unstable();
+    marked.dedup();
+    if marked.is_empty() {
+        return Jumps::default();
+    }
+    for &idx in &marked {
+        grid.values[idx] = f64::NAN;
+    }
+    let (mut lo, mut hi, mut bad) = (f64::INFINITY, f64::NEG_INFINITY, 0usize);
+    for &x in &grid.values {
+        if x.is_nan() {
+            bad += 1;
+        } else {
+            lo = lo.min(x);
+            hi = hi.max(x);
+        }
+    }
+    let total = grid.values.len().max(1);
+    grid.nonfinite_fraction = bad as f64 / total as f64;
+    grid.range = (bad < grid.values.len()).then_some((lo, hi));
+    Jumps {
+        samples: marked.len(),
+        first,
+    }
+}
+
+/// Whether H jumps (or has a pole) between the samples at `a` and `b`.
+fn edge_jumps(sys: &System, a: (f64, f64), b: (f64, f64), fa: f64, fb: f64) -> bool {
+    let whole = (fb - fa).abs();
+    let mid_level = 0.5 * (fa + fb);
+    let (mut a, mut b, mut fa, mut fb) = (a, b, fa, fb);
+    for _ in 0..JUMP_BISECTIONS {
+        let m = (0.5 * (a.0 + b.0), 0.5 * (a.1 + b.1));
+        let fm = sys.energy(m.0, m.1);
+        if !fm.is_finite() {
+            return true;
+        }
+        if (fm - mid_level).signum() == (fa - mid_level).signum() {
+            (a, fa) = (m, fm);
+        } else {
+            (b, fb) = (m, fm);
+        }
+    }
+    (fb - fa).abs() > JUMP_KEEP_REL * whole
+}
+
 /// Store infinities as NaN; return the count of non-finite samples and the
 /// finite range of the row (lanes of four so the loop vectorises).
 fn scan_row(row: &mut [f64]) -> (usize, f64, f64) {

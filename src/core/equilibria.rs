@@ -241,19 +241,12 @@ fn polish(
     q0: f64,
     p0: f64,
 ) -> Option<Polished> {
-    let (mut q, mut p) = (q0, p0);
-    let mut cur = local_at(sys, s, q, p)?;
-    let mut last_step = f64::INFINITY;
-    let mut end = End::Exhausted;
     let mut by_newton = false;
     let mut lm = 0.0;
     let mut prev_len = f64::INFINITY;
     let mut prev_ratio = f64::NAN;
-    for _ in 0..max_iter {
-        if cur.merit == 0.0 {
-            end = End::Exact;
-            break;
-        }
+    let stop = |q: f64, p: f64| !escape.contains(q, p);
+    let it = iterate(sys, s, max_iter, (q0, p0), stop, |q, p, cur| {
         let mut next: Option<(f64, f64, Local, f64)> = None;
         by_newton = true;
         // Newton direction, backtracking on |∇H|²; at a root of multiplicity m
@@ -315,8 +308,7 @@ fn polish(
             ];
             let mag2 = 0.5 * (h2[0][0] + h2[1][1]);
             if hg[0] == 0.0 && hg[1] == 0.0 || mag2.is_nan() || mag2 <= 0.0 {
-                end = End::Stalled;
-                break;
+                return Next::Stalled;
             }
             if lm <= 0.0 {
                 lm = LM_START_REL * mag2;
@@ -336,26 +328,82 @@ fn polish(
                 lm *= 10.0;
             }
         }
-        let Some((nq, np, nl, step)) = next else {
-            // no step lowers |∇H|²: a local minimum of the residual
-            end = End::Stalled;
+        // no step lowers |∇H|²: a local minimum of the residual
+        next.map_or(Next::Stalled, |(q, p, l, step)| Next::To(q, p, l, step))
+    })?;
+    tol.verdict(it.end, by_newton, it.residual, it.last_step)
+        .then_some(Polished {
+            q: it.q,
+            p: it.p,
+            residual: it.residual,
+        })
+}
+
+/// What one iteration proposes.
+enum Next {
+    /// Move to (q, p) with this local state, by a step of this length (window units).
+    To(f64, f64, Local, f64),
+    /// No step lowers the residual.
+    Stalled,
+    /// Give up on this start.
+    Abandon,
+}
+
+/// Where an iteration ended.
+struct Iterated {
+    q: f64,
+    p: f64,
+    residual: f64,
+    end: End,
+    last_step: f64,
+}
+
+/// The frame of the damped Newton iterations: from `start`, `next` proposes
+/// each move from (q, p) with its local state until ∇H is exactly zero, a
+/// step is shorter than [`STEP_CONVERGED_REL`], no step helps, or `max_iter`
+/// moves are made. None when `next` abandons or a move lands where `stop` says.
+fn iterate(
+    sys: &System,
+    s: Scale,
+    max_iter: usize,
+    start: (f64, f64),
+    stop: impl Fn(f64, f64) -> bool,
+    mut next: impl FnMut(f64, f64, &Local) -> Next,
+) -> Option<Iterated> {
+    let (mut q, mut p) = start;
+    let mut cur = local_at(sys, s, q, p)?;
+    let mut last_step = f64::INFINITY;
+    let mut end = End::Exhausted;
+    for _ in 0..max_iter {
+        if cur.merit == 0.0 {
+            end = End::Exact;
             break;
-        };
-        q = nq;
-        p = np;
-        cur = nl;
-        last_step = step;
-        if !escape.contains(q, p) {
+        }
+        match next(q, p, &cur) {
+            Next::To(nq, np, nl, step) => {
+                (q, p, cur, last_step) = (nq, np, nl, step);
+            }
+            Next::Stalled => {
+                end = End::Stalled;
+                break;
+            }
+            Next::Abandon => return None,
+        }
+        if stop(q, p) {
             return None;
         }
-        if step <= STEP_CONVERGED_REL {
+        if last_step <= STEP_CONVERGED_REL {
             end = End::Converged;
             break;
         }
     }
-    let residual = cur.merit.sqrt();
-    tol.verdict(end, by_newton, residual, last_step)
-        .then_some(Polished { q, p, residual })
+    Some(Iterated {
+        q,
+        p,
+        residual: cur.merit.sqrt(),
+        end,
+        last_step,
+    })
 }
 
 /// How an iteration ended.
@@ -564,23 +612,15 @@ fn polish_deflated(
         }
         (grad, ln_m)
     };
-    let (mut q, mut p) = seed;
-    let mut cur = local_at(sys, s, q, p)?;
-    let mut last_step = f64::INFINITY;
-    let mut end = End::Exhausted;
-    for _ in 0..max_iter {
-        if cur.merit == 0.0 {
-            end = End::Exact;
-            break;
-        }
+    let stop = |q: f64, p: f64| ((q - centre.0) / s.wq).hypot((p - centre.1) / s.wp) > reach;
+    let it = iterate(sys, s, max_iter, seed, stop, |q, p, cur| {
         let Some(d) = solve2(cur.h, [-cur.g[0], -cur.g[1]]) else {
-            end = End::Stalled;
-            break;
+            return Next::Stalled;
         };
         let (gl, ln_m) = deflation(q, p);
         let tau = 1.0 / (1.0 - (gl[0] * d[0] + gl[1] * d[1]));
         if !tau.is_finite() {
-            return None;
+            return Next::Abandon;
         }
         let d = [tau * d[0], tau * d[1]];
         let len = d[0].hypot(d[1]);
@@ -598,27 +638,16 @@ fn polish_deflated(
             }
             alpha *= 0.5;
         }
-        let Some((nq, np, nl, step)) = next else {
-            end = End::Stalled;
-            break;
-        };
-        q = nq;
-        p = np;
-        cur = nl;
-        last_step = step;
-        if ((q - centre.0) / s.wq).hypot((p - centre.1) / s.wp) > reach {
-            return None;
-        }
-        if step <= STEP_CONVERGED_REL {
-            end = End::Converged;
-            break;
-        }
-    }
+        next.map_or(Next::Stalled, |(q, p, l, step)| Next::To(q, p, l, step))
+    })?;
     // near a degenerate known root |∇H| is tiny everywhere, so only a
     // converged iteration counts here
-    let residual = cur.merit.sqrt();
-    let done = matches!(end, End::Exact | End::Converged);
-    (done && tol.verdict(end, true, residual, last_step)).then_some(Polished { q, p, residual })
+    let done = matches!(it.end, End::Exact | End::Converged);
+    (done && tol.verdict(it.end, true, it.residual, it.last_step)).then_some(Polished {
+        q: it.q,
+        p: it.p,
+        residual: it.residual,
+    })
 }
 
 /// All equilibria inside `window`, sorted by q then p, with diagnostics.

@@ -23,9 +23,8 @@
 
 use super::continuation::{BifurcationKind, SweepProgress};
 use super::continuation::{
-    ContinuationError, Curve, Matrix, StepConfig, SweepConfig, Vector, advance,
-    distance_to_polyline, first_exit, illinois, inside, next_step_length, point_at_coordinate,
-    point_between, sweep_index, tangent,
+    ContinuationError, Curve, Matrix, StepConfig, SweepConfig, Vector, Walk, distance_to_polyline,
+    exit_point, illinois, inside, next_step_length, point_between, sweep_index, tangent,
 };
 use super::system::System;
 use super::window::Window;
@@ -165,14 +164,10 @@ struct FoldTracer<'a> {
     fold: FoldSystem<'a>,
     bounds: [(f64, f64); 4],
     cfg: &'a FoldConfig,
-    cancel: &'a Cancel,
     progress: &'a dyn Fn(FoldProgress),
-    steps: usize,
+    walk: Walk<'a>,
     curves: Vec<(Vec<Vector<4>>, bool)>,
     cusps: Vec<Vector<4>>,
-    diagnostics: Vec<Diagnostic>,
-    cancelled: bool,
-    out_of_steps: bool,
 }
 
 impl FoldTracer<'_> {
@@ -181,31 +176,26 @@ impl FoldTracer<'_> {
         let (mut y, mut t) = (y0, t0);
         let mut h = self.cfg.step.initial;
         loop {
-            if self.cancel.is_cancelled() {
-                self.cancelled = true;
-                break;
-            }
-            if self.steps >= self.cfg.max_steps {
-                if !self.out_of_steps {
-                    self.diagnostics.push(Diagnostic::warning(format!(
-                        "the fold curves stopped after {} continuation steps; some may be incomplete",
-                        self.steps
-                    )));
-                }
-                self.out_of_steps = true;
-                break;
-            }
-            let Some(st) = advance(&self.fold, &y, &t, h, &self.cfg.step) else {
-                let x = self.fold.x(&y);
-                self.diagnostics.push(Diagnostic::warning(format!(
-                    "a fold curve could not be continued past ({:.6}, {:.6})",
-                    x[2], x[3]
-                )));
+            let fold = &self.fold;
+            let Some(st) = self.walk.step(
+                fold,
+                &y,
+                &t,
+                h,
+                &self.cfg.step,
+                |n| format!("the fold curves stopped after {n} continuation steps; some may be incomplete"),
+                || {
+                    let x = fold.x(&y);
+                    format!(
+                        "a fold curve could not be continued past ({:.6}, {:.6})",
+                        x[2], x[3]
+                    )
+                },
+            ) else {
                 break;
             };
-            self.steps += 1;
             (self.progress)(FoldProgress {
-                steps: self.steps,
+                steps: self.walk.steps,
                 max_steps: self.cfg.max_steps,
                 curves: self.curves.len(),
             });
@@ -218,10 +208,8 @@ impl FoldTracer<'_> {
                 self.cusps.push(yc);
             }
             if !inside(&st.y, &self.bounds, 0.0) {
-                if let Some((j, bound)) = first_exit(&y, &st.y, &self.bounds)
-                    && let Some(yc) =
-                        point_at_coordinate(&self.fold, &y, &st.y, j, bound, &self.cfg.step)
-                    && inside(&yc, &self.bounds, 1e-12)
+                if let Some((yc, _)) =
+                    exit_point(&self.fold, &y, &st.y, &self.bounds, &self.cfg.step)
                 {
                     pts.push(yc);
                 }
@@ -411,6 +399,8 @@ pub fn fold_curves(
             "no saddle-node was found on the edges or the seed lines of the box",
         ));
     }
+    let mut walk = Walk::new(cancel, cfg.max_steps);
+    walk.diagnostics = diagnostics;
     let mut tracer = FoldTracer {
         fold: FoldSystem {
             sys,
@@ -420,17 +410,13 @@ pub fn fold_curves(
         },
         bounds: ybounds,
         cfg,
-        cancel,
         progress,
-        steps: 0,
+        walk,
         curves: Vec::new(),
         cusps: Vec::new(),
-        diagnostics,
-        cancelled: false,
-        out_of_steps: false,
     };
     for seed in seeds {
-        if tracer.cancelled || tracer.out_of_steps {
+        if tracer.walk.stopped() {
             break;
         }
         if tracer
@@ -443,7 +429,7 @@ pub fn fold_curves(
         tracer.trace_from(seed);
     }
     if cancel.is_cancelled() {
-        tracer.cancelled = true;
+        tracer.walk.cancelled = true;
     }
     let fold = &tracer.fold;
     let curves = tracer
@@ -460,8 +446,8 @@ pub fn fold_curves(
         bounds,
         curves,
         cusps,
-        diagnostics: tracer.diagnostics,
-        steps: tracer.steps,
-        cancelled: tracer.cancelled,
+        steps: tracer.walk.steps,
+        cancelled: tracer.walk.cancelled,
+        diagnostics: tracer.walk.diagnostics,
     })
 }

@@ -85,6 +85,7 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
                 ui.heading(match purpose {
                     DialogPurpose::Open => "Open a session file",
                     DialogPurpose::SaveAs => "Save the session as",
+                    DialogPurpose::Export(..) => "Export to",
                 });
                 if !note.is_empty() {
                     ui.small(note.as_str());
@@ -97,10 +98,10 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
                 let mut done = false;
                 ui.horizontal(|ui| {
                     let ok = ui
-                        .button(if purpose == DialogPurpose::Open {
-                            "Open"
-                        } else {
-                            "Save"
+                        .button(match purpose {
+                            DialogPurpose::Open => "Open",
+                            DialogPurpose::SaveAs => "Save",
+                            DialogPurpose::Export(..) => "Export",
                         })
                         .clicked();
                     if (ok || enter) && !text.trim().is_empty() {
@@ -108,6 +109,9 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
                         out.push(match purpose {
                             DialogPurpose::Open => Command::OpenFile(path),
                             DialogPurpose::SaveAs => Command::SaveTo(path),
+                            DialogPurpose::Export(view, format) => {
+                                Command::ExportTo(view, format, path)
+                            }
                         });
                         done = true;
                     }

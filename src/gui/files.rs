@@ -147,6 +147,8 @@ impl DataDir {
 pub enum DialogPurpose {
     Open,
     SaveAs,
+    /// Export a view as a figure or table.
+    Export(crate::render::View, crate::render::ExportFormat),
 }
 
 /// A native dialog running on its own thread.
@@ -205,13 +207,19 @@ impl PendingDialog {
         let spawned = std::thread::Builder::new()
             .name("phasewright-dialog".into())
             .spawn(move || {
-                let mut d = rfd::FileDialog::new().add_filter("phasewright session", &["json"]);
+                let mut d = match purpose {
+                    DialogPurpose::Export(_, format) => rfd::FileDialog::new()
+                        .add_filter(export_filter(format), &[export_extension(format)]),
+                    _ => rfd::FileDialog::new().add_filter("phasewright session", &["json"]),
+                };
                 if let Some(dir) = start_dir {
                     d = d.set_directory(dir);
                 }
                 let chosen = match purpose {
                     DialogPurpose::Open => d.pick_file(),
-                    DialogPurpose::SaveAs => d.set_file_name(name).save_file(),
+                    DialogPurpose::SaveAs | DialogPurpose::Export(..) => {
+                        d.set_file_name(name).save_file()
+                    }
                 };
                 let _ = tx.send(chosen);
             });
@@ -234,4 +242,40 @@ impl PendingDialog {
             Err(std::sync::mpsc::TryRecvError::Disconnected) => Some(DialogOutcome::Unavailable),
         }
     }
+}
+
+/// The file extension an export writes.
+pub fn export_extension(format: crate::render::ExportFormat) -> &'static str {
+    use crate::render::{ExportFormat, FigureFormat};
+    match format {
+        ExportFormat::Figure(FigureFormat::Svg) => "svg",
+        ExportFormat::Figure(FigureFormat::Png) => "png",
+        ExportFormat::Csv(_) => "csv",
+        ExportFormat::Json(_) => "json",
+    }
+}
+
+fn export_filter(format: crate::render::ExportFormat) -> &'static str {
+    use crate::render::{ExportFormat, FigureFormat};
+    match format {
+        ExportFormat::Figure(FigureFormat::Svg) => "SVG figure",
+        ExportFormat::Figure(FigureFormat::Png) => "PNG image",
+        ExportFormat::Csv(_) => "CSV table",
+        ExportFormat::Json(_) => "JSON table",
+    }
+}
+
+/// A file name for an export of `view`: "diagram.png", "portrait-wells.csv".
+pub fn export_file_name(view: crate::render::View, format: crate::render::ExportFormat) -> String {
+    use crate::render::{ExportFormat, PortraitTable, View};
+    let table = match (view, format) {
+        (View::Portrait, ExportFormat::Csv(t) | ExportFormat::Json(t)) => match t {
+            PortraitTable::Equilibria => "-equilibria",
+            PortraitTable::Wells => "-wells",
+            PortraitTable::Orbits => "-orbits",
+            PortraitTable::Samples => "-samples",
+        },
+        _ => "",
+    };
+    format!("{}{table}.{}", view.name(), export_extension(format))
 }

@@ -12,6 +12,8 @@ pub enum EditKind {
     ParameterRange(String),
     View,
     Orbits,
+    /// Settings of the diagram panes.
+    Panes,
     /// Never coalesces (load, new, restore, delete).
     Other,
 }

@@ -4,12 +4,18 @@ use std::path::PathBuf;
 
 use super::files::EXAMPLES;
 use super::{Command, Guarded};
+use crate::render::{ExportFormat, FigureFormat, PortraitTable, View};
+use crate::scene::BackbonePlot;
 
 pub struct MenuState<'a> {
     pub recent: &'a [PathBuf],
     pub can_undo: bool,
     pub can_redo: bool,
     pub dark: bool,
+    /// The session has sweep settings (the diagram can be exported).
+    pub has_sweep: bool,
+    /// The session has fold-curve settings.
+    pub has_folds: bool,
 }
 
 pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
@@ -65,6 +71,7 @@ pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
                 out.push(Command::Guarded(Guarded::Quit));
             }
         });
+        ui.menu_button("Export", |ui| export_menu(ui, st, &mut out));
         ui.menu_button("Examples", |ui| {
             if EXAMPLES.is_empty() {
                 if ui.button("Double well (built in)").clicked() {
@@ -120,4 +127,69 @@ pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
 /// "pendulum_resonance.json" → "pendulum resonance".
 pub fn example_title(file_name: &str) -> String {
     file_name.trim_end_matches(".json").replace(['_', '-'], " ")
+}
+
+/// Figures (SVG, PNG) and tables (CSV, JSON) of each view; a view the
+/// session has no settings for is greyed out.
+fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
+    let figures = [
+        ("Figure (SVG)…", ExportFormat::Figure(FigureFormat::Svg)),
+        ("Figure (PNG)…", ExportFormat::Figure(FigureFormat::Png)),
+    ];
+    ui.menu_button("Portrait", |ui| {
+        for (label, format) in figures {
+            if ui.button(label).clicked() {
+                out.push(Command::Export(View::Portrait, format));
+            }
+        }
+        ui.separator();
+        for (name, table) in [
+            ("Equilibria", PortraitTable::Equilibria),
+            ("Wells", PortraitTable::Wells),
+            ("Orbits", PortraitTable::Orbits),
+            ("Orbit samples", PortraitTable::Samples),
+        ] {
+            for (kind, format) in [
+                ("CSV", ExportFormat::Csv(table)),
+                ("JSON", ExportFormat::Json(table)),
+            ] {
+                if ui.button(format!("{name} ({kind})…")).clicked() {
+                    out.push(Command::Export(View::Portrait, format));
+                }
+            }
+        }
+    });
+    let views = [
+        ("Bifurcation diagram", View::Diagram, st.has_sweep),
+        (
+            "Backbone: period against energy",
+            View::Backbone(BackbonePlot::PeriodEnergy),
+            true,
+        ),
+        (
+            "Backbone: frequency against amplitude",
+            View::Backbone(BackbonePlot::FrequencyAmplitude),
+            true,
+        ),
+        ("Fold curves", View::Folds, st.has_folds),
+    ];
+    for (name, view, enabled) in views {
+        ui.add_enabled_ui(enabled, |ui| {
+            ui.menu_button(name, |ui| {
+                for (label, format) in figures {
+                    if ui.button(label).clicked() {
+                        out.push(Command::Export(view, format));
+                    }
+                }
+                ui.separator();
+                let table = PortraitTable::default();
+                if ui.button("Table (CSV)…").clicked() {
+                    out.push(Command::Export(view, ExportFormat::Csv(table)));
+                }
+                if ui.button("Table (JSON)…").clicked() {
+                    out.push(Command::Export(view, ExportFormat::Json(table)));
+                }
+            });
+        });
+    }
 }

@@ -13,7 +13,9 @@ mod menu_bar;
 pub mod orbits;
 mod params_panel;
 mod plot_panel;
+mod scene_plot;
 mod tables_panel;
+mod views_panel;
 mod worker;
 
 use crate::core::formula::Formula;
@@ -29,7 +31,9 @@ pub use files::{DATA_DIR_ENV, EXAMPLES, NO_NATIVE_DIALOG_ENV};
 pub use formula_panel::EDITOR_LABEL;
 pub use plot_panel::PLOT_LABEL;
 pub use tables_panel::{equilibrium_rows, orbit_row, well_rows};
+pub use views_panel::{BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, PaneSettings};
 
+use crate::render;
 use dialogs::Modal;
 use files::{DataDir, DialogOutcome, DialogPurpose, PendingDialog};
 use history::{EditKind, History};
@@ -46,6 +50,10 @@ const PARAM_SETTLE_SECONDS: f64 = 1.0;
 const AUTOSAVE_SECONDS: f64 = 4.0;
 /// Longest integration time of an orbit launched by a click (a closed orbit stops after one period).
 const DEFAULT_ORBIT_DURATION: f64 = 200.0;
+/// A crossed bifurcation is named on the portrait this long at full strength (s)…
+const ANNOUNCE_HOLD_SECONDS: f64 = 2.5;
+/// …then fades out over this long (s).
+const ANNOUNCE_FADE_SECONDS: f64 = 1.5;
 
 /// What is selected in the tables (and highlighted in the plot).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -116,6 +124,11 @@ pub enum Command {
         dragging: bool,
     },
     Select(Selection),
+    /// New settings of the diagram panes (sweep, fold box, backbone center).
+    SetPanes {
+        settings: PaneSettings,
+        dragging: bool,
+    },
     Guarded(Guarded),
     Confirmed(Guarded),
     OpenFile(PathBuf),
@@ -123,12 +136,30 @@ pub enum Command {
     SaveAs,
     SavePrompt,
     SaveTo(PathBuf),
+    /// Export a view as a figure or table: ask where.
+    Export(render::View, render::ExportFormat),
+    /// Export a view to this file (off the UI thread).
+    ExportTo(render::View, render::ExportFormat, PathBuf),
     Undo,
     Redo,
     SetDark(bool),
     ShowAbout,
     RestoreRecovery,
     DiscardRecovery,
+}
+
+/// What the diagram panes read this frame (a macro so that the borrow of
+/// these fields stays apart from the borrow of the panes themselves).
+macro_rules! pane_inputs {
+    ($ex:expr, $system:expr) => {
+        views_panel::Inputs {
+            system: $system,
+            session: &$ex.session,
+            analysis: $ex.shown.as_ref().map(|c| c.analysis.as_ref()),
+            selection: $ex.selection,
+            dragging: $ex.dragging,
+        }
+    };
 }
 
 /// The explorer's whole state.
@@ -149,6 +180,9 @@ pub struct Explorer {
     params: params_panel::ParamsPanel,
     plot: plot_panel::PlotPanel,
     tables: tables_panel::TablesPanel,
+    views: views_panel::ViewsPanel,
+    /// A bifurcation the last parameter move crossed, and when.
+    announcement: Option<(String, f64)>,
     shown: Option<Computed>,
     last_spec: Option<(JobSpec, bool)>,
     /// The view the session started with (Reset view goes back to it).
@@ -158,6 +192,8 @@ pub struct Explorer {
     param_settle_at: Option<f64>,
     modal: Modal,
     pending_dialog: Option<PendingDialog>,
+    /// Exports running on their own threads; each answers with its outcome.
+    exports: Vec<std::sync::mpsc::Receiver<Result<String, String>>>,
     data: Option<DataDir>,
     recent: Vec<PathBuf>,
     dark: bool,
@@ -182,6 +218,7 @@ impl Explorer {
         data_dir: Option<PathBuf>,
     ) -> Result<Explorer, String> {
         let worker = Worker::start()?;
+        let views = views_panel::ViewsPanel::start(worker.repaint_slot())?;
         let data = data_dir.map(|dir| DataDir { dir });
         let recent = data.as_ref().map(|d| d.recent()).unwrap_or_default();
         let offer = data
@@ -210,6 +247,8 @@ impl Explorer {
             params: params_panel::ParamsPanel::default(),
             plot: plot_panel::PlotPanel::default(),
             tables: tables_panel::TablesPanel::default(),
+            views,
+            announcement: None,
             shown: None,
             last_spec: None,
             dragging: false,
@@ -221,6 +260,7 @@ impl Explorer {
                 Modal::None
             },
             pending_dialog: None,
+            exports: Vec::new(),
             data,
             recent,
             dark: false,
@@ -303,10 +343,62 @@ impl Explorer {
         format!("{}{name} — phasewright", if self.dirty { "● " } else { "" })
     }
 
-    /// True while a job newer than the shown result is outstanding.
+    /// True while a job newer than the shown result is outstanding (portrait or panes).
     pub fn busy(&self) -> bool {
+        self.portrait_busy() || self.views.busy()
+    }
+
+    fn portrait_busy(&self) -> bool {
         let shown = self.shown.as_ref().map_or(0, |c| c.generation);
         self.worker.latest_generation() > shown || self.shown.as_ref().is_some_and(|c| c.coarse)
+    }
+
+    /// The sweep the diagram pane shows.
+    pub fn sweep(&self) -> Option<&crate::core::continuation::Sweep> {
+        self.views.sweep()
+    }
+
+    /// The data range of the diagram as drawn, [xmin, xmax, ymin, ymax] (tests).
+    pub fn diagram_bounds(&self) -> Option<[f64; 4]> {
+        self.views.diagram_bounds()
+    }
+
+    /// The fold curves the fold pane shows.
+    pub fn folds(&self) -> Option<&crate::core::folds::FoldCurves> {
+        self.views.folds()
+    }
+
+    /// The backbone the backbone pane shows.
+    pub fn backbone(&self) -> Option<&crate::core::backbone::Backbone> {
+        self.views.backbone()
+    }
+
+    /// The bifurcation named on the portrait now, if any.
+    pub fn announcement(&self) -> Option<&str> {
+        self.announcement_strength()
+            .map(|_| self.announcement.as_ref().map_or("", |a| a.0.as_str()))
+    }
+
+    /// Opacity of the announcement now (None once it has faded).
+    fn announcement_strength(&self) -> Option<f32> {
+        let (_, at) = self.announcement.as_ref()?;
+        let age = self.now - at;
+        if age < ANNOUNCE_HOLD_SECONDS {
+            Some(1.0)
+        } else if age < ANNOUNCE_HOLD_SECONDS + ANNOUNCE_FADE_SECONDS {
+            Some((1.0 - (age - ANNOUNCE_HOLD_SECONDS) / ANNOUNCE_FADE_SECONDS) as f32)
+        } else {
+            None
+        }
+    }
+
+    /// Open a pane: "diagram", "folds" or "backbone" (tests).
+    pub fn show_pane(&mut self, name: &str) {
+        self.views.tab = match name {
+            "folds" => views_panel::Tab::Folds,
+            "backbone" => views_panel::Tab::Backbone,
+            _ => views_panel::Tab::Diagram,
+        };
     }
 
     /// Block until the worker has answered the newest job (or `timeout`).
@@ -314,13 +406,14 @@ impl Explorer {
     pub fn wait_for_worker(&mut self, timeout: Duration) -> bool {
         let target = self.worker.latest_generation();
         if self.shown.as_ref().is_some_and(|c| c.generation >= target) {
-            return true;
+            return self.views.wait(timeout);
         }
         let got = self.worker.wait_for(target, timeout);
         for c in got {
             self.accept(c);
         }
-        self.shown.as_ref().is_some_and(|c| c.generation >= target)
+        let panes = self.views.wait(timeout);
+        panes && self.shown.as_ref().is_some_and(|c| c.generation >= target)
     }
 
     /// Generation of the result shown (0 before the first).
@@ -385,6 +478,7 @@ impl Explorer {
         for c in self.worker.poll() {
             self.accept(c);
         }
+        self.views.poll();
         if self.theme_applied != Some(self.dark) {
             ctx.set_theme(if self.dark {
                 egui::Theme::Dark
@@ -396,6 +490,7 @@ impl Explorer {
         let mut commands = self.shortcuts(&ctx);
         self.handle_close_request(&ctx, &mut commands);
         self.poll_dialog(&mut commands);
+        self.poll_exports();
 
         egui::Panel::top("menu").show(ui, |ui| {
             commands.extend(menu_bar::ui(
@@ -405,6 +500,8 @@ impl Explorer {
                     can_undo: self.history.can_undo(),
                     can_redo: self.history.can_redo(),
                     dark: self.dark,
+                    has_sweep: self.session.sweep.is_some(),
+                    has_folds: self.session.folds.is_some(),
                 },
             ));
         });
@@ -443,6 +540,14 @@ impl Explorer {
                     commands.extend(self.params.ui(ui, &self.session.parameters, &unused));
                 });
             });
+        egui::Panel::right("diagram-panes")
+            .resizable(true)
+            .default_size(440.0)
+            .show(ui, |ui| {
+                let system = self.system();
+                let inputs = pane_inputs!(self, system.as_ref());
+                commands.extend(self.views.ui(ui, &inputs));
+            });
         egui::Panel::bottom("tables")
             .resizable(true)
             .default_size(210.0)
@@ -456,8 +561,15 @@ impl Explorer {
                     self.selection,
                 ));
             });
-        let busy = self.busy();
+        let busy = self.portrait_busy();
         let greyed = self.formula.error.is_some();
+        let strength = self.announcement_strength();
+        if strength.is_some_and(|s| s < 1.0) {
+            ctx.request_repaint_after(Duration::from_millis(50));
+        } else if strength.is_some() {
+            ctx.request_repaint_after(Duration::from_secs_f64(ANNOUNCE_HOLD_SECONDS));
+        }
+        let note = strength.and_then(|a| self.announcement.as_ref().map(|n| (n.0.as_str(), a)));
         egui::CentralPanel::default().show(ui, |ui| {
             commands.extend(self.plot.ui(
                 ui,
@@ -467,6 +579,7 @@ impl Explorer {
                 self.selection,
                 busy,
                 self.now,
+                note,
             ));
         });
         commands.extend(dialogs::ui(&ctx, &mut self.modal, self.file.is_some()));
@@ -476,6 +589,9 @@ impl Explorer {
         }
         self.settle_parameters(&ctx);
         self.submit_if_changed();
+        let system = self.system();
+        let inputs = pane_inputs!(self, system.as_ref());
+        self.views.submit_if_changed(&inputs);
         // A drag that ended this frame still sent a coarse job; the next frame refines.
         if !self.dragging_seen {
             self.dragging = false;
@@ -483,7 +599,7 @@ impl Explorer {
         self.dragging_seen = false;
         self.update_title(&ctx);
         self.autosave();
-        if self.pending_dialog.is_some() {
+        if self.pending_dialog.is_some() || !self.exports.is_empty() {
             ctx.request_repaint_after(Duration::from_millis(100));
         }
         self.log_frame(t0);
@@ -553,6 +669,57 @@ impl Explorer {
         }
     }
 
+    /// Export `view` of the session as it is now to `path` on a thread of
+    /// its own, through the same `render::export` the command line uses.
+    fn start_export(&mut self, view: render::View, format: render::ExportFormat, path: PathBuf) {
+        let session = self.session.clone();
+        let (tx, rx) = std::sync::mpsc::channel();
+        let spawned = std::thread::Builder::new()
+            .name("phasewright-export".into())
+            .spawn(move || {
+                let outcome = export_to_file(&session, view, format, &path);
+                let _ = tx.send(outcome);
+            });
+        match spawned {
+            Ok(_) => {
+                self.status = format!("exporting the {}…", view.name());
+                self.exports.push(rx);
+            }
+            Err(e) => {
+                self.modal = Modal::Message {
+                    title: "Export failed".into(),
+                    text: format!("cannot start the export: {e}"),
+                }
+            }
+        }
+    }
+
+    fn poll_exports(&mut self) {
+        let mut i = 0;
+        while i < self.exports.len() {
+            match self.exports[i].try_recv() {
+                Err(std::sync::mpsc::TryRecvError::Empty) => {
+                    i += 1;
+                    continue;
+                }
+                Ok(Ok(done)) => self.status = done,
+                Ok(Err(problem)) => {
+                    self.modal = Modal::Message {
+                        title: "Export failed".into(),
+                        text: problem,
+                    }
+                }
+                Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                    self.modal = Modal::Message {
+                        title: "Export failed".into(),
+                        text: "the export stopped without a result".into(),
+                    }
+                }
+            }
+            self.exports.remove(i);
+        }
+    }
+
     fn poll_dialog(&mut self, commands: &mut Vec<Command>) {
         let Some(d) = &self.pending_dialog else {
             return;
@@ -566,6 +733,7 @@ impl Explorer {
             DialogOutcome::Chosen(path) => commands.push(match purpose {
                 DialogPurpose::Open => Command::OpenFile(path),
                 DialogPurpose::SaveAs => Command::SaveTo(path),
+                DialogPurpose::Export(view, format) => Command::ExportTo(view, format, path),
             }),
             DialogOutcome::Cancelled => {}
             DialogOutcome::Unavailable => self.prompt_path(
@@ -581,7 +749,20 @@ impl Explorer {
             (None, DialogPurpose::SaveAs) => std::env::current_dir()
                 .map(|d| d.join("session.json").display().to_string())
                 .unwrap_or_else(|_| "session.json".into()),
-            (None, DialogPurpose::Open) => String::new(),
+            (None, DialogPurpose::Open | DialogPurpose::Export(..)) => String::new(),
+        };
+        let text = match purpose {
+            DialogPurpose::Export(view, format) => {
+                let name = files::export_file_name(view, format);
+                let dir = self
+                    .file
+                    .as_ref()
+                    .and_then(|f| f.parent().map(Path::to_path_buf))
+                    .or_else(|| std::env::current_dir().ok())
+                    .unwrap_or_default();
+                dir.join(name).display().to_string()
+            }
+            _ => text,
         };
         self.modal = Modal::PathPrompt {
             purpose,
@@ -602,13 +783,16 @@ impl Explorer {
             .file
             .as_ref()
             .and_then(|f| f.parent().map(Path::to_path_buf));
-        let name = self
-            .file
-            .as_ref()
-            .and_then(|f| f.file_name())
-            .map_or("session.json".to_string(), |n| {
-                n.to_string_lossy().into_owned()
-            });
+        let name = match purpose {
+            DialogPurpose::Export(view, format) => files::export_file_name(view, format),
+            _ => self
+                .file
+                .as_ref()
+                .and_then(|f| f.file_name())
+                .map_or("session.json".to_string(), |n| {
+                    n.to_string_lossy().into_owned()
+                }),
+        };
         match PendingDialog::start(purpose, dir, &name) {
             Some(d) => self.pending_dialog = Some(d),
             None => self.prompt_path(purpose, ""),
@@ -643,7 +827,11 @@ impl Explorer {
                 let Some(i) = self.session.parameters.iter().position(|p| p.name == name) else {
                     return;
                 };
-                if self.session.parameters[i].value != value {
+                let old = self.session.parameters[i].value;
+                if old != value {
+                    if let Some(text) = self.views.crossing(&name, old, value) {
+                        self.announcement = Some((text, self.now));
+                    }
                     self.edit(EditKind::Parameter(name), dragging);
                     self.session.parameters[i].value = value;
                 }
@@ -737,6 +925,12 @@ impl Explorer {
                 }
             }
             Command::Select(s) => self.selection = s,
+            Command::SetPanes { settings, dragging } => {
+                if settings != PaneSettings::of(&self.session) {
+                    self.edit(EditKind::Panes, dragging);
+                    settings.store(&mut self.session);
+                }
+            }
             Command::Guarded(action) => {
                 if self.dirty {
                     self.modal = Modal::ConfirmDiscard(action);
@@ -775,6 +969,10 @@ impl Explorer {
             },
             Command::SaveAs => self.native_dialog(DialogPurpose::SaveAs),
             Command::SavePrompt => self.prompt_path(DialogPurpose::SaveAs, ""),
+            Command::Export(view, format) => {
+                self.native_dialog(DialogPurpose::Export(view, format));
+            }
+            Command::ExportTo(view, format, path) => self.start_export(view, format, path),
             Command::SaveTo(path) => match files::save_session(&self.session, &path) {
                 Ok(()) => {
                     self.file = Some(path.clone());
@@ -874,6 +1072,8 @@ impl Explorer {
         self.selection = Selection::None;
         self.formula.set_text(&self.session.formula);
         self.plot.reset();
+        self.views.reset();
+        self.announcement = None;
         self.shown = None;
         self.last_spec = None;
         self.autosaved = None;
@@ -1101,4 +1301,27 @@ pub fn run(initial: Option<PathBuf>) -> Result<(), String> {
         Box::new(move |_cc| Ok(Box::new(ExplorerApp(explorer)))),
     )
     .map_err(|e| format!("the explorer window could not start: {e}"))
+}
+
+/// Compute and write one export; the status line on success, the problem otherwise.
+pub fn export_to_file(
+    session: &Session,
+    view: render::View,
+    format: render::ExportFormat,
+    path: &Path,
+) -> Result<String, String> {
+    let sys = session.system().map_err(|e| e.to_string())?;
+    let out = render::export(
+        session,
+        &sys,
+        &session.view,
+        view,
+        format,
+        render::FigureSize::default(),
+        &crate::core::Cancel::never(),
+    )
+    .map_err(|e| e.to_string())?;
+    crate::session::write_atomic(path, |w| std::io::Write::write_all(w, &out.bytes))
+        .map_err(|e| e.to_string())?;
+    Ok(format!("exported {} ({})", path.display(), out.summary))
 }

@@ -1,49 +1,39 @@
-//! The phase portrait: level curves coloured by energy with a colour scale,
-//! separatrices drawn heavier, equilibria marked by kind (shape, not colour
-//! alone), orbits as polylines with direction arrows. Converted geometry is
-//! cached per result generation; a frame only hands borrowed slices to the plot.
+//! The phase portrait: the portrait scene of `src/scene.rs` (level curves
+//! coloured by energy with its colour scale, separatrices heavier, equilibria
+//! marked by kind with their marker shapes, orbits with direction arrows)
+//! drawn through the shared scene drawer. Converted geometry is cached per
+//! result generation; a frame only hands borrowed slices to the plot. The
+//! panel adds the interactions: hover read-out, click to launch an orbit, pan,
+//! zoom, reset, the selected row highlighted.
 
 use crate::core::equilibria::{Equilibrium, EquilibriumKind};
 use crate::core::system::System;
 use crate::core::window::Window;
-use egui_plot::{Arrows, Legend, Line, MarkerShape, Plot, PlotBounds, PlotPoint, Points};
+use crate::scene::{Rgb, Scene};
+use egui_plot::{MarkerShape, Plot, PlotBounds, Points};
 
+use super::scene_plot::{self, Look, SceneView};
 use super::worker::Computed;
 use super::{Command, Selection};
+
+pub use crate::scene::kind_name;
 
 /// Accessible name of the plot area.
 pub const PLOT_LABEL: &str = "Phase portrait";
 /// A click becomes an orbit launch when no second click follows within this (seconds).
 const DOUBLE_CLICK_WAIT: f64 = 0.32;
-/// Arrows drawn along each orbit.
-const ARROWS_PER_ORBIT: usize = 5;
 /// Pointer within this fraction of the window of an equilibrium counts as "near".
 const NEAR_FRACTION: f64 = 0.025;
 /// Scroll distance (points) that zooms by a factor e.
 const SCROLL_ZOOM_SCALE: f32 = 200.0;
 
-struct CachedCurve {
-    points: Vec<PlotPoint>,
-    colour: egui::Color32,
-    separatrix: bool,
-}
-
-struct CachedOrbit {
-    points: Vec<PlotPoint>,
-    arrow_from: Vec<PlotPoint>,
-    arrow_to: Vec<PlotPoint>,
-    colour: egui::Color32,
-}
-
 /// Plot geometry converted from one result.
 #[derive(Default)]
 struct Cache {
     generation: u64,
-    curves: Vec<CachedCurve>,
-    /// Equilibrium positions by kind: center, saddle, degenerate.
-    marks: [Vec<PlotPoint>; 3],
-    orbits: Vec<CachedOrbit>,
-    level_range: Option<(f64, f64)>,
+    scene: SceneView,
+    /// Index into the scene's curves of each orbit (None: too short to draw).
+    orbit_curves: Vec<Option<usize>>,
 }
 
 pub struct PlotPanel {
@@ -69,151 +59,44 @@ impl Default for PlotPanel {
     }
 }
 
-/// Kind order used for markers and the legend.
-const KINDS: [(EquilibriumKind, &str, MarkerShape); 3] = [
-    (EquilibriumKind::Center, "center", MarkerShape::Circle),
-    (EquilibriumKind::Saddle, "saddle", MarkerShape::Square),
-    (
-        EquilibriumKind::Degenerate,
-        "degenerate",
-        MarkerShape::Diamond,
-    ),
-];
-
-/// Marker colours by kind, for light and dark backgrounds (the shape carries the kind too).
-fn kind_colour(k: usize, dark: bool) -> egui::Color32 {
-    let light = [[20, 20, 20], [200, 30, 30], [120, 40, 170]];
-    let darkc = [[245, 245, 245], [255, 110, 90], [200, 150, 255]];
-    let [r, g, b] = if dark { darkc[k] } else { light[k] };
-    egui::Color32::from_rgb(r, g, b)
-}
-
-fn kind_index(kind: EquilibriumKind) -> usize {
-    KINDS.iter().position(|k| k.0 == kind).unwrap_or(2)
-}
-
-/// Short name of a kind as shown in tables and hover text.
-pub fn kind_name(kind: EquilibriumKind) -> &'static str {
-    KINDS[kind_index(kind)].1
-}
-
-/// Our energy scale: indigo → teal → olive-green → amber → brick, t in [0, 1].
-pub fn energy_colour(t: f64) -> egui::Color32 {
-    const STOPS: [[f32; 3]; 5] = [
-        [52.0, 44.0, 140.0],
-        [24.0, 128.0, 152.0],
-        [120.0, 170.0, 60.0],
-        [236.0, 168.0, 36.0],
-        [190.0, 56.0, 44.0],
-    ];
-    let t = if t.is_finite() {
-        t.clamp(0.0, 1.0) as f32
-    } else {
-        0.0
-    };
-    let x = t * (STOPS.len() - 1) as f32;
-    let i = (x.floor() as usize).min(STOPS.len() - 2);
-    let f = x - i as f32;
-    let c = |k: usize| (STOPS[i][k] + (STOPS[i + 1][k] - STOPS[i][k]) * f).round() as u8;
-    egui::Color32::from_rgb(c(0), c(1), c(2))
-}
-
-/// A distinct colour per orbit (or the session's own "#rrggbb").
-pub fn orbit_colour(index: usize, given: Option<&str>) -> egui::Color32 {
-    if let Some(hex) = given
-        && let Ok(c) = egui::Color32::from_hex(hex)
-    {
-        return c;
+/// The portrait of a result as a scene: the figure builder's level curves,
+/// separatrices and equilibria, then the orbits in the session's colours.
+fn portrait_scene(c: &Computed, colours: &[Option<String>]) -> (Scene, Vec<Option<usize>>) {
+    let mut scene = Scene::portrait(&c.system, &c.analysis);
+    let mut orbit_curves = Vec::with_capacity(c.orbits.len());
+    for (i, o) in c.orbits.iter().enumerate() {
+        let before = scene.curves.len();
+        let colour = colours
+            .get(i)
+            .and_then(|c| c.as_deref())
+            .and_then(Rgb::parse_hex);
+        scene.add_orbit(&o.samples, colour);
+        orbit_curves.push((scene.curves.len() > before).then_some(before));
     }
-    const PALETTE: [[u8; 3]; 6] = [
-        [214, 40, 120],
-        [20, 110, 220],
-        [230, 110, 0],
-        [0, 150, 90],
-        [140, 60, 200],
-        [90, 90, 90],
-    ];
-    let [r, g, b] = PALETTE[index % PALETTE.len()];
-    egui::Color32::from_rgb(r, g, b)
-}
-
-fn to_points(v: &[[f64; 2]]) -> Vec<PlotPoint> {
-    v.iter().map(|&[q, p]| PlotPoint::new(q, p)).collect()
+    (scene, orbit_curves)
 }
 
 impl Cache {
     fn build(c: &Computed, colours: &[Option<String>]) -> Cache {
-        let a = &c.analysis;
-        let range = a
+        let (scene, orbit_curves) = portrait_scene(c, colours);
+        // Curves with fewer than two points are dropped by the view; keep indices aligned.
+        let kept: Vec<usize> = scene
             .curves
-            .iter()
-            .map(|k| k.level)
-            .filter(|l| l.is_finite())
-            .fold(None, |acc, l| match acc {
-                None => Some((l, l)),
-                Some((lo, hi)) => Some((f64::min(lo, l), f64::max(hi, l))),
-            });
-        let range = range.or(a.grid.range);
-        let t_of = |level: f64| match range {
-            Some((lo, hi)) if hi > lo => (level - lo) / (hi - lo),
-            _ => 0.5,
-        };
-        let curves = a
-            .curves
-            .iter()
-            .filter(|k| k.points.len() >= 2)
-            .map(|k| CachedCurve {
-                points: to_points(&k.points),
-                colour: energy_colour(t_of(k.level)),
-                separatrix: k.is_separatrix,
-            })
-            .collect();
-        let mut marks: [Vec<PlotPoint>; 3] = Default::default();
-        for e in &a.equilibria {
-            marks[kind_index(e.kind)].push(PlotPoint::new(e.q, e.p));
-        }
-        let orbits = c
-            .orbits
             .iter()
             .enumerate()
-            .map(|(i, o)| {
-                let points = to_points(&o.samples);
-                let (arrow_from, arrow_to) = arrows_along(&points);
-                CachedOrbit {
-                    points,
-                    arrow_from,
-                    arrow_to,
-                    colour: orbit_colour(i, colours.get(i).and_then(|c| c.as_deref())),
-                }
-            })
+            .filter(|(_, k)| k.points.len() >= 2)
+            .map(|(i, _)| i)
+            .collect();
+        let orbit_curves = orbit_curves
+            .into_iter()
+            .map(|o| o.and_then(|i| kept.iter().position(|&k| k == i)))
             .collect();
         Cache {
             generation: c.generation,
-            curves,
-            marks,
-            orbits,
-            level_range: range,
+            scene: SceneView::new(&scene),
+            orbit_curves,
         }
     }
-}
-
-/// A few short arrows along a polyline, pointing the way it runs.
-fn arrows_along(points: &[PlotPoint]) -> (Vec<PlotPoint>, Vec<PlotPoint>) {
-    let n = points.len();
-    if n < 3 {
-        return (Vec::new(), Vec::new());
-    }
-    let mut from = Vec::new();
-    let mut to = Vec::new();
-    for k in 0..ARROWS_PER_ORBIT {
-        let i = (n - 2) * (2 * k + 1) / (2 * ARROWS_PER_ORBIT);
-        let j = (i + 1).min(n - 1);
-        if points[i].x != points[j].x || points[i].y != points[j].y {
-            from.push(points[i]);
-            to.push(points[j]);
-        }
-    }
-    (from, to)
 }
 
 /// The equilibrium nearest to (q, p) if it is near in window terms.
@@ -291,6 +174,7 @@ impl PlotPanel {
         selection: Selection,
         busy: bool,
         now: f64,
+        note: Option<(&str, f32)>,
     ) -> Vec<Command> {
         let mut commands = Vec::new();
         ui.horizontal(|ui| {
@@ -321,15 +205,14 @@ impl PlotPanel {
         let text_rows = 2.5 * ui.text_style_height(&egui::TextStyle::Body);
         let plot_w = (avail.x - bar_width).max(120.0);
         let plot_h = (avail.y - text_rows).max(120.0);
-        let grey = |c: egui::Color32| {
-            if greyed {
-                let l = (c.r() as u16 + c.g() as u16 + c.b() as u16) / 3;
-                egui::Color32::from_rgba_unmultiplied(l as u8, l as u8, l as u8, 110)
-            } else {
-                c
-            }
+        let look = Look {
+            dark: ui.visuals().dark_mode,
+            greyed,
+            emphasised: match selection {
+                Selection::Orbit(i) => self.cache.orbit_curves.get(i).copied().flatten(),
+                _ => None,
+            },
         };
-        let dark = ui.visuals().dark_mode;
         let select_colour = egui::Color32::from_rgb(255, 60, 200);
 
         let mut new_view = None;
@@ -340,6 +223,7 @@ impl PlotPanel {
             set_view = Some(*view);
             self.applied_view = Some(*view);
         }
+        let mut plot_rect = None;
         ui.horizontal_top(|ui| {
             let cache = &self.cache;
             let plot = Plot::new("phase-portrait")
@@ -351,11 +235,6 @@ impl PlotPanel {
                 .x_axis_label("q")
                 .y_axis_label("p")
                 .show_crosshair(false)
-                .legend(
-                    Legend::default()
-                        .position(egui_plot::Corner::RightTop)
-                        .background_alpha(0.7),
-                )
                 .label_formatter(|_| None);
             let response = plot.show(ui, |pui| {
                 if let Some(w) = set_view {
@@ -372,50 +251,7 @@ impl PlotPanel {
                         pui.zoom_bounds_around_hovered(egui::vec2(f, f));
                     }
                 }
-                for c in &cache.curves {
-                    let (width, name) = if c.separatrix {
-                        (2.6, "separatrix")
-                    } else {
-                        (1.1, "")
-                    };
-                    pui.line(
-                        Line::new(name, c.points.as_slice())
-                            .color(grey(c.colour))
-                            .width(width)
-                            .allow_hover(false),
-                    );
-                }
-                for (i, o) in cache.orbits.iter().enumerate() {
-                    let selected = selection == Selection::Orbit(i);
-                    let colour = grey(o.colour);
-                    pui.line(
-                        Line::new(format!("orbit {}", i + 1), o.points.as_slice())
-                            .color(colour)
-                            .width(if selected { 3.2 } else { 1.8 })
-                            .highlight(selected)
-                            .allow_hover(false),
-                    );
-                    if !o.arrow_from.is_empty() {
-                        pui.arrows(
-                            Arrows::new("", o.arrow_from.as_slice(), o.arrow_to.as_slice())
-                                .color(colour)
-                                .tip_length(12.0)
-                                .allow_hover(false),
-                        );
-                    }
-                }
-                for (k, (_, name, shape)) in KINDS.iter().enumerate() {
-                    if !cache.marks[k].is_empty() {
-                        pui.points(
-                            Points::new(*name, cache.marks[k].as_slice())
-                                .shape(*shape)
-                                .radius(if k == 0 { 6.0 } else { 7.0 })
-                                .filled(true)
-                                .color(grey(kind_colour(k, dark)))
-                                .allow_hover(false),
-                        );
-                    }
-                }
+                cache.scene.draw(pui, &look);
                 if let (Selection::Equilibrium(i), Some(c)) = (selection, shown)
                     && let Some(e) = c.analysis.equilibria.get(i)
                 {
@@ -474,8 +310,19 @@ impl PlotPanel {
             {
                 self.pending_click = Some((pt.x, pt.y, now));
             }
-            colour_bar(ui, cache.level_range, bar_width, plot_h, greyed);
+            scene_plot::legend(ui, response.response.rect, &cache.scene.legend, &look);
+            plot_rect = Some(response.response.rect);
+            scene_plot::colour_bar(
+                ui,
+                cache.scene.colour_scale.as_ref(),
+                bar_width,
+                plot_h,
+                &look,
+            );
         });
+        if let (Some((text, alpha)), Some(rect)) = (note, plot_rect) {
+            announce(ui.ctx(), rect, text, alpha);
+        }
         if let Some((w, held)) = new_view {
             self.applied_view = Some(w);
             commands.push(Command::SetView {
@@ -524,60 +371,31 @@ fn differs(a: &Window, b: &Window) -> bool {
         || (a.pmax - b.pmax).abs() > tol
 }
 
-/// A vertical strip showing the energy scale of the level curves.
-fn colour_bar(ui: &mut egui::Ui, range: Option<(f64, f64)>, width: f32, height: f32, greyed: bool) {
-    let (rect, _) = ui.allocate_exact_size(egui::vec2(width, height), egui::Sense::hover());
-    let painter = ui.painter_at(rect);
-    let text_colour = ui.visuals().text_color();
-    let font = egui::FontId::proportional(11.0);
-    painter.text(
-        rect.center_top() + egui::vec2(0.0, 2.0),
-        egui::Align2::CENTER_TOP,
-        "H",
-        font.clone(),
-        text_colour,
-    );
-    let Some((lo, hi)) = range else {
-        return;
-    };
-    let bar = egui::Rect::from_min_max(
-        rect.min + egui::vec2(6.0, 20.0),
-        egui::pos2(rect.min.x + 20.0, rect.max.y - 20.0),
-    );
-    let steps = 48;
-    for s in 0..steps {
-        let t0 = s as f32 / steps as f32;
-        let t1 = (s + 1) as f32 / steps as f32;
-        let y0 = bar.max.y - t1 * bar.height();
-        let y1 = bar.max.y - t0 * bar.height();
-        let mut c = energy_colour(((t0 + t1) * 0.5) as f64);
-        if greyed {
-            c = c.gamma_multiply(0.4);
-        }
-        painter.rect_filled(
-            egui::Rect::from_min_max(egui::pos2(bar.min.x, y0), egui::pos2(bar.max.x, y1)),
-            0.0,
-            c,
-        );
-    }
-    for k in 0..=4 {
-        let t = k as f64 / 4.0;
-        let y = bar.max.y - t as f32 * bar.height();
-        let v = lo + t * (hi - lo);
-        painter.text(
-            egui::pos2(bar.max.x + 3.0, y),
-            egui::Align2::LEFT_CENTER,
-            format_tick(v),
-            font.clone(),
-            text_colour,
-        );
-    }
-}
-
-fn format_tick(v: f64) -> String {
-    if v != 0.0 && (v.abs() >= 1e4 || v.abs() < 1e-2) {
-        format!("{v:.1e}")
-    } else {
-        format!("{v:.3}")
-    }
+/// A short notice at the top of the plot (a bifurcation the slider just
+/// crossed), at opacity `alpha` as it fades. Drawn in its own layer so the
+/// layout under it does not move.
+fn announce(ctx: &egui::Context, plot_rect: egui::Rect, text: &str, alpha: f32) {
+    egui::Area::new(egui::Id::unique("portrait-announcement"))
+        .fixed_pos(plot_rect.left_top() + egui::vec2(12.0, 12.0))
+        .order(egui::Order::Foreground)
+        .interactable(false)
+        .show(ctx, |ui| {
+            let visuals = ui.visuals().clone();
+            egui::Frame::new()
+                .fill(visuals.extreme_bg_color.gamma_multiply(0.92 * alpha))
+                .stroke(egui::Stroke::new(
+                    1.5,
+                    visuals.selection.stroke.color.gamma_multiply(alpha),
+                ))
+                .corner_radius(4.0)
+                .inner_margin(egui::Margin::symmetric(10, 6))
+                .show(ui, |ui| {
+                    ui.label(
+                        egui::RichText::new(text)
+                            .size(15.0)
+                            .strong()
+                            .color(visuals.strong_text_color().gamma_multiply(alpha)),
+                    );
+                });
+        });
 }

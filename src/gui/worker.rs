@@ -1,10 +1,15 @@
-//! The explorer's background worker: one named thread that runs analyses and
-//! orbit integrations so the UI thread never waits. Jobs carry a generation
-//! number; the worker always runs the newest pending job, stale results are
-//! dropped by the UI, and a refining job is cancelled when a newer one arrives.
+//! The explorer's background work, so the UI thread never waits. The portrait
+//! worker is one named thread that runs analyses and orbit integrations; each
+//! diagram pane (sweep, fold curve, backbone) has its own [`Lane`]. Jobs carry
+//! a generation number; a thread always runs the newest pending job, stale
+//! results are dropped by the UI, and a running job is cancelled through
+//! `core::Cancel` when a newer one arrives.
 
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, AnalysisConfig, analyze};
+use crate::core::backbone::{Backbone, BackboneConfig, BackboneError, backbone};
+use crate::core::continuation::{ContinuationError, Sweep, SweepConfig, SweepProgress, sweep};
+use crate::core::folds::{FoldConfig, FoldCurves, FoldProgress, fold_curves};
 use crate::core::system::System;
 use crate::core::window::Window;
 use crate::session::SeededOrbit;
@@ -92,6 +97,11 @@ impl Worker {
         }
     }
 
+    /// The slot holding the context to wake (shared with the pane lanes).
+    pub fn repaint_slot(&self) -> Arc<Mutex<Option<egui::Context>>> {
+        self.repaint.clone()
+    }
+
     /// Queue a job; returns its generation. A refining job still running is cancelled.
     pub fn submit(&mut self, spec: JobSpec, system: System, coarse: bool) -> u64 {
         let generation = self.next_generation;
@@ -129,24 +139,30 @@ impl Worker {
     /// passes; returns every result received meanwhile. For tests and the
     /// headless benchmark only: the UI never calls this.
     pub fn wait_for(&self, generation: u64, timeout: Duration) -> Vec<Computed> {
-        let deadline = Instant::now() + timeout;
-        let mut got = Vec::new();
-        loop {
-            let now = Instant::now();
-            if now >= deadline {
-                return got;
-            }
-            match self.results.recv_timeout(deadline - now) {
-                Ok(c) => {
-                    let done = c.generation >= generation;
-                    got.push(c);
-                    if done {
-                        got.extend(self.results.try_iter());
-                        return got;
-                    }
+        wait_on(&self.results, timeout, |c| c.generation >= generation)
+    }
+}
+
+/// Receive from `results` until one satisfies `done` or `timeout` passes;
+/// returns everything received, oldest first (tests and benchmarks only).
+fn wait_on<T>(results: &Receiver<T>, timeout: Duration, done: impl Fn(&T) -> bool) -> Vec<T> {
+    let deadline = Instant::now() + timeout;
+    let mut got = Vec::new();
+    loop {
+        let now = Instant::now();
+        if now >= deadline {
+            return got;
+        }
+        match results.recv_timeout(deadline - now) {
+            Ok(c) => {
+                let finished = done(&c);
+                got.push(c);
+                if finished {
+                    got.extend(results.try_iter());
+                    return got;
                 }
-                Err(_) => return got,
             }
+            Err(_) => return got,
         }
     }
 }
@@ -263,5 +279,338 @@ fn worker_loop(
         {
             ctx.request_repaint();
         }
+    }
+}
+
+// ---------------------------------------------------------------------------
+// View jobs: sweeps, fold curves and backbones for the diagram panes.
+
+/// Which pane a view job feeds. Each has its own lane (thread), so a long
+/// fold-curve job never holds up a sweep or the portrait.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ViewKind {
+    Diagram,
+    Folds,
+    Backbone,
+}
+
+impl ViewKind {
+    pub const ALL: [ViewKind; 3] = [ViewKind::Diagram, ViewKind::Folds, ViewKind::Backbone];
+
+    /// Position in [`ViewKind::ALL`].
+    pub fn index(self) -> usize {
+        match self {
+            ViewKind::Diagram => 0,
+            ViewKind::Folds => 1,
+            ViewKind::Backbone => 2,
+        }
+    }
+
+    fn thread_name(self) -> &'static str {
+        match self {
+            ViewKind::Diagram => "phasewright-sweep",
+            ViewKind::Folds => "phasewright-folds",
+            ViewKind::Backbone => "phasewright-backbone",
+        }
+    }
+}
+
+/// What a view job computes (besides the system and the window).
+#[derive(Clone, Debug, PartialEq)]
+pub enum ViewTask {
+    Sweep {
+        param: String,
+        from: f64,
+        to: f64,
+        cfg: SweepConfig,
+    },
+    Folds {
+        params: [String; 2],
+        bounds: [f64; 4],
+    },
+    Backbone {
+        center: [f64; 2],
+        cfg: BackboneConfig,
+    },
+}
+
+/// Everything a view job depends on; compared with the last job to decide whether to rerun.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ViewSpec {
+    pub source: String,
+    /// Parameter values in the formula's order (the swept ones set to a fixed value,
+    /// so that moving them does not rerun the job).
+    pub params: Vec<f64>,
+    pub window: Window,
+    pub task: ViewTask,
+}
+
+/// A view job's answer.
+#[derive(Debug)]
+pub enum ViewOutcome {
+    Sweep(Result<Sweep, ContinuationError>),
+    Folds(Result<FoldCurves, ContinuationError>),
+    Backbone(Result<Backbone, BackboneError>),
+}
+
+impl ViewOutcome {
+    /// True when the job was stopped early (the result is partial).
+    pub fn cancelled(&self) -> bool {
+        match self {
+            ViewOutcome::Sweep(Ok(s)) => s.cancelled,
+            ViewOutcome::Folds(Ok(f)) => f.cancelled,
+            ViewOutcome::Backbone(Ok(b)) => b.cancelled,
+            _ => false,
+        }
+    }
+
+    /// The reason the job could not run, in words.
+    pub fn error(&self) -> Option<String> {
+        match self {
+            ViewOutcome::Sweep(Err(e)) | ViewOutcome::Folds(Err(e)) => Some(e.to_string()),
+            ViewOutcome::Backbone(Err(e)) => Some(e.to_string()),
+            _ => None,
+        }
+    }
+}
+
+/// A finished view job.
+pub struct ViewComputed {
+    pub kind: ViewKind,
+    pub generation: u64,
+    pub spec: ViewSpec,
+    pub system: System,
+    pub outcome: Arc<ViewOutcome>,
+    pub ms: f64,
+}
+
+/// How far the running job of a lane has got.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Progress {
+    /// Work done and the most there can be (steps of the step budget, or energies).
+    pub done: usize,
+    pub total: usize,
+    /// What the numbers count, e.g. "3 branches".
+    pub note: String,
+    pub running: bool,
+}
+
+struct ViewJob {
+    generation: u64,
+    spec: ViewSpec,
+    system: System,
+    cancel: Cancel,
+}
+
+/// One background thread running the jobs of one pane: the newest job wins,
+/// a running job is cancelled through `core::Cancel` when a newer one (or the
+/// user) asks, and progress is shared for the pane to show.
+pub struct Lane {
+    jobs: Option<Sender<ViewJob>>,
+    results: Receiver<ViewComputed>,
+    handle: Option<JoinHandle<()>>,
+    progress: Arc<Mutex<Progress>>,
+    next_generation: u64,
+    in_flight: Option<(u64, Cancel)>,
+}
+
+/// Least time between two repaints asked for by progress reports.
+const PROGRESS_REPAINT: Duration = Duration::from_millis(60);
+
+impl Lane {
+    pub fn start(
+        kind: ViewKind,
+        repaint: Arc<Mutex<Option<egui::Context>>>,
+    ) -> Result<Lane, String> {
+        let (job_tx, job_rx) = channel::<ViewJob>();
+        let (res_tx, res_rx) = channel::<ViewComputed>();
+        let progress = Arc::new(Mutex::new(Progress::default()));
+        let shared = progress.clone();
+        let handle = std::thread::Builder::new()
+            .name(kind.thread_name().into())
+            .spawn(move || lane_loop(kind, job_rx, res_tx, shared, repaint))
+            .map_err(|e| format!("could not start the {} thread: {e}", kind.thread_name()))?;
+        Ok(Lane {
+            jobs: Some(job_tx),
+            results: res_rx,
+            handle: Some(handle),
+            progress,
+            next_generation: 1,
+            in_flight: None,
+        })
+    }
+
+    /// Queue a job, cancelling the one before; returns its generation.
+    pub fn submit(&mut self, spec: ViewSpec, system: System) -> u64 {
+        self.cancel();
+        let generation = self.next_generation;
+        self.next_generation += 1;
+        let cancel = Cancel::new();
+        self.in_flight = Some((generation, cancel.clone()));
+        if let Ok(mut p) = self.progress.lock() {
+            *p = Progress {
+                running: true,
+                ..Progress::default()
+            };
+        }
+        if let Some(tx) = &self.jobs {
+            let _ = tx.send(ViewJob {
+                generation,
+                spec,
+                system,
+                cancel,
+            });
+        }
+        generation
+    }
+
+    /// Stop the running job (its partial result still comes back).
+    pub fn cancel(&self) {
+        if let Some((_, c)) = &self.in_flight {
+            c.cancel();
+        }
+    }
+
+    /// The newest generation submitted (0 before the first job).
+    pub fn latest_generation(&self) -> u64 {
+        self.in_flight.as_ref().map_or(0, |f| f.0)
+    }
+
+    pub fn progress(&self) -> Progress {
+        self.progress.lock().map(|p| p.clone()).unwrap_or_default()
+    }
+
+    /// Results that arrived since the last call, oldest first.
+    pub fn poll(&self) -> Vec<ViewComputed> {
+        self.results.try_iter().collect()
+    }
+
+    /// Block until the result of `generation` or newer arrives or `timeout`
+    /// passes (tests only; the UI never waits).
+    pub fn wait_for(&self, generation: u64, timeout: Duration) -> Vec<ViewComputed> {
+        wait_on(&self.results, timeout, |c| c.generation >= generation)
+    }
+}
+
+impl Drop for Lane {
+    fn drop(&mut self) {
+        self.cancel();
+        self.jobs = None;
+        if let Some(h) = self.handle.take() {
+            let _ = h.join();
+        }
+    }
+}
+
+fn lane_loop(
+    kind: ViewKind,
+    jobs: Receiver<ViewJob>,
+    results: Sender<ViewComputed>,
+    progress: Arc<Mutex<Progress>>,
+    repaint: Arc<Mutex<Option<egui::Context>>>,
+) {
+    let wake = |after: Option<Duration>| {
+        if let Ok(slot) = repaint.lock()
+            && let Some(ctx) = slot.as_ref()
+        {
+            match after {
+                Some(d) => ctx.request_repaint_after(d),
+                None => ctx.request_repaint(),
+            }
+        }
+    };
+    while let Ok(mut job) = jobs.recv() {
+        while let Ok(newer) = jobs.try_recv() {
+            job = newer;
+        }
+        if job.cancel.is_cancelled() {
+            continue;
+        }
+        let started = Instant::now();
+        let last_wake = Mutex::new(Instant::now());
+        let report = |done: usize, total: usize, note: String| {
+            if let Ok(mut p) = progress.lock() {
+                *p = Progress {
+                    done,
+                    total,
+                    note,
+                    running: true,
+                };
+            }
+            if let Ok(mut t) = last_wake.lock()
+                && t.elapsed() >= PROGRESS_REPAINT
+            {
+                *t = Instant::now();
+                wake(None);
+            }
+        };
+        let outcome = run_view(&job, &report);
+        if let Ok(mut p) = progress.lock() {
+            p.running = false;
+        }
+        let computed = ViewComputed {
+            kind,
+            generation: job.generation,
+            spec: job.spec,
+            system: job.system,
+            outcome: Arc::new(outcome),
+            ms: started.elapsed().as_secs_f64() * 1e3,
+        };
+        if results.send(computed).is_err() {
+            return;
+        }
+        wake(None);
+    }
+}
+
+/// Run one view job through the core.
+fn run_view(job: &ViewJob, report: &dyn Fn(usize, usize, String)) -> ViewOutcome {
+    let sys = &job.system;
+    let window = &job.spec.window;
+    match &job.spec.task {
+        ViewTask::Sweep {
+            param,
+            from,
+            to,
+            cfg,
+        } => ViewOutcome::Sweep(sweep(
+            sys,
+            param,
+            *from,
+            *to,
+            window,
+            cfg,
+            &job.cancel,
+            &|p: SweepProgress| {
+                report(
+                    p.steps,
+                    p.max_steps,
+                    format!("{} steps, {} branches", p.steps, p.branches),
+                )
+            },
+        )),
+        ViewTask::Folds { params, bounds } => ViewOutcome::Folds(fold_curves(
+            sys,
+            [params[0].as_str(), params[1].as_str()],
+            *bounds,
+            window,
+            &FoldConfig::default(),
+            &job.cancel,
+            &|p: FoldProgress| {
+                report(
+                    p.steps,
+                    p.max_steps,
+                    format!("{} steps, {} curves", p.steps, p.curves),
+                )
+            },
+        )),
+        ViewTask::Backbone { center, cfg } => ViewOutcome::Backbone(backbone(
+            sys,
+            *center,
+            window,
+            cfg,
+            &job.cancel,
+            &|done, total| report(done, total, format!("{done} of {total} energies")),
+        )),
     }
 }

@@ -10,12 +10,18 @@ pub use svg::{FigureSize, to_svg};
 
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, analyze};
+use crate::core::backbone::{Backbone, BackboneConfig, backbone};
+use crate::core::continuation::{Sweep, sweep};
+use crate::core::equilibria::{EquilibriumKind, find_equilibria};
+use crate::core::folds::{FoldConfig, FoldCurves, fold_curves};
 use crate::core::integrate::Method;
 use crate::core::orbit::{Orbit, OrbitRequest, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::scene::{Rgb, Scene};
+use crate::scene::{BackbonePlot, Rgb, Scene};
 use crate::session::{SeededOrbit, Session};
+use std::fmt;
+use table::Table;
 
 /// The orbit request for a seeded orbit: its start, duration and method with
 /// the default bounds around `view` (a method name the loader let through but
@@ -114,5 +120,322 @@ pub fn figure_bytes(
     match format {
         FigureFormat::Svg => Ok(svg.into_bytes()),
         FigureFormat::Png => svg_to_png(&svg, 1.0),
+    }
+}
+
+/// What a figure or table shows.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum View {
+    /// Level curves, equilibria and the session's orbits in the phase plane.
+    Portrait,
+    /// Equilibria against the swept parameter (the session's `sweep`).
+    Diagram,
+    /// Period, frequency, action against energy in one well (the session's `backbone`).
+    Backbone(BackbonePlot),
+    /// Saddle-node curves in the plane of two parameters (the session's `folds`).
+    Folds,
+}
+
+impl View {
+    /// The word used on the command line and in menus.
+    pub fn name(self) -> &'static str {
+        match self {
+            View::Portrait => "portrait",
+            View::Diagram => "diagram",
+            View::Backbone(_) => "backbone",
+            View::Folds => "folds",
+        }
+    }
+}
+
+/// The results behind a view.
+#[derive(Clone, Debug)]
+pub enum ViewData {
+    Portrait(PortraitData),
+    Diagram(Sweep),
+    Backbone(Backbone),
+    Folds(FoldCurves),
+}
+
+/// Why a view could not be made.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ViewError {
+    /// The session has no settings for this view (no `sweep` or `folds` section).
+    MissingSettings(View),
+    /// The computation refused its input (unknown parameter, empty range, no center …).
+    Refused { view: View, message: String },
+    /// The figure could not be drawn or encoded.
+    Figure(PngError),
+}
+
+impl fmt::Display for ViewError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ViewError::MissingSettings(View::Diagram) => f.write_str(
+                "the session has no sweep settings (a \"sweep\" section with param, from and to)",
+            ),
+            ViewError::MissingSettings(View::Folds) => f.write_str(
+                "the session has no fold-curve settings (a \"folds\" section with params and box)",
+            ),
+            ViewError::MissingSettings(v) => write!(f, "the session has no {} settings", v.name()),
+            ViewError::Refused { view, message } => write!(f, "{}: {message}", view.name()),
+            ViewError::Figure(e) => write!(f, "{e}"),
+        }
+    }
+}
+
+impl std::error::Error for ViewError {}
+
+/// Compute what `view` shows for `session` in `window`, with the session's
+/// settings for that view (the explorer and the command line both come here,
+/// so a figure from either is made from the same numbers).
+pub fn view_data(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    view: View,
+    cancel: &Cancel,
+) -> Result<ViewData, ViewError> {
+    Ok(match view {
+        View::Portrait => ViewData::Portrait(portrait_data(session, sys, window, cancel)),
+        View::Diagram => ViewData::Diagram(sweep_of(session, sys, window, cancel)?),
+        View::Folds => ViewData::Folds(folds_of(session, sys, window, cancel)?),
+        View::Backbone(_) => ViewData::Backbone(backbone_of(session, sys, window, cancel)?),
+    })
+}
+
+fn refused(view: View) -> impl Fn(String) -> ViewError {
+    move |message| ViewError::Refused { view, message }
+}
+
+/// The sweep the session's `sweep` settings describe.
+pub fn sweep_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<Sweep, ViewError> {
+    let s = session
+        .sweep
+        .as_ref()
+        .ok_or(ViewError::MissingSettings(View::Diagram))?;
+    sweep(
+        sys,
+        &s.param,
+        s.from,
+        s.to,
+        window,
+        &session.sweep_config(),
+        cancel,
+        &|_| {},
+    )
+    .map_err(|e| refused(View::Diagram)(e.to_string()))
+}
+
+/// The fold curves the session's `folds` settings describe.
+pub fn folds_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<FoldCurves, ViewError> {
+    let f = session
+        .folds
+        .as_ref()
+        .ok_or(ViewError::MissingSettings(View::Folds))?;
+    fold_curves(
+        sys,
+        [f.params[0].as_str(), f.params[1].as_str()],
+        f.bounds,
+        window,
+        &FoldConfig::default(),
+        cancel,
+        &|_| {},
+    )
+    .map_err(|e| refused(View::Folds)(e.to_string()))
+}
+
+/// The backbone of the well the session's `backbone` settings name (the
+/// first center in view when they name none).
+pub fn backbone_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<Backbone, ViewError> {
+    let view = View::Backbone(BackbonePlot::default());
+    let cfg = session.backbone_config();
+    let center = match session.backbone.as_ref().and_then(|b| b.center) {
+        Some(c) => c,
+        None => first_center(sys, window, &cfg, cancel).ok_or_else(|| {
+            refused(view)(
+                "there is no center in view, so no well to follow; give a point near a center"
+                    .to_string(),
+            )
+        })?,
+    };
+    backbone(sys, center, window, &cfg, cancel, &|_, _| {})
+        .map_err(|e| refused(view)(e.to_string()))
+}
+
+/// The first center of the equilibria in `window`, if any.
+fn first_center(
+    sys: &System,
+    window: &Window,
+    cfg: &BackboneConfig,
+    cancel: &Cancel,
+) -> Option<[f64; 2]> {
+    let (equilibria, _) = find_equilibria(sys, window, &cfg.equilibria, cancel);
+    equilibria
+        .iter()
+        .find(|e| e.kind == EquilibriumKind::Center)
+        .map(|e| [e.q, e.p])
+}
+
+/// The scene of computed view data, with the session's current parameter
+/// values as guides (diagram, folds) and its title (portrait).
+pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) -> Scene {
+    let value = |name: &str| session.parameter(name).map(|p| p.value);
+    match data {
+        ViewData::Portrait(d) => portrait_scene(session, sys, d),
+        ViewData::Diagram(s) => Scene::diagram(sys, s, value(&s.param)),
+        ViewData::Folds(f) => {
+            let current = value(&f.params[0]).zip(value(&f.params[1]));
+            Scene::folds(sys, f, current.map(|(a, b)| [a, b]))
+        }
+        ViewData::Backbone(b) => {
+            let plot = match view {
+                View::Backbone(plot) => plot,
+                _ => BackbonePlot::default(),
+            };
+            Scene::backbone(sys, b, plot)
+        }
+    }
+}
+
+/// Which table of a portrait.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum PortraitTable {
+    #[default]
+    Equilibria,
+    Wells,
+    /// One row of measurements per seeded orbit.
+    Orbits,
+    /// Every stored sample of every seeded orbit.
+    Samples,
+}
+
+/// The table of computed view data (`which` chooses among a portrait's
+/// tables), each row ending with the parameter values.
+pub fn view_table(sys: &System, data: &ViewData, which: PortraitTable) -> Table {
+    let params = table::parameter_pairs(sys);
+    match data {
+        ViewData::Portrait(d) => match which {
+            PortraitTable::Equilibria => table::equilibria_table(&d.analysis.equilibria, &params),
+            PortraitTable::Wells => table::wells_table(&d.analysis.wells, &params),
+            PortraitTable::Orbits => table::orbit_measurements_table(&d.orbits, &params),
+            PortraitTable::Samples => table::orbits_samples_table(&d.orbits, &params),
+        },
+        // The swept parameters have their own columns; the others say where the rest stood.
+        ViewData::Diagram(s) => {
+            table::sweep_table(s).with_parameters(&others(&params, &[&s.param]))
+        }
+        ViewData::Folds(f) => {
+            table::folds_table(f).with_parameters(&others(&params, &[&f.params[0], &f.params[1]]))
+        }
+        ViewData::Backbone(b) => table::backbone_table(b).with_parameters(&params),
+    }
+}
+
+fn others(params: &[(String, f64)], skip: &[&str]) -> Vec<(String, f64)> {
+    params
+        .iter()
+        .filter(|(n, _)| !skip.contains(&n.as_str()))
+        .cloned()
+        .collect()
+}
+
+/// What an export writes.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ExportFormat {
+    Figure(FigureFormat),
+    Csv(PortraitTable),
+    Json(PortraitTable),
+}
+
+impl ExportFormat {
+    /// The format a file name asks for: .svg / .png a figure, .csv / .json a
+    /// table (`which` chooses a portrait's table); None for other names.
+    pub fn from_path(path: &std::path::Path, which: PortraitTable) -> Option<ExportFormat> {
+        if let Some(f) = FigureFormat::from_path(path) {
+            return Some(ExportFormat::Figure(f));
+        }
+        let ext = path.extension()?.to_str()?.to_ascii_lowercase();
+        match ext.as_str() {
+            "csv" => Some(ExportFormat::Csv(which)),
+            "json" => Some(ExportFormat::Json(which)),
+            _ => None,
+        }
+    }
+}
+
+/// An export's bytes and a one-line summary of what they hold.
+#[derive(Clone, Debug)]
+pub struct Exported {
+    pub bytes: Vec<u8>,
+    pub summary: String,
+}
+
+/// Figure or table bytes of `view` for `session` (compiled as `sys`) in
+/// `window`: the one path the command line and the explorer's export share.
+pub fn export(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    view: View,
+    format: ExportFormat,
+    size: FigureSize,
+    cancel: &Cancel,
+) -> Result<Exported, ViewError> {
+    let data = view_data(session, sys, window, view, cancel)?;
+    Ok(export_data(session, sys, &data, view, format, size)?)
+}
+
+/// [`export`] of data already computed.
+pub fn export_data(
+    session: &Session,
+    sys: &System,
+    data: &ViewData,
+    view: View,
+    format: ExportFormat,
+    size: FigureSize,
+) -> Result<Exported, ViewError> {
+    match format {
+        ExportFormat::Figure(f) => {
+            let scene = view_scene(session, sys, data, view);
+            let bytes = figure_bytes(&scene, size, f).map_err(ViewError::Figure)?;
+            Ok(Exported {
+                bytes,
+                summary: format!(
+                    "{}x{} px, {} curves, {} marks",
+                    size.width,
+                    size.height,
+                    scene.curves.len(),
+                    scene.marks.len()
+                ),
+            })
+        }
+        ExportFormat::Csv(which) | ExportFormat::Json(which) => {
+            let t = view_table(sys, data, which);
+            let text = if matches!(format, ExportFormat::Csv(_)) {
+                t.to_csv()
+            } else {
+                t.to_json()
+            };
+            Ok(Exported {
+                bytes: text.into_bytes(),
+                summary: format!("{} rows", t.rows.len()),
+            })
+        }
     }
 }

@@ -453,6 +453,7 @@ fn write_mark(out: &mut String, scene: &Scene, l: &Layout, m: &Mark) {
             format!(r#"mark equilibrium" data-kind="{}"#, kind_name(kind))
         }
         MarkRole::Bifurcation => "mark bifurcation".to_string(),
+        MarkRole::Cusp => "mark cusp".to_string(),
     };
     let _ = write!(
         out,

@@ -4,9 +4,13 @@
 //! shortest text that reads back as the same f64); a missing value is an
 //! empty CSV field and a JSON null.
 
+use crate::core::backbone::Backbone;
+use crate::core::continuation::Sweep;
 use crate::core::equilibria::{DegenerateShape, Equilibrium};
+use crate::core::folds::FoldCurves;
 use crate::core::orbit::Orbit;
 use crate::core::wells::Well;
+use crate::core::window::Window;
 use crate::scene::kind_name;
 use serde_json::{Map, Value};
 
@@ -157,7 +161,7 @@ impl Table {
     }
 
     /// Columns for the parameter values, so every row says where it was computed.
-    fn with_parameters(mut self, params: &[(String, f64)]) -> Table {
+    pub fn with_parameters(mut self, params: &[(String, f64)]) -> Table {
         let n = self.columns.len();
         for (name, _) in params {
             self.columns
@@ -260,27 +264,164 @@ pub fn wells_table(wells: &[Well], params: &[(String, f64)]) -> Table {
     t.with_parameters(params)
 }
 
-/// The samples of several orbits, each row tagged with its orbit's index.
-pub fn orbits_samples_table(orbits: &[Orbit], params: &[(String, f64)]) -> Table {
-    let mut t = Table::new(vec![
-        Column::plain("orbit"),
-        Column::new("t", "t [time]"),
+/// The columns of orbit samples: t, q, p, H.
+fn sample_columns() -> Vec<Column> {
+    vec![
+        Column::plain("t"),
         Column::plain("q"),
         Column::plain("p"),
         Column::new("h", "H"),
-    ]);
+    ]
+}
+
+fn sample_cells(orbit: &Orbit) -> impl Iterator<Item = Vec<Cell>> + '_ {
+    orbit
+        .samples
+        .iter()
+        .map(|s| vec![s.t.into(), s.q.into(), s.p.into(), s.h.into()])
+}
+
+/// The samples of one orbit: t, q, p, H.
+pub fn orbit_samples_table(orbit: &Orbit) -> Table {
+    let mut t = Table::new(sample_columns());
+    for row in sample_cells(orbit) {
+        t.push(row);
+    }
+    t
+}
+
+/// The samples of several orbits, each row tagged with its orbit's index.
+pub fn orbits_samples_table(orbits: &[Orbit], params: &[(String, f64)]) -> Table {
+    let mut columns = vec![Column::plain("orbit")];
+    columns.extend(sample_columns());
+    let mut t = Table::new(columns);
     for (i, o) in orbits.iter().enumerate() {
-        for s in &o.samples {
-            t.push(vec![
-                i.into(),
-                s.t.into(),
-                s.q.into(),
-                s.p.into(),
-                s.h.into(),
-            ]);
+        for row in sample_cells(o) {
+            let mut cells = vec![Cell::from(i)];
+            cells.extend(row);
+            t.push(cells);
         }
     }
     t.with_parameters(params)
+}
+
+/// A sweep: one `point` row per equilibrium on each branch (its branch index
+/// and kind), then one `bifurcation` row per located point (its kind). The
+/// swept parameter's column is headed by its name.
+pub fn sweep_table(sweep: &Sweep) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("record"),
+        Column::plain("branch"),
+        Column::new("param", &sweep.param),
+        Column::plain("q"),
+        Column::plain("p"),
+        Column::plain("energy"),
+        Column::plain("kind"),
+    ]);
+    for (i, b) in sweep.branches.iter().enumerate() {
+        for pt in &b.points {
+            t.push(vec![
+                "point".into(),
+                i.into(),
+                pt.param.into(),
+                pt.q.into(),
+                pt.p.into(),
+                pt.energy.into(),
+                kind_name(pt.kind).into(),
+            ]);
+        }
+    }
+    for b in &sweep.bifurcations {
+        t.push(vec![
+            "bifurcation".into(),
+            Cell::Empty,
+            b.param.into(),
+            b.q.into(),
+            b.p.into(),
+            b.energy.into(),
+            b.kind.name().into(),
+        ]);
+    }
+    t
+}
+
+/// Fold curves: one `point` row per saddle-node on each curve (its curve
+/// index), then one `cusp` row per cusp; the two parameter columns are headed
+/// by their names.
+pub fn folds_table(folds: &FoldCurves) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("record"),
+        Column::plain("curve"),
+        Column::new("param1", &folds.params[0]),
+        Column::new("param2", &folds.params[1]),
+        Column::plain("q"),
+        Column::plain("p"),
+        Column::plain("energy"),
+    ]);
+    let row = |record: &str, curve: Cell, pt: &crate::core::folds::FoldPoint| {
+        vec![
+            record.into(),
+            curve,
+            pt.params[0].into(),
+            pt.params[1].into(),
+            pt.q.into(),
+            pt.p.into(),
+            pt.energy.into(),
+        ]
+    };
+    for (i, c) in folds.curves.iter().enumerate() {
+        for pt in &c.points {
+            t.push(row("point", i.into(), pt));
+        }
+    }
+    for pt in &folds.cusps {
+        t.push(row("cusp", Cell::Empty, pt));
+    }
+    t
+}
+
+/// A backbone: energy, period, angular frequency, action and amplitude per level.
+pub fn backbone_table(backbone: &Backbone) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("energy"),
+        Column::plain("period"),
+        Column::plain("frequency"),
+        Column::plain("action"),
+        Column::plain("amplitude"),
+    ]);
+    for r in &backbone.rows {
+        t.push(vec![
+            r.energy.into(),
+            r.period.into(),
+            r.frequency.into(),
+            r.action.into(),
+            r.amplitude.into(),
+        ]);
+    }
+    t
+}
+
+/// A core result as JSON with the formula, the parameter values by name and
+/// the window added at the top level, so the file says what it was computed from.
+pub fn annotated_json<T: serde::Serialize>(
+    body: &T,
+    formula: &str,
+    parameters: &[(String, f64)],
+    window: &Window,
+) -> String {
+    let params: Map<String, Value> = parameters
+        .iter()
+        .map(|(n, v)| (n.clone(), Value::from(*v)))
+        .collect();
+    let mut value = serde_json::to_value(body).unwrap_or(Value::Null);
+    if let Some(map) = value.as_object_mut() {
+        map.insert("formula".into(), formula.into());
+        map.insert("parameters".into(), params.into());
+        if let Ok(w) = serde_json::to_value(window) {
+            map.insert("window".into(), w);
+        }
+    }
+    serde_json::to_string_pretty(&value).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
 }
 
 /// One row of measurements per orbit: start, energy, period, frequency,

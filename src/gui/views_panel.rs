@@ -1,0 +1,909 @@
+//! The panes beside the portrait: the bifurcation diagram (equilibria against
+//! a swept parameter), the fold curve in the plane of two parameters, and the
+//! backbone of a center (period against energy, frequency against amplitude).
+//! Their numbers come from the core (`continuation::sweep`,
+//! `folds::fold_curves`, `backbone::backbone`) run on the pane lanes of
+//! `worker.rs`; their figures are the scenes of `src/scene.rs` drawn through
+//! the shared scene drawer. The settings they run with are edited here and
+//! returned as commands, so they are undoable and saved with the session.
+
+use crate::core::analysis::Analysis;
+use crate::core::backbone::Backbone;
+use crate::core::continuation::Sweep;
+use crate::core::equilibria::EquilibriumKind;
+use crate::core::folds::FoldCurves;
+use crate::core::system::System;
+use crate::scene::{BackbonePlot, Scene, label_number};
+use crate::session::{BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
+use egui_plot::{Plot, PlotBounds};
+use std::sync::{Arc, Mutex};
+use std::time::Duration;
+
+use super::params_panel::accessible_name;
+use super::scene_plot::{self, Look, SceneView};
+use super::worker::{Lane, Progress, ViewComputed, ViewKind, ViewOutcome, ViewSpec, ViewTask};
+use super::{Command, Selection};
+
+/// Accessible names of the pane plots.
+pub const DIAGRAM_LABEL: &str = "Bifurcation diagram";
+pub const FOLDS_LABEL: &str = "Fold curve";
+pub const BACKBONE_LABEL: &str = "Backbone: period against energy";
+pub const FREQUENCY_LABEL: &str = "Backbone: frequency against amplitude";
+
+/// The session's settings of the panes, edited together.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct PaneSettings {
+    pub sweep: Option<SweepSettings>,
+    pub folds: Option<FoldSettings>,
+    pub backbone: Option<BackboneSettings>,
+}
+
+impl PaneSettings {
+    pub fn of(session: &Session) -> PaneSettings {
+        PaneSettings {
+            sweep: session.sweep.clone(),
+            folds: session.folds.clone(),
+            backbone: session.backbone.clone(),
+        }
+    }
+
+    /// Put these settings into `session`.
+    pub fn store(self, session: &mut Session) {
+        session.sweep = self.sweep;
+        session.folds = self.folds;
+        session.backbone = self.backbone;
+    }
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Tab {
+    #[default]
+    Diagram,
+    Folds,
+    Backbone,
+}
+
+/// What the panes read from the explorer each frame.
+pub struct Inputs<'a> {
+    pub system: Option<&'a System>,
+    pub session: &'a Session,
+    pub analysis: Option<&'a Analysis>,
+    pub selection: Selection,
+    /// A slider or the view is being dragged: hold new jobs until it is released.
+    pub dragging: bool,
+}
+
+/// The settings the panes run with once defaults are filled in.
+#[derive(Clone, Debug, PartialEq)]
+struct Resolved {
+    sweep: Option<(String, f64, f64)>,
+    folds: Option<([String; 2], [f64; 4])>,
+    center: Option<[f64; 2]>,
+}
+
+fn range_of(params: &[Parameter], name: &str) -> Option<(f64, f64)> {
+    params
+        .iter()
+        .find(|p| p.name == name)
+        .map(|p| (p.min, p.max))
+}
+
+fn value_of(params: &[Parameter], name: &str) -> Option<f64> {
+    params.iter().find(|p| p.name == name).map(|p| p.value)
+}
+
+/// The centers in view, in the table's order.
+fn centers(analysis: Option<&Analysis>) -> Vec<[f64; 2]> {
+    analysis.map_or_else(Vec::new, |a| {
+        a.equilibria
+            .iter()
+            .filter(|e| e.kind == EquilibriumKind::Center)
+            .map(|e| [e.q, e.p])
+            .collect()
+    })
+}
+
+/// The formula's parameter names in order.
+fn param_names(inp: &Inputs) -> Vec<String> {
+    inp.system
+        .map(|s| s.formula().params().to_vec())
+        .unwrap_or_default()
+}
+
+/// A drop-down choosing one of `names`; returns the choice.
+fn param_choice(
+    ui: &mut egui::Ui,
+    id: impl std::hash::Hash + std::fmt::Debug,
+    label: &str,
+    current: &str,
+    names: &[String],
+) -> String {
+    let mut chosen = current.to_string();
+    let r = egui::ComboBox::from_id_salt(id)
+        .selected_text(current)
+        .show_ui(ui, |ui| {
+            for n in names {
+                ui.selectable_value(&mut chosen, n.clone(), n);
+            }
+        });
+    accessible_name(&r.response, egui::Role::ComboBox, label);
+    chosen
+}
+
+fn resolve(inp: &Inputs) -> Resolved {
+    let names = param_names(inp);
+    let known = |n: &str| names.iter().any(|m| m == n);
+    let sweep = match &inp.session.sweep {
+        Some(sw) if known(&sw.param) => Some((sw.param.clone(), sw.from, sw.to)),
+        _ => names
+            .first()
+            .and_then(|n| range_of(&inp.session.parameters, n).map(|(lo, hi)| (n.clone(), lo, hi))),
+    };
+    let folds = match &inp.session.folds {
+        Some(f) if known(&f.params[0]) && known(&f.params[1]) && f.params[0] != f.params[1] => {
+            Some((f.params.clone(), f.bounds))
+        }
+        _ if names.len() >= 2 => {
+            let r0 = range_of(&inp.session.parameters, &names[0]);
+            let r1 = range_of(&inp.session.parameters, &names[1]);
+            match (r0, r1) {
+                (Some((a1, b1)), Some((a2, b2))) => {
+                    Some(([names[0].clone(), names[1].clone()], [a1, b1, a2, b2]))
+                }
+                _ => None,
+            }
+        }
+        _ => None,
+    };
+    let selected_center = match (inp.selection, inp.analysis) {
+        (Selection::Equilibrium(i), Some(a)) => a
+            .equilibria
+            .get(i)
+            .filter(|e| e.kind == EquilibriumKind::Center)
+            .map(|e| [e.q, e.p]),
+        _ => None,
+    };
+    // A saved center follows its well: the center in view nearest to it
+    // (parameters move centers; Newton alone may not reach the new one).
+    let in_view = centers(inp.analysis);
+    let nearest = |c: [f64; 2]| {
+        let w = &inp.session.view;
+        in_view
+            .iter()
+            .copied()
+            .min_by(|a, b| {
+                let d =
+                    |x: &[f64; 2]| ((x[0] - c[0]) / w.width()).hypot((x[1] - c[1]) / w.height());
+                d(a).total_cmp(&d(b))
+            })
+            .unwrap_or(c)
+    };
+    let center = inp
+        .session
+        .backbone
+        .as_ref()
+        .and_then(|b| b.center)
+        .map(nearest)
+        .or(selected_center)
+        .or_else(|| in_view.first().copied());
+    Resolved {
+        sweep,
+        folds,
+        center,
+    }
+}
+
+/// A pane's figure, rebuilt when its result or the current point changes.
+#[derive(Default)]
+struct Figure {
+    key: Option<(u64, Vec<u64>)>,
+    views: Vec<SceneView>,
+}
+
+impl Figure {
+    fn update(&mut self, generation: u64, extra: &[f64], build: impl FnOnce() -> Vec<Scene>) {
+        let key = (generation, extra.iter().map(|v| v.to_bits()).collect());
+        if self.key.as_ref() != Some(&key) {
+            self.views = build().iter().map(SceneView::new).collect();
+            self.key = Some(key);
+        }
+    }
+}
+
+pub struct ViewsPanel {
+    pub tab: Tab,
+    lanes: Vec<Lane>,
+    shown: [Option<ViewComputed>; 3],
+    last_spec: [Option<ViewSpec>; 3],
+    figures: [Figure; 3],
+    /// A refused settings edit and why.
+    refused: Option<String>,
+}
+
+impl ViewsPanel {
+    pub fn start(repaint: Arc<Mutex<Option<egui::Context>>>) -> Result<ViewsPanel, String> {
+        let lanes = ViewKind::ALL
+            .iter()
+            .map(|k| Lane::start(*k, repaint.clone()))
+            .collect::<Result<Vec<_>, _>>()?;
+        Ok(ViewsPanel {
+            tab: Tab::Diagram,
+            lanes,
+            shown: Default::default(),
+            last_spec: Default::default(),
+            figures: Default::default(),
+            refused: None,
+        })
+    }
+
+    /// Forget every result (a new session).
+    pub fn reset(&mut self) {
+        self.shown = Default::default();
+        self.last_spec = Default::default();
+        self.figures = Default::default();
+        self.refused = None;
+        for l in &self.lanes {
+            l.cancel();
+        }
+    }
+
+    fn lane(&self, kind: ViewKind) -> &Lane {
+        &self.lanes[kind.index()]
+    }
+
+    /// Take finished jobs; results older than the newest job are dropped.
+    pub fn poll(&mut self) {
+        for k in ViewKind::ALL {
+            let got = self.lane(k).poll();
+            self.accept(got);
+        }
+    }
+
+    fn accept(&mut self, got: Vec<ViewComputed>) {
+        for c in got {
+            let i = c.kind.index();
+            if c.generation == self.lanes[i].latest_generation() {
+                self.shown[i] = Some(c);
+            }
+        }
+    }
+
+    /// Block until every lane has answered its newest job (tests only).
+    pub fn wait(&mut self, timeout: Duration) -> bool {
+        let mut all = true;
+        for k in ViewKind::ALL {
+            let i = k.index();
+            let target = self.lanes[i].latest_generation();
+            if target == 0
+                || self.shown[i]
+                    .as_ref()
+                    .is_some_and(|c| c.generation >= target)
+            {
+                continue;
+            }
+            let got = self.lanes[i].wait_for(target, timeout);
+            self.accept(got);
+            all &= self.shown[i]
+                .as_ref()
+                .is_some_and(|c| c.generation >= target);
+        }
+        all
+    }
+
+    /// True while some pane's newest job has not answered.
+    pub fn busy(&self) -> bool {
+        ViewKind::ALL.iter().any(|&k| self.pending(k))
+    }
+
+    fn pending(&self, k: ViewKind) -> bool {
+        let i = k.index();
+        let target = self.lanes[i].latest_generation();
+        target > 0 && self.shown[i].as_ref().is_none_or(|c| c.generation < target)
+    }
+
+    /// The data range of the diagram as drawn: [xmin, xmax, ymin, ymax].
+    pub fn diagram_bounds(&self) -> Option<[f64; 4]> {
+        self.figures[0].views.first().map(|v| v.bounds)
+    }
+
+    /// The sweep shown in the diagram pane.
+    pub fn sweep(&self) -> Option<&Sweep> {
+        match self.shown[0].as_ref().map(|c| c.outcome.as_ref()) {
+            Some(ViewOutcome::Sweep(Ok(s))) => Some(s),
+            _ => None,
+        }
+    }
+
+    /// The fold curves shown in the fold pane.
+    pub fn folds(&self) -> Option<&FoldCurves> {
+        match self.shown[1].as_ref().map(|c| c.outcome.as_ref()) {
+            Some(ViewOutcome::Folds(Ok(f))) => Some(f),
+            _ => None,
+        }
+    }
+
+    /// The backbone shown in the backbone pane.
+    pub fn backbone(&self) -> Option<&Backbone> {
+        match self.shown[2].as_ref().map(|c| c.outcome.as_ref()) {
+            Some(ViewOutcome::Backbone(Ok(b))) => Some(b),
+            _ => None,
+        }
+    }
+
+    /// Start the jobs whose inputs changed: the diagram always (its
+    /// bifurcations are announced on the portrait), the others while their
+    /// tab is open.
+    pub fn submit_if_changed(&mut self, inp: &Inputs) {
+        if inp.dragging {
+            return;
+        }
+        let Some(sys) = inp.system else {
+            return;
+        };
+        let r = resolve(inp);
+        let base = |task: ViewTask, fixed: &[(&str, f64)]| {
+            let mut params = sys.params().to_vec();
+            for (name, v) in fixed {
+                if let Some(k) = sys.formula().param_index(name) {
+                    params[k] = *v;
+                }
+            }
+            ViewSpec {
+                source: sys.formula().source().to_string(),
+                params,
+                window: inp.session.view,
+                task,
+            }
+        };
+        let mut wanted: Vec<(ViewKind, ViewSpec)> = Vec::new();
+        if let Some((name, from, to)) = &r.sweep {
+            wanted.push((
+                ViewKind::Diagram,
+                base(
+                    ViewTask::Sweep {
+                        param: name.clone(),
+                        from: *from,
+                        to: *to,
+                        cfg: inp.session.sweep_config(),
+                    },
+                    &[(name, *from)],
+                ),
+            ));
+        }
+        if self.tab == Tab::Folds
+            && let Some((names, bounds)) = &r.folds
+        {
+            wanted.push((
+                ViewKind::Folds,
+                base(
+                    ViewTask::Folds {
+                        params: names.clone(),
+                        bounds: *bounds,
+                    },
+                    &[(&names[0], bounds[0]), (&names[1], bounds[2])],
+                ),
+            ));
+        }
+        if self.tab == Tab::Backbone
+            && let Some(center) = r.center
+        {
+            wanted.push((
+                ViewKind::Backbone,
+                base(
+                    ViewTask::Backbone {
+                        center,
+                        cfg: inp.session.backbone_config(),
+                    },
+                    &[],
+                ),
+            ));
+        }
+        for (kind, spec) in wanted {
+            let i = kind.index();
+            if self.last_spec[i].as_ref() == Some(&spec) {
+                continue;
+            }
+            let Ok(system) = System::new(sys.formula_arc().clone(), spec.params.clone()) else {
+                continue;
+            };
+            self.last_spec[i] = Some(spec.clone());
+            self.lanes[i].submit(spec, system);
+        }
+    }
+
+    /// The bifurcation of the shown sweep that a move of `name` from `old` to
+    /// `new` crosses (the one nearest `new`), as "saddle-node at mu = 0.2565".
+    pub fn crossing(&self, name: &str, old: f64, new: f64) -> Option<String> {
+        let c = self.shown[0].as_ref()?;
+        if self.last_spec[0].as_ref() != Some(&c.spec) {
+            return None;
+        }
+        let sweep = self.sweep()?;
+        if sweep.param != name || old == new {
+            return None;
+        }
+        let (lo, hi) = if old < new { (old, new) } else { (new, old) };
+        sweep
+            .bifurcations
+            .iter()
+            .filter(|b| b.param > lo && b.param <= hi || b.param >= lo && b.param < hi)
+            .min_by(|a, b| (a.param - new).abs().total_cmp(&(b.param - new).abs()))
+            .map(|b| format!("{} at {name} = {:.4}", b.kind.name(), b.param))
+    }
+
+    pub fn ui(&mut self, ui: &mut egui::Ui, inp: &Inputs) -> Vec<Command> {
+        let mut commands = Vec::new();
+        ui.horizontal(|ui| {
+            ui.selectable_value(&mut self.tab, Tab::Diagram, "Diagram");
+            ui.selectable_value(&mut self.tab, Tab::Folds, "Fold curve");
+            ui.selectable_value(&mut self.tab, Tab::Backbone, "Backbone");
+        });
+        ui.separator();
+        let r = resolve(inp);
+        let look = Look {
+            dark: ui.visuals().dark_mode,
+            greyed: false,
+            emphasised: None,
+        };
+        if inp.system.is_none() {
+            ui.label("The formula does not compile; the panes wait for a valid one.");
+            return commands;
+        }
+        match self.tab {
+            Tab::Diagram => self.diagram_ui(ui, inp, &r, &look, &mut commands),
+            Tab::Folds => self.folds_ui(ui, inp, &r, &look, &mut commands),
+            Tab::Backbone => self.backbone_ui(ui, inp, &r, &look, &mut commands),
+        }
+        if let Some(msg) = &self.refused {
+            ui.colored_label(ui.visuals().error_fg_color, msg);
+        }
+        if self.busy() {
+            ui.ctx().request_repaint_after(Duration::from_millis(100));
+        }
+        commands
+    }
+
+    /// Progress and cancel while a job runs; what went wrong or was stopped otherwise.
+    fn status_row(&mut self, ui: &mut egui::Ui, kind: ViewKind) {
+        let i = kind.index();
+        if self.pending(kind) {
+            let p: Progress = self.lanes[i].progress();
+            ui.horizontal(|ui| {
+                let fraction = if p.total > 0 {
+                    p.done as f32 / p.total as f32
+                } else {
+                    0.0
+                };
+                ui.add(
+                    egui::ProgressBar::new(fraction)
+                        .desired_width((ui.available_width() - 80.0).max(60.0))
+                        .text(if p.note.is_empty() {
+                            "starting…".to_string()
+                        } else {
+                            p.note.clone()
+                        })
+                        .animate(true),
+                );
+                if ui.button("Cancel").clicked() {
+                    self.lanes[i].cancel();
+                }
+            });
+        }
+        if let Some(c) = &self.shown[i] {
+            if !self.pending(kind) {
+                ui.small(format!("computed in {:.0} ms", c.ms));
+            }
+            if let Some(e) = c.outcome.error() {
+                ui.colored_label(ui.visuals().error_fg_color, e);
+            } else if c.outcome.cancelled() {
+                ui.horizontal(|ui| {
+                    ui.colored_label(
+                        ui.visuals().warn_fg_color,
+                        "Stopped early: showing the part found so far.",
+                    );
+                    if ui.button("Run again").clicked() {
+                        self.last_spec[i] = None;
+                    }
+                });
+            }
+        }
+    }
+
+    fn diagram_ui(
+        &mut self,
+        ui: &mut egui::Ui,
+        inp: &Inputs,
+        r: &Resolved,
+        look: &Look,
+        commands: &mut Vec<Command>,
+    ) {
+        let names = param_names(inp);
+        let Some((name, from, to)) = r.sweep.clone() else {
+            ui.label("The formula has no parameter to sweep.");
+            return;
+        };
+        ui.horizontal(|ui| {
+            ui.label("sweep");
+            let chosen = param_choice(ui, "sweep-param", "swept parameter", &name, &names);
+            if chosen != name {
+                let (lo, hi) = range_of(&inp.session.parameters, &chosen).unwrap_or((from, to));
+                self.refused = None;
+                let mut s = PaneSettings::of(inp.session);
+                s.sweep = Some(SweepSettings {
+                    param: chosen.clone(),
+                    from: lo,
+                    to: hi,
+                    max_step: inp.session.sweep.as_ref().and_then(|w| w.max_step),
+                });
+                commands.push(Command::SetPanes {
+                    settings: s,
+                    dragging: false,
+                });
+            }
+            let (mut a, mut b) = (from, to);
+            ui.label("from");
+            let ra = ui.add(egui::DragValue::new(&mut a).speed(0.01).max_decimals(6));
+            accessible_name(&ra, egui::Role::SpinButton, "sweep from");
+            ui.label("to");
+            let rb = ui.add(egui::DragValue::new(&mut b).speed(0.01).max_decimals(6));
+            accessible_name(&rb, egui::Role::SpinButton, "sweep to");
+            if ra.changed() || rb.changed() {
+                if a < b && a.is_finite() && b.is_finite() {
+                    self.refused = None;
+                    let mut s = PaneSettings::of(inp.session);
+                    s.sweep = Some(SweepSettings {
+                        param: name.clone(),
+                        from: a,
+                        to: b,
+                        max_step: inp.session.sweep.as_ref().and_then(|w| w.max_step),
+                    });
+                    commands.push(Command::SetPanes {
+                        settings: s,
+                        dragging: ra.dragged() || rb.dragged(),
+                    });
+                } else {
+                    self.refused = Some(format!(
+                        "sweep range: from ({a}) must be less than to ({b}); range kept"
+                    ));
+                }
+            }
+        });
+        self.status_row(ui, ViewKind::Diagram);
+        let current = value_of(&inp.session.parameters, &name);
+        let (generation, sys) = match &self.shown[0] {
+            Some(c) => (c.generation, c.system.clone()),
+            None => {
+                ui.label("Computing the branches…");
+                return;
+            }
+        };
+        let sweep = self.sweep().cloned();
+        if let Some(sw) = &sweep {
+            self.figures[0].update(generation, &[current.unwrap_or(f64::NAN)], || {
+                vec![Scene::diagram(&sys, sw, current)]
+            });
+        }
+        let Some(view) = self.figures[0].views.first() else {
+            return;
+        };
+        let height = (ui.available_height() - 110.0).max(160.0);
+        let clicked = pane_plot(ui, "bifurcation-diagram", DIAGRAM_LABEL, view, look, height);
+        if let Some(x) = clicked {
+            let (lo, hi) = range_of(&inp.session.parameters, &name).unwrap_or((from, to));
+            // On the slider's steps when it has them, as the slider would set it.
+            let step = inp
+                .session
+                .parameter(&name)
+                .and_then(|p| p.step)
+                .filter(|s| *s > 0.0);
+            let x = match step {
+                Some(s) => lo + ((x - lo) / s).round() * s,
+                None => x,
+            };
+            commands.push(Command::SetParam {
+                name: name.clone(),
+                value: x.clamp(lo, hi),
+                dragging: false,
+            });
+        }
+        ui.small("Click the diagram to set the parameter there. Centers solid, saddles dashed.");
+        if let Some(sw) = &sweep {
+            if sw.bifurcations.is_empty() {
+                ui.label(format!("No bifurcation for {name} in {from} .. {to}."));
+            }
+            for b in &sw.bifurcations {
+                ui.label(format!(
+                    "{} at {} = {} (q = {}, p = {})",
+                    b.kind.name(),
+                    name,
+                    label_number(b.param),
+                    label_number(b.q),
+                    label_number(b.p)
+                ));
+            }
+        }
+    }
+
+    fn folds_ui(
+        &mut self,
+        ui: &mut egui::Ui,
+        inp: &Inputs,
+        r: &Resolved,
+        look: &Look,
+        commands: &mut Vec<Command>,
+    ) {
+        let names = param_names(inp);
+        let Some((pair, bounds)) = r.folds.clone() else {
+            ui.label("A fold curve needs a formula with two parameters.");
+            return;
+        };
+        let mut new_pair = pair.clone();
+        let mut b = bounds;
+        let mut dragged = false;
+        let mut changed = false;
+        egui::Grid::new("fold-settings")
+            .num_columns(5)
+            .show(ui, |ui| {
+                for k in 0..2 {
+                    ui.label(if k == 0 { "across" } else { "up" });
+                    new_pair[k] = param_choice(
+                        ui,
+                        ("fold-param", k),
+                        if k == 0 {
+                            "fold parameter across"
+                        } else {
+                            "fold parameter up"
+                        },
+                        &pair[k],
+                        &names,
+                    );
+                    ui.label("from");
+                    let ra = ui.add(
+                        egui::DragValue::new(&mut b[2 * k])
+                            .speed(0.01)
+                            .max_decimals(6),
+                    );
+                    accessible_name(
+                        &ra,
+                        egui::Role::SpinButton,
+                        &format!("fold {} from", pair[k]),
+                    );
+                    let rb = ui.add(
+                        egui::DragValue::new(&mut b[2 * k + 1])
+                            .speed(0.01)
+                            .max_decimals(6)
+                            .prefix("to "),
+                    );
+                    accessible_name(&rb, egui::Role::SpinButton, &format!("fold {} to", pair[k]));
+                    changed |= ra.changed() || rb.changed();
+                    dragged |= ra.dragged() || rb.dragged();
+                    ui.end_row();
+                }
+            });
+        if new_pair != pair {
+            for k in 0..2 {
+                if new_pair[k] != pair[k]
+                    && let Some((lo, hi)) = range_of(&inp.session.parameters, &new_pair[k])
+                {
+                    b[2 * k] = lo;
+                    b[2 * k + 1] = hi;
+                }
+            }
+            changed = true;
+        }
+        if changed {
+            let bad = (0..2).find(|&k| {
+                !(b[2 * k] < b[2 * k + 1]) || !b[2 * k].is_finite() || !b[2 * k + 1].is_finite()
+            });
+            if new_pair[0] == new_pair[1] {
+                self.refused = Some(format!(
+                    "fold curve: choose two different parameters (both are {}); kept",
+                    new_pair[0]
+                ));
+            } else if let Some(k) = bad {
+                self.refused = Some(format!(
+                    "fold box: {} from ({}) must be less than to ({}); box kept",
+                    new_pair[k],
+                    b[2 * k],
+                    b[2 * k + 1]
+                ));
+            } else {
+                self.refused = None;
+                let mut s = PaneSettings::of(inp.session);
+                s.folds = Some(FoldSettings {
+                    params: new_pair.clone(),
+                    bounds: b,
+                });
+                commands.push(Command::SetPanes {
+                    settings: s,
+                    dragging: dragged,
+                });
+            }
+        }
+        self.status_row(ui, ViewKind::Folds);
+        let current = match (
+            value_of(&inp.session.parameters, &pair[0]),
+            value_of(&inp.session.parameters, &pair[1]),
+        ) {
+            (Some(a), Some(c)) => Some([a, c]),
+            _ => None,
+        };
+        let Some(c) = &self.shown[1] else {
+            ui.label("Computing the fold curve…");
+            return;
+        };
+        let (generation, sys) = (c.generation, c.system.clone());
+        let folds = self.folds().cloned();
+        if let Some(f) = &folds {
+            let extra = current.map_or(vec![f64::NAN; 2], |c| c.to_vec());
+            self.figures[1].update(generation, &extra, || vec![Scene::folds(&sys, f, current)]);
+        }
+        let Some(view) = self.figures[1].views.first() else {
+            return;
+        };
+        let height = (ui.available_height() - 90.0).max(160.0);
+        let _ = pane_plot(ui, "fold-curve", FOLDS_LABEL, view, look, height);
+        if let Some(f) = &folds {
+            ui.small(format!(
+                "Equilibria are born or vanish in pairs across the curve; {} curve piece(s), {} cusp(s).",
+                f.curves.len(),
+                f.cusps.len()
+            ));
+            for c in &f.cusps {
+                ui.label(format!(
+                    "cusp at {} = {}, {} = {}",
+                    pair[0],
+                    label_number(c.params[0]),
+                    pair[1],
+                    label_number(c.params[1])
+                ));
+            }
+        }
+    }
+
+    fn backbone_ui(
+        &mut self,
+        ui: &mut egui::Ui,
+        inp: &Inputs,
+        r: &Resolved,
+        look: &Look,
+        commands: &mut Vec<Command>,
+    ) {
+        let list = centers(inp.analysis);
+        let Some(center) = r.center else {
+            ui.label("There is no center in view: a backbone needs a well.");
+            return;
+        };
+        let show =
+            |c: [f64; 2]| format!("center at ({}, {})", label_number(c[0]), label_number(c[1]));
+        ui.horizontal(|ui| {
+            ui.label("well of the");
+            let mut chosen = center;
+            let r = egui::ComboBox::from_id_salt("backbone-center")
+                .selected_text(show(center))
+                .show_ui(ui, |ui| {
+                    for c in &list {
+                        ui.selectable_value(&mut chosen, *c, show(*c));
+                    }
+                });
+            accessible_name(&r.response, egui::Role::ComboBox, "backbone center");
+            if chosen != center {
+                let mut s = PaneSettings::of(inp.session);
+                s.backbone = Some(BackboneSettings {
+                    center: Some(chosen),
+                    ..s.backbone.unwrap_or_default()
+                });
+                commands.push(Command::SetPanes {
+                    settings: s,
+                    dragging: false,
+                });
+            }
+        });
+        self.status_row(ui, ViewKind::Backbone);
+        let Some(c) = &self.shown[2] else {
+            ui.label("Computing the backbone…");
+            return;
+        };
+        let (generation, sys) = (c.generation, c.system.clone());
+        let bb = self.backbone().cloned();
+        if let Some(b) = &bb {
+            self.figures[2].update(generation, &[], || {
+                vec![
+                    Scene::backbone(&sys, b, BackbonePlot::PeriodEnergy),
+                    Scene::backbone(&sys, b, BackbonePlot::FrequencyAmplitude),
+                ]
+            });
+        }
+        if self.figures[2].views.len() < 2 {
+            return;
+        }
+        let height = ((ui.available_height() - 90.0) / 2.0).max(130.0);
+        let _ = pane_plot(
+            ui,
+            "backbone-period",
+            BACKBONE_LABEL,
+            &self.figures[2].views[0],
+            look,
+            height,
+        );
+        let _ = pane_plot(
+            ui,
+            "backbone-frequency",
+            FREQUENCY_LABEL,
+            &self.figures[2].views[1],
+            look,
+            height,
+        );
+        if let Some(b) = &bb
+            && let Some(first) = b.rows.first()
+        {
+            ui.label(format!(
+                "period at the bottom (E = {}): {:.5}",
+                label_number(first.energy),
+                first.period
+            ));
+            match b.escape_energy {
+                Some(e) => ui.label(format!(
+                    "escape energy {}: the period grows without bound towards it",
+                    label_number(e)
+                )),
+                None => ui.label("the well reaches the edge of the view before a saddle"),
+            };
+        }
+    }
+}
+
+/// One pane plot of `view` at fixed bounds (no pan or zoom, so a click is a
+/// click); returns the x coordinate of a click.
+fn pane_plot(
+    ui: &mut egui::Ui,
+    id: &str,
+    label: &str,
+    view: &SceneView,
+    look: &Look,
+    height: f32,
+) -> Option<f64> {
+    let [x0, x1, y0, y1] = view.bounds;
+    let mut clicked = None;
+    let mut hovered = None;
+    let response = Plot::new(id)
+        .height(height)
+        .width(ui.available_width())
+        .allow_drag(false)
+        .allow_zoom(false)
+        .allow_scroll(false)
+        .allow_boxed_zoom(false)
+        .allow_double_click_reset(false)
+        .show_crosshair(false)
+        .x_axis_label(view.x_label.clone())
+        .y_axis_label(view.y_label.clone())
+        .label_formatter(|_| None)
+        .show(ui, |pui| {
+            if x1 > x0 && y1 > y0 {
+                pui.set_plot_bounds(PlotBounds::from_min_max([x0, y0], [x1, y1]));
+            }
+            view.draw(pui, look);
+            let r = pui.response();
+            let at = pui.pointer_coordinate();
+            if r.hovered() {
+                hovered = at;
+            }
+            if r.clicked() {
+                clicked = at.map(|p| p.x);
+            }
+        });
+    let enabled = response.response.enabled();
+    let name = label.to_string();
+    response
+        .response
+        .widget_info(|| egui::WidgetInfo::labeled(egui::Role::Canvas, enabled, name.clone()));
+    scene_plot::legend(ui, response.response.rect, &view.legend, look);
+    let readout = hovered.map_or(String::new(), |p| {
+        format!(
+            "{} = {:.5}   {} = {:.5}",
+            view.x_label, p.x, view.y_label, p.y
+        )
+    });
+    ui.label(egui::RichText::new(readout).monospace().small());
+    clicked
+}
