@@ -28,11 +28,15 @@ use std::path::PathBuf;
     version,
     about = "Workbench for conservative one-degree-of-freedom Hamiltonian systems H(q, p)",
     long_about = "Workbench for conservative one-degree-of-freedom Hamiltonian systems H(q, p).\n\
-                  Without a subcommand, opens the desktop explorer."
+                  Without a subcommand, opens the desktop explorer (with FILE if given).",
+    args_conflicts_with_subcommands = true
 )]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Option<Command>,
+    /// A session file to open in the explorer (the same as `phasewright open FILE`).
+    #[arg(value_name = "FILE")]
+    pub file: Option<PathBuf>,
 }
 
 /// The subcommands.
@@ -66,7 +70,7 @@ pub struct SystemArgs {
     #[arg(value_name = "SESSION.json")]
     pub session: Option<PathBuf>,
     /// The Hamiltonian H(q, p), e.g. "p^2/2 - cos(q)"; replaces the session's formula.
-    #[arg(long, value_name = "H")]
+    #[arg(long, value_name = "H", allow_hyphen_values = true)]
     pub formula: Option<String>,
     /// Set a parameter, e.g. --set k=0.5 (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE")]
@@ -101,7 +105,8 @@ pub struct OrbitArgs {
     /// runs until it closes, for at most 100 local periods.
     #[arg(long, allow_negative_numbers = true)]
     pub duration: Option<f64>,
-    /// Integration method: auto, verlet, yoshida4, yoshida6, midpoint, gauss4, gauss6, dopri5.
+    /// Integration method: auto, verlet, yoshida4, yoshida6, nystrom4, nystrom6, split4,
+    /// split6, midpoint, gauss4, gauss6, dopri5.
     #[arg(long, value_name = "NAME")]
     pub method: Option<String>,
     /// Fixed step size (default: from the local time scale).

@@ -8,6 +8,15 @@ use std::io::Write;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
+/// Check the file loads, then open the explorer with it.
+fn open(file: &std::path::Path) -> ExitCode {
+    if let Err(e) = phasewright::session::load_file(file) {
+        eprintln!("phasewright: {}: {e}", file.display());
+        return ExitCode::from(2);
+    }
+    explorer(Some(file.to_path_buf()))
+}
+
 fn main() -> ExitCode {
     // A defect should read as one line, not as a backtrace hint.
     std::panic::set_hook(Box::new(|info| {
@@ -25,14 +34,11 @@ fn main() -> ExitCode {
         }
     };
     match &cli.command {
-        None => explorer(None),
-        Some(Command::Open { file }) => {
-            if let Err(e) = phasewright::session::load_file(file) {
-                eprintln!("phasewright: {}: {e}", file.display());
-                return ExitCode::from(2);
-            }
-            explorer(Some(file.clone()))
-        }
+        None => match &cli.file {
+            None => explorer(None),
+            Some(file) => open(file),
+        },
+        Some(Command::Open { file }) => open(file),
         Some(command) => match phasewright::cli::run(command) {
             Ok(text) => {
                 // A closed pipe (`phasewright analyze … | head`) is not an error of ours.

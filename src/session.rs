@@ -42,9 +42,7 @@ pub const MAX_BACKBONE_ENERGIES: usize = 2000;
 pub const MAX_FILE_BYTES: usize = 16 * 1024 * 1024;
 
 /// Orbit method names a session may use (the integrators' stable names).
-pub const ORBIT_METHODS: [&str; 8] = [
-    "auto", "verlet", "yoshida4", "yoshida6", "midpoint", "gauss4", "gauss6", "dopri5",
-];
+pub const ORBIT_METHODS: [&str; Method::ALL.len()] = Method::NAMES;
 
 /// Names a formula reads as variables or constants, never as parameters.
 const RESERVED_NAMES: [(&str, &str); 5] = [

@@ -226,3 +226,33 @@ fn pendulum_has_centers_at_even_and_saddles_at_odd_multiples_of_pi() {
     );
     assert!(v["connections"].is_array());
 }
+
+#[test]
+fn a_bare_file_argument_is_opened_like_open_and_a_bad_one_exits_2() {
+    // `phasewright FILE` checks the file before any window opens, as `open` does.
+    let o = run(&["no-such-session.json"]);
+    assert_eq!(o.status.code(), Some(2));
+    let e = stderr(&o);
+    assert!(e.contains("no-such-session.json"), "{e}");
+    let o = run(&["open", "no-such-session.json"]);
+    assert_eq!(o.status.code(), Some(2));
+}
+
+#[test]
+fn a_formula_starting_with_a_minus_sign_is_a_value_not_a_flag() {
+    // H = −cos q + p²/2: the pendulum, center at q = 0 (common practice).
+    let o = run(&[
+        "analyze",
+        "--formula",
+        "-cos(q) + p^2/2",
+        "--window",
+        "-1,1,-1,1",
+        "--json",
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("json");
+    let eq = v["equilibria"].as_array().expect("equilibria");
+    assert_eq!(eq.len(), 1);
+    assert_eq!(eq[0]["kind"], "center");
+    assert!(eq[0]["q"].as_f64().expect("q").abs() < 1e-12);
+}

@@ -99,7 +99,7 @@ impl Method {
 
     /// The stable name ("auto", "verlet", "yoshida4", "yoshida6", "nystrom4",
     /// "nystrom6", "split4", "split6", "midpoint", "gauss4", "gauss6", "dopri5").
-    pub fn name(self) -> &'static str {
+    pub const fn name(self) -> &'static str {
         match self {
             Method::Auto => "auto",
             Method::Verlet => "verlet",
@@ -115,6 +115,17 @@ impl Method {
             Method::Dopri5 => "dopri5",
         }
     }
+
+    /// Every stable name, in the order of [`Method::ALL`].
+    pub const NAMES: [&'static str; Method::ALL.len()] = {
+        let mut out = [""; Method::ALL.len()];
+        let mut i = 0;
+        while i < out.len() {
+            out[i] = Method::ALL[i].name();
+            i += 1;
+        }
+        out
+    };
 
     pub fn names() -> Vec<&'static str> {
         Method::ALL.iter().map(|m| m.name()).collect()
