@@ -42,7 +42,7 @@ fn pendulum_orbit_from_ninety_degrees_reports_the_4k_period() {
     assert_eq!(v["closed"], true);
     assert_eq!(v["stop_reason"], "closed");
     assert_eq!(v["motion"], "libration");
-    assert_eq!(v["method"], "yoshida4");
+    assert_eq!(v["method"], "nystrom6");
     let frequency = v["frequency"].as_f64().unwrap();
     assert!((frequency * period - 2.0 * PI).abs() < 1e-12);
     assert!(v["action"].as_f64().unwrap() > 0.0);

@@ -10,7 +10,7 @@ use phasewright::core::equilibria::EquilibriumKind;
 use phasewright::core::window::Window;
 use phasewright::gui::{DIAGRAM_LABEL, EDITOR_LABEL, Explorer, PLOT_LABEL, equilibrium_rows};
 use phasewright::session::{
-    FORMAT_NAME, FORMAT_VERSION, LevelSettings, Parameter, Session, SweepSettings,
+    BackboneSettings, FORMAT_NAME, FORMAT_VERSION, LevelSettings, Parameter, Session, SweepSettings,
 };
 use std::time::Duration;
 
@@ -560,4 +560,37 @@ fn a_sweep_range_with_from_above_to_is_refused_and_edits_undo() {
     settle(&mut f.harness);
     let sw = f.harness.state().session.sweep.clone().expect("sweep");
     assert_eq!((sw.from, sw.to), (-1.0, 1.0));
+}
+
+#[test]
+fn a_saved_backbone_center_follows_its_well_when_a_parameter_moves() {
+    // H = p²/2 + (1 − P)q²/2 + g q⁴/4 − w q at P = 1: one well, its center where
+    // g q³ = w, i.e. q = (w/g)^(1/3), with ω² = H_qq = 3 g q² (closed form).
+    let mut s = session(
+        "p^2/2 + (1 - P)*q^2/2 + g*q^4/4 - w*q",
+        &[
+            ("P", 1.0, 0.0, 3.0),
+            ("g", 0.8, 0.1, 2.0),
+            ("w", 0.05, -0.5, 0.5),
+        ],
+        window(-2.0, 2.0, -1.0, 1.0),
+    );
+    // Saved where the right-hand center sat at a larger load.
+    s.backbone = Some(BackboneSettings {
+        center: Some([1.05, 0.0]),
+        energies: None,
+    });
+    let mut f = open(s);
+    f.harness.state_mut().show_pane("backbone");
+    settle(&mut f.harness);
+    let b = f
+        .harness
+        .state()
+        .backbone()
+        .expect("backbone of the remaining well");
+    let q = (0.05f64 / 0.8).cbrt();
+    assert!((b.center[0] - q).abs() < 1e-9, "center at {:?}", b.center);
+    let period = std::f64::consts::TAU / (3.0 * 0.8 * q * q).sqrt();
+    let first = b.rows.first().expect("rows");
+    assert!((first.period - period).abs() < 1e-6, "T = {}", first.period);
 }

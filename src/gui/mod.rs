@@ -540,6 +540,14 @@ impl Explorer {
                     commands.extend(self.params.ui(ui, &self.session.parameters, &unused));
                 });
             });
+        egui::Panel::right("diagram-panes")
+            .resizable(true)
+            .default_size(440.0)
+            .show(ui, |ui| {
+                let system = self.system();
+                let inputs = pane_inputs!(self, system.as_ref());
+                commands.extend(self.views.ui(ui, &inputs));
+            });
         egui::Panel::bottom("tables")
             .resizable(true)
             .default_size(210.0)
@@ -552,14 +560,6 @@ impl Explorer {
                     &outcomes,
                     self.selection,
                 ));
-            });
-        egui::Panel::right("diagram-panes")
-            .resizable(true)
-            .default_size(440.0)
-            .show(ui, |ui| {
-                let system = self.system();
-                let inputs = pane_inputs!(self, system.as_ref());
-                commands.extend(self.views.ui(ui, &inputs));
             });
         let busy = self.portrait_busy();
         let greyed = self.formula.error.is_some();

@@ -163,13 +163,29 @@ fn resolve(inp: &Inputs) -> Resolved {
             .map(|e| [e.q, e.p]),
         _ => None,
     };
+    // A saved center follows its well: the center in view nearest to it
+    // (parameters move centers; Newton alone may not reach the new one).
+    let in_view = centers(inp.analysis);
+    let nearest = |c: [f64; 2]| {
+        let w = &inp.session.view;
+        in_view
+            .iter()
+            .copied()
+            .min_by(|a, b| {
+                let d =
+                    |x: &[f64; 2]| ((x[0] - c[0]) / w.width()).hypot((x[1] - c[1]) / w.height());
+                d(a).total_cmp(&d(b))
+            })
+            .unwrap_or(c)
+    };
     let center = inp
         .session
         .backbone
         .as_ref()
         .and_then(|b| b.center)
+        .map(nearest)
         .or(selected_center)
-        .or_else(|| centers(inp.analysis).first().copied());
+        .or_else(|| in_view.first().copied());
     Resolved {
         sweep,
         folds,
@@ -574,6 +590,16 @@ impl ViewsPanel {
         let clicked = pane_plot(ui, "bifurcation-diagram", DIAGRAM_LABEL, view, look, height);
         if let Some(x) = clicked {
             let (lo, hi) = range_of(&inp.session.parameters, &name).unwrap_or((from, to));
+            // On the slider's steps when it has them, as the slider would set it.
+            let step = inp
+                .session
+                .parameter(&name)
+                .and_then(|p| p.step)
+                .filter(|s| *s > 0.0);
+            let x = match step {
+                Some(s) => lo + ((x - lo) / s).round() * s,
+                None => x,
+            };
             commands.push(Command::SetParam {
                 name: name.clone(),
                 value: x.clamp(lo, hi),

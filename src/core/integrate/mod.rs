@@ -1,7 +1,8 @@
 //! Time steppers for Hamilton's equations q' = ∂H/∂p, p' = −∂H/∂q.
 //!
-//! One file per method family: [`splitting`] (explicit compositions for
-//! separable H), [`gauss`] (implicit Gauss–Legendre collocation for any H) and
+//! One file per method family: [`splitting`] (explicit splitting methods for
+//! separable H: Störmer–Verlet, Yoshida's compositions, the optimised
+//! partitioned and Nyström splittings), [`gauss`] (implicit Gauss–Legendre collocation for any H) and
 //! [`dopri`] (an adaptive embedded Runge–Kutta pair with dense output). The
 //! [`Integrator`] holds the chosen method and its work counters; each step also
 //! returns ∫ p dq over the step, integrated with the same method, so the orbit
@@ -33,8 +34,9 @@ impl State {
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Method {
-    /// Yoshida-4 when H is separable and does not depend on t, Gauss–Legendre
-    /// with 3 stages otherwise.
+    /// For H = T(p) + V(q) without t: the 6th-order Nyström splitting when T
+    /// is quadratic in p, else the 6th-order partitioned splitting;
+    /// Gauss–Legendre with 3 stages for any other H.
     Auto,
     /// Störmer–Verlet, order 2, explicit, separable H only.
     Verlet,
@@ -42,6 +44,16 @@ pub enum Method {
     Yoshida4,
     /// Yoshida's 6th-order composition (solution A), separable H only.
     Yoshida6,
+    /// Optimised Runge–Kutta–Nyström splitting, order 4, 6 stages; separable H
+    /// with T quadratic in p.
+    Nystrom4,
+    /// Optimised Runge–Kutta–Nyström splitting, order 6, 11 stages; separable
+    /// H with T quadratic in p.
+    Nystrom6,
+    /// Optimised partitioned splitting, order 4, 6 stages; separable H.
+    Split4,
+    /// Optimised partitioned splitting, order 6, 10 stages; separable H.
+    Split6,
     /// Implicit midpoint rule (Gauss–Legendre, 1 stage), order 2, any H.
     Midpoint,
     /// Gauss–Legendre collocation with 2 stages, order 4, any H.
@@ -70,25 +82,33 @@ impl fmt::Display for UnknownMethod {
 impl std::error::Error for UnknownMethod {}
 
 impl Method {
-    pub const ALL: [Method; 8] = [
+    pub const ALL: [Method; 12] = [
         Method::Auto,
         Method::Verlet,
         Method::Yoshida4,
         Method::Yoshida6,
+        Method::Nystrom4,
+        Method::Nystrom6,
+        Method::Split4,
+        Method::Split6,
         Method::Midpoint,
         Method::Gauss4,
         Method::Gauss6,
         Method::Dopri5,
     ];
 
-    /// The stable name ("auto", "verlet", "yoshida4", "yoshida6", "midpoint",
-    /// "gauss4", "gauss6", "dopri5").
+    /// The stable name ("auto", "verlet", "yoshida4", "yoshida6", "nystrom4",
+    /// "nystrom6", "split4", "split6", "midpoint", "gauss4", "gauss6", "dopri5").
     pub fn name(self) -> &'static str {
         match self {
             Method::Auto => "auto",
             Method::Verlet => "verlet",
             Method::Yoshida4 => "yoshida4",
             Method::Yoshida6 => "yoshida6",
+            Method::Nystrom4 => "nystrom4",
+            Method::Nystrom6 => "nystrom6",
+            Method::Split4 => "split4",
+            Method::Split6 => "split6",
             Method::Midpoint => "midpoint",
             Method::Gauss4 => "gauss4",
             Method::Gauss6 => "gauss6",
@@ -114,19 +134,29 @@ impl Method {
     /// are returned unchanged.
     pub fn resolve(self, sys: &System) -> Method {
         match self {
-            Method::Auto if sys.is_separable() && !sys.depends_on_time() => Method::Yoshida4,
+            Method::Auto if sys.is_separable() && !sys.depends_on_time() => {
+                if kinetic_is_quadratic(sys) {
+                    Method::Nystrom6
+                } else {
+                    Method::Split6
+                }
+            }
             Method::Auto => Method::Gauss6,
             m => m,
         }
     }
 
-    /// Classical order of accuracy (`Auto`: the order of what it resolves to for
-    /// a separable H).
+    /// Classical order of accuracy (`Auto`: the order of what it resolves to;
+    /// the Nyström methods have it when T is quadratic in p).
     pub fn order(self) -> u32 {
         match self {
             Method::Verlet | Method::Midpoint => 2,
-            Method::Auto | Method::Yoshida4 | Method::Gauss4 => 4,
-            Method::Yoshida6 | Method::Gauss6 => 6,
+            Method::Yoshida4 | Method::Nystrom4 | Method::Split4 | Method::Gauss4 => 4,
+            Method::Auto
+            | Method::Yoshida6
+            | Method::Nystrom6
+            | Method::Split6
+            | Method::Gauss6 => 6,
             Method::Dopri5 => 5,
         }
     }
@@ -135,9 +165,23 @@ impl Method {
         !matches!(self, Method::Dopri5)
     }
 
-    /// True for the explicit compositions, which need H = T(p) + V(q).
+    /// True for the explicit splitting methods, which need H = T(p) + V(q).
     pub fn needs_separable(self) -> bool {
-        matches!(self, Method::Verlet | Method::Yoshida4 | Method::Yoshida6)
+        matches!(
+            self,
+            Method::Verlet
+                | Method::Yoshida4
+                | Method::Yoshida6
+                | Method::Nystrom4
+                | Method::Nystrom6
+                | Method::Split4
+                | Method::Split6
+        )
+    }
+
+    /// True for the Nyström splittings, which also need T quadratic in p.
+    pub fn needs_quadratic_kinetic(self) -> bool {
+        matches!(self, Method::Nystrom4 | Method::Nystrom6)
     }
 
     pub fn is_adaptive(self) -> bool {
@@ -152,8 +196,10 @@ impl Method {
     pub fn default_steps_per_period(self) -> f64 {
         match self {
             Method::Verlet | Method::Midpoint => 2000.0,
-            Method::Auto | Method::Yoshida4 => 2000.0,
+            Method::Yoshida4 => 2000.0,
             Method::Yoshida6 => 300.0,
+            Method::Nystrom4 | Method::Split4 => 400.0,
+            Method::Auto | Method::Nystrom6 | Method::Split6 => 120.0,
             Method::Gauss4 => 600.0,
             Method::Gauss6 => 120.0,
             Method::Dopri5 => 100.0,
@@ -165,6 +211,14 @@ impl fmt::Display for Method {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(self.name())
     }
+}
+
+/// True when ∂H/∂p is affine in p (T quadratic in p), read from the
+/// derivative program's structure.
+pub fn kinetic_is_quadratic(sys: &System) -> bool {
+    sys.formula()
+        .derivative_program(crate::core::formula::SLOT_P, sys.params())
+        .is_affine_in(crate::core::formula::SLOT_P)
 }
 
 /// Why a step could not be taken.
@@ -213,6 +267,8 @@ impl std::error::Error for StepError {}
 pub enum IntegratorError {
     /// An explicit composition was asked for a formula that mixes q and p (or depends on t).
     NotSeparable(Method),
+    /// A Nyström splitting was asked for a kinetic part that is not quadratic in p.
+    KineticNotQuadratic(Method),
 }
 
 impl fmt::Display for IntegratorError {
@@ -221,6 +277,10 @@ impl fmt::Display for IntegratorError {
             IntegratorError::NotSeparable(m) => write!(
                 f,
                 "method '{m}' needs H = T(p) + V(q) without t; this formula mixes q and p or depends on t — use 'gauss6', 'gauss4', 'midpoint' or 'auto'"
+            ),
+            IntegratorError::KineticNotQuadratic(m) => write!(
+                f,
+                "method '{m}' needs a kinetic part quadratic in p (such as p^2/2); use 'split6', 'split4', 'yoshida4' or 'auto'"
             ),
         }
     }
@@ -233,8 +293,10 @@ impl std::error::Error for IntegratorError {}
 pub struct Counters {
     /// Steps accepted (a partial step to locate a crossing counts as one).
     pub steps: u64,
-    /// Forward passes for first derivatives: a full field (q', p') counts one,
-    /// and so does a single kick (∂H/∂q) or drift (∂H/∂p) of a splitting method.
+    /// Evaluations of first derivatives: a full field (q', p') counts one,
+    /// and so does a single kick (∂H/∂q) or drift (∂H/∂p) of a splitting
+    /// method (half of a field; a derivative kept from the previous flow is
+    /// not counted again).
     pub field_evaluations: u64,
     /// Forward passes for second derivatives (the exact Hessian for Newton).
     pub jet_evaluations: u64,
@@ -261,7 +323,7 @@ pub struct Integrator {
 
 #[derive(Clone, Debug)]
 enum Kind {
-    Splitting(splitting::Composition),
+    Splitting(splitting::Splitting),
     Gauss(gauss::Collocation),
     Dopri(dopri::Dopri5),
 }
@@ -271,16 +333,22 @@ impl Integrator {
     pub fn new(sys: &System, method: Method) -> Result<Integrator, IntegratorError> {
         let method = method.resolve(sys);
         let kind = match method {
-            Method::Verlet | Method::Yoshida4 | Method::Yoshida6 => {
+            m if m.needs_separable() => {
                 if !sys.is_separable() || sys.depends_on_time() {
                     return Err(IntegratorError::NotSeparable(method));
                 }
-                Kind::Splitting(splitting::Composition::new(method))
+                if m.needs_quadratic_kinetic() && !kinetic_is_quadratic(sys) {
+                    return Err(IntegratorError::KineticNotQuadratic(method));
+                }
+                match splitting::Scheme::for_method(m) {
+                    Some(s) => Kind::Splitting(splitting::Splitting::new(s)),
+                    None => Kind::Gauss(gauss::Collocation::new(3)),
+                }
             }
             Method::Midpoint => Kind::Gauss(gauss::Collocation::new(1)),
             Method::Gauss4 => Kind::Gauss(gauss::Collocation::new(2)),
-            Method::Auto | Method::Gauss6 => Kind::Gauss(gauss::Collocation::new(3)),
             Method::Dopri5 => Kind::Dopri(dopri::Dopri5::new(dopri::DEFAULT_TOLERANCE)),
+            _ => Kind::Gauss(gauss::Collocation::new(3)),
         };
         Ok(Integrator {
             method,
