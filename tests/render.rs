@@ -175,22 +175,11 @@ fn png_has_requested_size_and_marker_colours_at_equilibria() {
     let pixmap = rasterize(&svg, 1.0).unwrap();
     assert_eq!((pixmap.width(), pixmap.height()), (1200, 900));
     // Not blank: many pixels differ from white.
-    let dark = pixmap
-        .pixels()
-        .iter()
-        .filter(|p| p.red() < 200 || p.green() < 200 || p.blue() < 200)
-        .count();
+    let dark = drawn_pixels(&pixmap);
     assert!(dark > 10_000, "only {dark} drawn pixels");
     // The mark's centre in pixels: read it back from the SVG the PNG was made from.
     let doc = roxmltree::Document::parse(&svg).unwrap();
-    let view: Vec<f64> = doc
-        .root_element()
-        .attribute("viewBox")
-        .unwrap()
-        .split(' ')
-        .map(|v| v.parse().unwrap())
-        .collect();
-    let scale = 1200.0 / view[2];
+    let scale = pixel_scale(&doc, 1200);
     for m in doc
         .descendants()
         .filter(|n| n.has_tag_name("g") && has_class(n, "equilibrium"))
@@ -200,17 +189,54 @@ fn png_has_requested_size_and_marker_colours_at_equilibria() {
             Some("saddle") => EquilibriumKind::Saddle,
             _ => EquilibriumKind::Degenerate,
         };
-        let (cx, cy) = marker_centre(&m);
-        let (px, py) = ((cx * scale).floor() as u32, (cy * scale).floor() as u32);
-        let p = pixmap.pixel(px, py).unwrap();
-        let want = marker_for(kind).colour;
-        let close = |a: u8, b: u8| (i32::from(a) - i32::from(b)).abs() <= 24;
-        assert!(
-            close(p.red(), want.0) && close(p.green(), want.1) && close(p.blue(), want.2),
-            "{kind:?} at ({px},{py}) is {:?}, want {want:?}",
-            (p.red(), p.green(), p.blue())
+        assert_mark_colour(
+            &pixmap,
+            scale,
+            &m,
+            marker_for(kind).colour,
+            &format!("{kind:?}"),
         );
     }
+}
+
+/// Pixels of `pixmap` drawn in something other than near-white.
+fn drawn_pixels(pixmap: &resvg::tiny_skia::Pixmap) -> usize {
+    pixmap
+        .pixels()
+        .iter()
+        .filter(|p| p.red() < 200 || p.green() < 200 || p.blue() < 200)
+        .count()
+}
+
+/// Output pixels per SVG unit: the PNG's width over the viewBox's.
+fn pixel_scale(doc: &roxmltree::Document, width: u32) -> f64 {
+    let view: Vec<f64> = doc
+        .root_element()
+        .attribute("viewBox")
+        .unwrap()
+        .split(' ')
+        .map(|v| v.parse().unwrap())
+        .collect();
+    f64::from(width) / view[2]
+}
+
+/// Assert that the pixel at the centre of mark group `g` has colour `want` (within 24 per channel).
+fn assert_mark_colour(
+    pixmap: &resvg::tiny_skia::Pixmap,
+    scale: f64,
+    g: &roxmltree::Node,
+    want: scene::Rgb,
+    what: &str,
+) {
+    let (cx, cy) = marker_centre(g);
+    let (px, py) = ((cx * scale).floor() as u32, (cy * scale).floor() as u32);
+    let p = pixmap.pixel(px, py).unwrap();
+    let close = |a: u8, b: u8| (i32::from(a) - i32::from(b)).abs() <= 24;
+    assert!(
+        close(p.red(), want.0) && close(p.green(), want.1) && close(p.blue(), want.2),
+        "{what} at ({px},{py}) is {:?}, want {want:?}",
+        (p.red(), p.green(), p.blue())
+    );
 }
 
 /// The centre of a mark group: its square's or first circle's centre, or the midpoint of its first path.
@@ -496,17 +522,23 @@ fn render_command_csv_holds_the_analysis_values_bit_for_bit() {
     }
 }
 
+/// The imperfect pitchfork H = p²/2 + q⁴/4 − μq²/2 − εq at ε = 0.05 and the
+/// given μ, with a window holding all its equilibria for |μ| ≤ 1.
+fn imperfect_pitchfork(mu: f64) -> (System, Window) {
+    let sys = System::from_source(
+        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
+        &[("mu", mu), ("eps", 0.05)],
+    )
+    .unwrap();
+    (sys, Window::new(-2.0, 2.0, -1.0, 1.0).unwrap())
+}
+
 /// The imperfect pitchfork H = p²/2 + q⁴/4 − μq²/2 − εq with ε = 0.05 swept
 /// over μ in [−1, 1]: one saddle-node at μ = (27ε²/4)^(1/3) = 0.25649639200150,
 /// q = −√(μ/3) (cusp catastrophe; closed form).
 fn imperfect_pitchfork_sweep() -> (System, phasewright::core::continuation::Sweep) {
     use phasewright::core::continuation::{SweepConfig, sweep};
-    let sys = System::from_source(
-        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
-        &[("mu", 0.1), ("eps", 0.05)],
-    )
-    .unwrap();
-    let window = Window::new(-2.0, 2.0, -1.0, 1.0).unwrap();
+    let (sys, window) = imperfect_pitchfork(0.1);
     let s = sweep(
         &sys,
         "mu",
@@ -602,12 +634,7 @@ fn folds_scene_draws_the_cusp_curve_and_marks_the_cusp() {
     use phasewright::core::folds::{FoldConfig, fold_curves};
     use phasewright::scene::MarkRole;
     // 27ε² = 4μ³ with its cusp at μ = ε = 0 (cusp catastrophe; closed form).
-    let sys = System::from_source(
-        "p^2/2 + q^4/4 - mu*q^2/2 - eps*q",
-        &[("mu", 0.5), ("eps", 0.05)],
-    )
-    .unwrap();
-    let window = Window::new(-2.0, 2.0, -1.0, 1.0).unwrap();
+    let (sys, window) = imperfect_pitchfork(0.5);
     let f = fold_curves(
         &sys,
         ["mu", "eps"],
@@ -685,36 +712,15 @@ fn diagram_png_has_the_bifurcation_marker_colour_at_the_saddle_node() {
     let svg = to_svg(&Scene::diagram(&sys, &s, None), size);
     let pixmap = rasterize(&svg, 1.0).unwrap();
     assert_eq!((pixmap.width(), pixmap.height()), (1600, 1200));
-    let drawn = pixmap
-        .pixels()
-        .iter()
-        .filter(|p| p.red() < 200 || p.green() < 200 || p.blue() < 200)
-        .count();
+    let drawn = drawn_pixels(&pixmap);
     assert!(drawn > 5_000, "only {drawn} drawn pixels");
     let doc = roxmltree::Document::parse(&svg).unwrap();
-    let view: Vec<f64> = doc
-        .root_element()
-        .attribute("viewBox")
-        .unwrap()
-        .split(' ')
-        .map(|v| v.parse().unwrap())
-        .collect();
-    let scale = 1600.0 / view[2];
     let mark = doc
         .descendants()
         .find(|n| n.has_tag_name("g") && has_class(n, "bifurcation"))
         .unwrap();
-    let (cx, cy) = marker_centre(&mark);
-    let p = pixmap
-        .pixel((cx * scale).floor() as u32, (cy * scale).floor() as u32)
-        .unwrap();
     let want = scene::BIFURCATION_MARKER.colour;
-    let close = |a: u8, b: u8| (i32::from(a) - i32::from(b)).abs() <= 24;
-    assert!(
-        close(p.red(), want.0) && close(p.green(), want.1) && close(p.blue(), want.2),
-        "saddle-node pixel is {:?}, want {want:?}",
-        (p.red(), p.green(), p.blue())
-    );
+    assert_mark_colour(&pixmap, pixel_scale(&doc, 1600), &mark, want, "saddle-node");
 }
 
 /// The views a session's settings allow (a backbone needs a center in view,
