@@ -24,7 +24,7 @@ fn median_ms(runs: usize, mut f: impl FnMut()) -> f64 {
 
 fn main() {
     // a formula just under the operation cap: "q*p+" repeated
-    let terms = MAX_TAPE_OPS / 3 - 10;
+    let terms = MAX_TAPE_OPS / 4 - 10;
     let formula = vec!["q*p"; terms].join("+");
     let ops = Formula::compile(&formula)
         .map(|f| f.ops().len())
