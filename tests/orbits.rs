@@ -432,3 +432,24 @@ fn energy_drift_is_small_and_counted_work_is_reported() {
     assert!(rel(o.period.unwrap(), 7.416298709205488) < 1e-10);
     assert!(o.q_range[1] <= PI / 2.0 + 1e-9 && o.q_range[0] >= -PI / 2.0 - 1e-9);
 }
+
+#[test]
+fn a_moving_start_in_a_very_wide_view_is_not_taken_for_an_equilibrium() {
+    // Harmonic oscillator H = (p² + q²)/2 from (1, 0): T = 2π exactly (closed
+    // form), whatever the size of the view around it.
+    let sys = system("p^2/2 + q^2/2", &[]);
+    let wide = Window::new(-1e14, 1e14, -1e14, 1e14).unwrap();
+    let mut req = OrbitRequest::new(1.0, 0.0, 100.0, &wide);
+    req.stop_when_closed = true;
+    let o = integrate_orbit(&sys, &req, &Cancel::never());
+    assert_ne!(o.stop, StopReason::AtEquilibrium);
+    let period = o.period.expect("the orbit closes");
+    assert!(rel(period, 2.0 * PI) < 1e-10, "period {period}");
+    // The equilibrium itself is still recognised.
+    let at = integrate_orbit(
+        &sys,
+        &OrbitRequest::new(0.0, 0.0, 10.0, &wide),
+        &Cancel::never(),
+    );
+    assert_eq!(at.stop, StopReason::AtEquilibrium);
+}

@@ -21,8 +21,11 @@ pub const MIN_STEPS_PER_DURATION: f64 = 16.0;
 /// A return to the section counts only within this fraction of the orbit's
 /// size (the diagonal of its extent so far) from the start point.
 pub const RETURN_RADIUS_FRACTION: f64 = 0.1;
-/// A start point whose phase speed × local time scale is below this fraction
-/// of the length scale is an equilibrium.
+/// A start point whose phase speed × local time scale (its linearised
+/// distance from an equilibrium) is below this fraction of the local length
+/// scale — the start's own size plus a thousandth of the view — is an
+/// equilibrium. The scale is local so that a very wide view does not turn
+/// moving points into equilibria.
 pub const EQUILIBRIUM_FRACTION: f64 = 1e-13;
 /// Newton on the crossing time stops when its change is below this fraction
 /// of the elapsed time.
@@ -450,7 +453,7 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
     let field0 = jet0.field();
     let speed0 = field0[0].hypot(field0[1]);
     let rate0 = local_rate(&jet0);
-    let length = req.bounds.diagonal() / BOUNDS_FACTOR + start.q.abs().max(start.p.abs());
+    let length = start.q.abs().max(start.p.abs()) + 1e-3 * req.bounds.diagonal() / BOUNDS_FACTOR;
     if speed0 == 0.0 || (rate0 > 0.0 && speed0 / rate0 < EQUILIBRIUM_FRACTION * length) {
         orbit.stop = StopReason::AtEquilibrium;
         orbit.motion = Motion::Equilibrium;

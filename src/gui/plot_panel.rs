@@ -352,7 +352,7 @@ impl PlotPanel {
                     status.push('\n');
                 }
                 status.push_str(&format!(
-                    "H is NaN or infinite on {:.1}% of the window; those cells are left blank.",
+                    "H is undefined, infinite or jumps (a pole) on {:.1}% of the window; those cells are left blank.",
                     100.0 * frac
                 ));
             }
