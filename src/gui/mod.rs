@@ -515,9 +515,11 @@ impl Explorer {
                 }
             });
         });
+        // First-frame widths: the portrait keeps at least about half the window.
+        let full_width = ui.available_width();
         egui::Panel::left("formula-and-parameters")
             .resizable(true)
-            .default_size(330.0)
+            .default_size((0.23 * full_width).clamp(260.0, 330.0))
             .show(ui, |ui| {
                 egui::ScrollArea::vertical().show(ui, |ui| {
                     if !self.session.title.is_empty() || !self.session.notes.is_empty() {
@@ -542,7 +544,7 @@ impl Explorer {
             });
         egui::Panel::right("diagram-panes")
             .resizable(true)
-            .default_size(440.0)
+            .default_size((0.27 * full_width).clamp(280.0, 520.0))
             .show(ui, |ui| {
                 let system = self.system();
                 let inputs = pane_inputs!(self, system.as_ref());

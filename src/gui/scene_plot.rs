@@ -222,12 +222,20 @@ impl SceneView {
         }
         if !self.labels.is_empty() {
             let [dx, dy] = pui.transform().dvalue_dpos();
+            let bounds = pui.plot_bounds();
+            let mid_x = 0.5 * (bounds.min()[0] + bounds.max()[0]);
             for l in &self.labels {
-                let at = PlotPoint::new(l.at.x + LABEL_OFFSET * dx, l.at.y - LABEL_OFFSET * dy);
+                // Labels in the right half of the plot read leftwards so they stay inside it.
+                let (offset, anchor) = if l.at.x > mid_x {
+                    (-LABEL_OFFSET, egui::Align2::RIGHT_BOTTOM)
+                } else {
+                    (LABEL_OFFSET, egui::Align2::LEFT_BOTTOM)
+                };
+                let at = PlotPoint::new(l.at.x + offset * dx, l.at.y - LABEL_OFFSET * dy);
                 pui.text(
                     Text::new("", at, egui::RichText::new(&l.text).size(12.0))
                         .color(look.colour(l.colour))
-                        .anchor(egui::Align2::LEFT_BOTTOM)
+                        .anchor(anchor)
                         .allow_hover(false),
                 );
             }
