@@ -5,6 +5,9 @@ use phasewright::core::formula::{Formula, MAX_SOURCE_BYTES};
 use phasewright::core::system::System;
 use proptest::prelude::*;
 use std::sync::Arc;
+#[path = "common/row_check.rs"]
+mod row_check;
+use row_check::row_matches_tape;
 
 /// Compile `src`; when it compiles, evaluate it every way the program does.
 /// Returns the refusal message when refused.
@@ -37,21 +40,7 @@ fn exercise(src: &str) -> Option<String> {
                     let _ = s.param_jet(q, p, k);
                 }
             }
-            let row = s.row_program();
-            let qs = [-1.0, 0.0, 0.5, 2.0];
-            let mut out = [0.0; 4];
-            row.eval_row(&qs, 0.25, &mut out);
-            // the fast row evaluator agrees with the tape
-            for (i, &q) in qs.iter().enumerate() {
-                let want = s.energy(q, 0.25);
-                let same = (out[i] - want).abs() <= 1e-12 * (1.0 + want.abs())
-                    || (out[i].is_nan() && want.is_nan());
-                assert!(
-                    same || !want.is_finite(),
-                    "{src:?} at q = {q}: row {} vs tape {want}",
-                    out[i]
-                );
-            }
+            row_matches_tape(&s, src);
             None
         }
     }

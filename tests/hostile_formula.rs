@@ -10,6 +10,9 @@
 
 #[path = "common/hostile.rs"]
 mod hostile;
+#[path = "common/row_check.rs"]
+mod row_check;
+use row_check::row_matches_tape;
 
 use hostile::{bounded, cases};
 use phasewright::core::formula::{
@@ -105,20 +108,7 @@ fn exercise(src: &str) -> Option<phasewright::core::formula::FormulaError> {
                         "{src:?}: rounding evaluation {v} vs {h}"
                     );
                 }
-                let row = s.row_program();
-                let qs = [-1.0, 0.0, 0.5, 2.0];
-                let mut out = [0.0; 4];
-                row.eval_row(&qs, 0.25, &mut out);
-                for (i, &q) in qs.iter().enumerate() {
-                    let want = s.energy(q, 0.25);
-                    let same = (out[i] - want).abs() <= 1e-12 * (1.0 + want.abs())
-                        || (out[i].is_nan() && want.is_nan());
-                    assert!(
-                        same || !want.is_finite(),
-                        "{src:?} at q = {q}: row {} vs tape {want}",
-                        out[i]
-                    );
-                }
+                row_matches_tape(&s, &src);
                 None
             }
         },
