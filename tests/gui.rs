@@ -3,8 +3,11 @@
 //! state and its tables.
 #![cfg(feature = "gui")]
 
+#[path = "common/explorer.rs"]
+mod explorer;
 use egui_kittest::Harness;
 use egui_kittest::kittest::{NodeT, Queryable};
+use explorer::settle;
 use phasewright::core::continuation::BifurcationKind;
 use phasewright::core::equilibria::EquilibriumKind;
 use phasewright::core::window::Window;
@@ -12,7 +15,6 @@ use phasewright::gui::{DIAGRAM_LABEL, EDITOR_LABEL, Explorer, PLOT_LABEL, equili
 use phasewright::session::{
     BackboneSettings, FORMAT_NAME, FORMAT_VERSION, LevelSettings, Parameter, Session, SweepSettings,
 };
-use std::time::Duration;
 
 fn session(formula: &str, params: &[(&str, f64, f64, f64)], view: Window) -> Session {
     Session {
@@ -61,18 +63,6 @@ fn open(s: Session) -> Fixture {
     let mut f = Fixture { harness, data };
     settle(&mut f.harness);
     f
-}
-
-/// Run frames until the worker has answered the newest job and the tables show it.
-fn settle(h: &mut Harness<'static, Explorer>) {
-    for _ in 0..20 {
-        h.run_steps(2);
-        let done = h.state_mut().wait_for_worker(Duration::from_secs(20));
-        h.run_steps(2);
-        if done && !h.state().busy() {
-            return;
-        }
-    }
 }
 
 /// A press and release of the primary button at `at` (a click, no drag).

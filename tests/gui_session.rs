@@ -3,11 +3,13 @@
 //! the bounds around the view follow the view when it moves.
 #![cfg(feature = "gui")]
 
+#[path = "common/explorer.rs"]
+mod explorer;
 use egui_kittest::Harness;
+use explorer::settle;
 use phasewright::core::window::Window;
 use phasewright::gui::{EXAMPLES, Explorer};
 use phasewright::session::{SeededOrbit, Session};
-use std::time::Duration;
 
 fn harness(session: Session) -> (Harness<'static, Explorer>, tempfile::TempDir) {
     let data = tempfile::tempdir().expect("temp dir");
@@ -19,17 +21,6 @@ fn harness(session: Session) -> (Harness<'static, Explorer>, tempfile::TempDir) 
         .build_ui_state(|ui, app: &mut Explorer| app.show(ui), app);
     settle(&mut h);
     (h, data)
-}
-
-fn settle(h: &mut Harness<'static, Explorer>) {
-    for _ in 0..20 {
-        h.run_steps(2);
-        let done = h.state_mut().wait_for_worker(Duration::from_secs(20));
-        h.run_steps(2);
-        if done && !h.state().busy() {
-            return;
-        }
-    }
 }
 
 #[test]

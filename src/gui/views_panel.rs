@@ -522,23 +522,24 @@ impl ViewsPanel {
             ui.label("The formula has no parameter to sweep.");
             return;
         };
+        // The edit that puts a new swept parameter or range in the session.
+        let set_sweep = |param: &str, from: f64, to: f64, dragging: bool| {
+            let mut settings = PaneSettings::of(inp.session);
+            settings.sweep = Some(SweepSettings {
+                param: param.to_string(),
+                from,
+                to,
+                max_step: inp.session.sweep.as_ref().and_then(|w| w.max_step),
+            });
+            Command::SetPanes { settings, dragging }
+        };
         ui.horizontal(|ui| {
             ui.label("sweep");
             let chosen = param_choice(ui, "sweep-param", "swept parameter", &name, &names);
             if chosen != name {
                 let (lo, hi) = range_of(&inp.session.parameters, &chosen).unwrap_or((from, to));
                 self.refused = None;
-                let mut s = PaneSettings::of(inp.session);
-                s.sweep = Some(SweepSettings {
-                    param: chosen.clone(),
-                    from: lo,
-                    to: hi,
-                    max_step: inp.session.sweep.as_ref().and_then(|w| w.max_step),
-                });
-                commands.push(Command::SetPanes {
-                    settings: s,
-                    dragging: false,
-                });
+                commands.push(set_sweep(&chosen, lo, hi, false));
             }
             let (mut a, mut b) = (from, to);
             ui.label("from");
@@ -550,17 +551,7 @@ impl ViewsPanel {
             if ra.changed() || rb.changed() {
                 if a < b && a.is_finite() && b.is_finite() {
                     self.refused = None;
-                    let mut s = PaneSettings::of(inp.session);
-                    s.sweep = Some(SweepSettings {
-                        param: name.clone(),
-                        from: a,
-                        to: b,
-                        max_step: inp.session.sweep.as_ref().and_then(|w| w.max_step),
-                    });
-                    commands.push(Command::SetPanes {
-                        settings: s,
-                        dragging: ra.dragged() || rb.dragged(),
-                    });
+                    commands.push(set_sweep(&name, a, b, ra.dragged() || rb.dragged()));
                 } else {
                     self.refused = Some(format!(
                         "sweep range: from ({a}) must be less than to ({b}); range kept"
