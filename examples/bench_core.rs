@@ -1,9 +1,10 @@
 //! Benchmark of the core: formula tape against a hand-written closure, grid plus
 //! level curves, and the equilibrium search, on the tilted double well
 //! H = p²/2 + q⁴/4 − μq²/2 + εq (μ = 1, ε = 0.05) over [−2, 2] × [−1.5, 1.5].
-//! When python3 with numpy, scipy and contourpy is available it also runs the
-//! hand-scripted peer (`../shared/bench/script_stack.py`, or the path in
-//! `PHASEWRIGHT_PEER_BENCH`) and prints our speed relative to it.
+//! It also runs the project's hand-scripted peer
+//! (`examples/peers/practitioner_stack.py`, NumPy + contourpy + SciPy) and, where
+//! present, the outside one (`../shared/bench/script_stack.py` or
+//! `PHASEWRIGHT_PEER_BENCH`), and prints our speed relative to each.
 //!
 //! Run: `cargo run --release --no-default-features --example bench_core`
 
@@ -14,6 +15,9 @@ use phasewright::core::equilibria::{EquilibriumConfig, find_equilibria};
 use phasewright::core::system::System;
 use phasewright::core::window::Window;
 use std::hint::black_box;
+
+#[path = "common/peers.rs"]
+mod peers;
 use std::time::Instant;
 
 const N: usize = 512;
@@ -141,52 +145,28 @@ fn main() {
         eqs.len()
     );
 
-    match peer() {
-        Ok(peer) => {
-            let get = |k: &str| peer.get(k).and_then(|v| v.as_f64());
-            println!("peer script (numpy + contourpy + scipy), same problem, medians:");
-            let rows = [
-                ("grid_eval_plus_contours_ms", contours, " (target >= 5x)"),
-                ("equilibria_ms", equilibria, " (target >= 5x)"),
-                ("grid_eval_ms", grid_only, ""),
-            ];
-            for (key, ours, target) in rows {
-                if let Some(v) = get(key) {
-                    println!(
-                        "  {key:27} {v:9.3} ms   ours {:8.3} ms   speed-up {:.1}x{target}",
-                        ours.median,
-                        v / ours.median
-                    );
-                }
+    let peers = peers::run_peers(&["--grid", &N.to_string(), "--levels", &LEVELS.to_string()]);
+    if peers.is_empty() {
+        println!("no peer script ran (see the messages above)");
+    }
+    for peer in &peers {
+        println!(
+            "{} (numpy + contourpy + scipy), same problem, medians:",
+            peer.label
+        );
+        let rows = [
+            ("grid_eval_plus_contours_ms", contours, " (target >= 5x)"),
+            ("equilibria_ms", equilibria, " (target >= 5x)"),
+            ("grid_eval_ms", grid_only, ""),
+        ];
+        for (key, ours, target) in rows {
+            if let Some(v) = peer.get(key) {
+                println!(
+                    "  {key:27} {v:9.3} ms   ours {:8.3} ms   speed-up {:.1}x{target}",
+                    ours.median,
+                    v / ours.median
+                );
             }
         }
-        Err(why) => println!("peer script not run: {why}"),
     }
-}
-
-fn peer() -> Result<serde_json::Value, String> {
-    let path = std::env::var("PHASEWRIGHT_PEER_BENCH").unwrap_or_else(|_| {
-        format!(
-            "{}/../shared/bench/script_stack.py",
-            env!("CARGO_MANIFEST_DIR")
-        )
-    });
-    if !std::path::Path::new(&path).exists() {
-        return Err(format!("{path} not found"));
-    }
-    let out = std::process::Command::new("python3")
-        .arg(&path)
-        .args(["--grid", &N.to_string(), "--levels", &LEVELS.to_string()])
-        .output()
-        .map_err(|e| format!("python3: {e}"))?;
-    if !out.status.success() {
-        let err = String::from_utf8_lossy(&out.stderr);
-        let last = err.lines().last().unwrap_or("").to_string();
-        return Err(format!(
-            "{path} failed ({last}); set up with `python3 -m pip install numpy scipy contourpy`"
-        ));
-    }
-    let text = String::from_utf8_lossy(&out.stdout);
-    let line = text.lines().last().unwrap_or("");
-    serde_json::from_str(line).map_err(|e| format!("peer output is not JSON: {e}"))
 }

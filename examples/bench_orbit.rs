@@ -4,7 +4,8 @@
 //! a hand-written script stack (SciPy DOP853) for comparison.
 //!
 //! Run: cargo run --release --no-default-features --example bench_orbit
-//! (set PHASEWRIGHT_BENCH_NO_PYTHON=1 to skip the script stack).
+//! (set PHASEWRIGHT_BENCH_NO_PYTHON=1 to skip the peer scripts; the verdicts are
+//! against the project's own peer, `examples/peers/practitioner_stack.py`).
 
 use phasewright::core::Cancel;
 use phasewright::core::formula::SLOT_Q;
@@ -13,8 +14,10 @@ use phasewright::core::orbit::{OrbitRequest, integrate_orbit};
 use phasewright::core::system::System;
 use phasewright::core::window::Window;
 use std::f64::consts::PI;
-use std::process::Command;
 use std::time::Instant;
+
+#[path = "common/peers.rs"]
+mod peers;
 
 /// 4K(1/√2): the period from 90° (A&S 17.6).
 const PERIOD: f64 = 7.416298709205488;
@@ -127,30 +130,21 @@ struct Peer {
     error: f64,
 }
 
-fn peer() -> Option<Peer> {
-    if std::env::var_os("PHASEWRIGHT_BENCH_NO_PYTHON").is_some() {
-        return None;
-    }
-    let script = std::env::var("PHASEWRIGHT_SCRIPT_STACK")
-        .unwrap_or_else(|_| "/work/shared/bench/script_stack.py".into());
-    let out = Command::new("python3")
-        .arg(&script)
-        .args(["--repeat", "3"])
-        .output()
-        .ok()?;
-    if !out.status.success() {
-        eprintln!(
-            "script stack failed: {}",
-            String::from_utf8_lossy(&out.stderr)
-        );
-        return None;
-    }
-    let v: serde_json::Value = serde_json::from_slice(&out.stdout).ok()?;
-    Some(Peer {
-        wall_ms: v["orbit_1000_periods_ms"].as_f64()?,
-        evaluations: v["orbit_rhs_evaluations"].as_f64()?,
-        error: v["orbit_energy_drift"].as_f64()?,
-    })
+/// The peers' DOP853 runs; the first (the project's own script) sets the verdicts.
+fn peers() -> Vec<(String, Peer)> {
+    peers::run_peers(&["--repeat", "3"])
+        .into_iter()
+        .filter_map(|run| {
+            Some((
+                run.label.clone(),
+                Peer {
+                    wall_ms: run.get("orbit_1000_periods_ms")?,
+                    evaluations: run.get("orbit_rhs_evaluations")?,
+                    error: run.get("orbit_energy_drift")?,
+                },
+            ))
+        })
+        .collect()
 }
 
 fn main() {
@@ -188,7 +182,8 @@ fn main() {
         .iter()
         .map(|&(m, n, tol)| orbit_row(&sys, m, n, tol))
         .collect();
-    let peer = peer();
+    let all_peers = peers();
+    let peer = all_peers.first().map(|(_, p)| p);
     println!(
         "{:<24} {:>11} {:>12} {:>9} {:>10} {:>10} {:>9}",
         "method", "energy err", "evaluations", "jets", "steps", "wall ms", "vs peer"
@@ -216,11 +211,18 @@ fn main() {
             r.label, r.error, r.evaluations, r.jets, r.steps, r.wall_ms, verdict
         );
     }
-    if let Some(p) = &peer {
+    for (label, p) in &all_peers {
         println!(
             "{:<24} {:>11.3e} {:>12} {:>9} {:>10} {:>10.2}",
-            "script stack DOP853", p.error, p.evaluations as u64, "-", "-", p.wall_ms
+            format!("DOP853, {}", label.split(' ').next().unwrap_or("")),
+            p.error,
+            p.evaluations as u64,
+            "-",
+            "-",
+            p.wall_ms
         );
+    }
+    if let Some(p) = &peer {
         println!(
             "\nvs peer: E = energy error <= peer's, N = evaluations <= peer's / 10, W = wall time <= peer's / 100"
         );
