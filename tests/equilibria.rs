@@ -602,3 +602,42 @@ fn close_triple_just_past_the_pitchfork_is_resolved() {
         }
     }
 }
+
+// ---- explicit time: a formula in t is analysed at a stated, frozen time ----
+
+/// H = p²/2 + q²/2 − F q cos t frozen at t₀ has its one center where
+/// ∂H/∂q = q − F cos t₀ = 0, i.e. at q = F cos t₀ (closed form).
+#[test]
+fn formula_in_t_is_analysed_at_its_frozen_time() {
+    let s = sys("p^2/2 + q^2/2 - F*q*cos(t)", &[("F", 0.4)]);
+    let w = win(-2.0, 2.0, -2.0, 2.0);
+    for t0 in [0.0, 1.0, PI] {
+        let frozen = s.frozen_at(t0);
+        assert_eq!(frozen.time(), t0);
+        assert_eq!(frozen.energy(0.7, -0.2), s.energy_t(0.7, -0.2, t0));
+        let (eqs, diags) =
+            find_equilibria(&frozen, &w, &EquilibriumConfig::default(), &Cancel::never());
+        assert_eq!(eqs.len(), 1, "one center at t0 = {t0}");
+        assert_close(eqs[0].q, 0.4 * t0.cos(), 1e-12, "center q = F cos t0");
+        let stated = format!("frozen at t = {t0}");
+        assert!(
+            diags.iter().any(|d| d.message.contains(&stated)),
+            "the diagnostics state the frozen time {t0}: {diags:?}"
+        );
+    }
+}
+
+/// Freezing the time of a formula without t changes no bit of any value.
+#[test]
+fn frozen_time_leaves_an_autonomous_formula_unchanged() {
+    let s = sys("p^2/2 - cos(q) + a*q^3", &[("a", 0.1)]);
+    let frozen = s.frozen_at(12.5);
+    for &(q, p) in &[(0.3, -0.4), (2.0, 1.1), (-1.7, 0.0)] {
+        assert_eq!(s.energy(q, p).to_bits(), frozen.energy(q, p).to_bits());
+        assert_eq!(s.jet(q, p), frozen.jet(q, p));
+        assert_eq!(
+            s.third_jet(q, p, &[0]).third,
+            frozen.third_jet(q, p, &[0]).third
+        );
+    }
+}

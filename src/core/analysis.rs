@@ -66,7 +66,7 @@ pub struct Analysis {
     pub cancelled: bool,
 }
 
-/// Analyse `sys` in `window` at t = 0.
+/// Analyse `sys` in `window` at its frozen time (`System::time`, 0 unless set).
 ///
 /// Stages, with the cancel flag polled between them: sample H on a
 /// `cfg.grid`² grid; find the equilibria; trace `cfg.levels` evenly spaced
@@ -91,9 +91,10 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
         )));
     }
     if sys.depends_on_time() {
-        diagnostics.push(Diagnostic::info(
-            "H depends on t, so energy is not conserved; the portrait shows H at t = 0",
-        ));
+        diagnostics.push(Diagnostic::info(format!(
+            "H depends on t, so energy is not conserved; the portrait shows H frozen at t = {}",
+            sys.time()
+        )));
     }
     let mut grid = super::contour::sample_grid(sys, window, n, n);
     grid_diagnostics(&grid, &mut diagnostics);

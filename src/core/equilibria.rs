@@ -676,9 +676,10 @@ pub fn find_equilibria(
         ));
     }
     if sys.depends_on_time() {
-        diags.push(Diagnostic::info(
-            "H depends on t; the equilibria shown are those of H at t = 0",
-        ));
+        diags.push(Diagnostic::info(format!(
+            "H depends on t; the equilibria shown are those of H frozen at t = {}",
+            sys.time()
+        )));
     }
     let s = Scale {
         wq: window.width(),

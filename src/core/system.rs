@@ -116,10 +116,18 @@ impl From<FormulaError> for SystemError {
 }
 
 /// A compiled Hamiltonian with parameter values. Cheap to clone (the formula is shared).
+///
+/// Time is explicit. The methods with a `_t` suffix take t as an argument (the
+/// integrators use them); every other method — energy, field, jets, the row
+/// program — evaluates at the system's *frozen time*, [`System::time`], which
+/// is 0 unless set with [`System::frozen_at`]. For a formula without t the
+/// frozen time changes nothing; for one with t, the analysis states the time
+/// it froze (see [`System::depends_on_time`]).
 #[derive(Clone, Debug)]
 pub struct System {
     formula: Arc<Formula>,
     params: Vec<f64>,
+    time: f64,
 }
 
 impl System {
@@ -137,7 +145,11 @@ impl System {
         }
         let mut params = params;
         params.truncate(formula.params().len());
-        Ok(System { formula, params })
+        Ok(System {
+            formula,
+            params,
+            time: 0.0,
+        })
     }
 
     /// Compile `source` and take parameter values by name; a parameter without
@@ -181,6 +193,19 @@ impl System {
         s
     }
 
+    /// The same system with its frozen time set to `t` (a non-finite `t` is
+    /// taken as 0). Only the methods without a `_t` suffix read it.
+    pub fn frozen_at(&self, t: f64) -> System {
+        let mut s = self.clone();
+        s.time = if t.is_finite() { t } else { 0.0 };
+        s
+    }
+
+    /// The time at which the methods without a `_t` suffix evaluate H.
+    pub fn time(&self) -> f64 {
+        self.time
+    }
+
     /// True when H = T(p) + V(q), so explicit splitting methods apply.
     pub fn is_separable(&self) -> bool {
         self.formula.is_separable()
@@ -203,9 +228,9 @@ impl System {
         buf
     }
 
-    /// H(q, p) at t = 0.
+    /// H(q, p) at the frozen time.
     pub fn energy(&self, q: f64, p: f64) -> f64 {
-        self.energy_t(q, p, 0.0)
+        self.energy_t(q, p, self.time)
     }
 
     /// H(q, p, t).
@@ -233,12 +258,12 @@ impl System {
         [self.dh_dp(q, p, t).1, -self.dh_dq(q, p, t).1]
     }
 
-    /// The vector field at t = 0.
+    /// The vector field at the frozen time.
     pub fn field(&self, q: f64, p: f64) -> [f64; 2] {
-        self.field_t(q, p, 0.0)
+        self.field_t(q, p, self.time)
     }
 
-    /// [∂H/∂q, ∂H/∂p] at t = 0.
+    /// [∂H/∂q, ∂H/∂p] at the frozen time.
     pub fn gradient(&self, q: f64, p: f64) -> [f64; 2] {
         let j = self.jet(q, p);
         [j.hq, j.hp]
@@ -264,9 +289,9 @@ impl System {
         }
     }
 
-    /// H with first and second derivatives at (q, p), t = 0.
+    /// H with first and second derivatives at (q, p) and the frozen time.
     pub fn jet(&self, q: f64, p: f64) -> Jet {
-        self.jet_t(q, p, 0.0)
+        self.jet_t(q, p, self.time)
     }
 
     /// The Hessian of H at (q, p): [[H_qq, H_qp], [H_qp, H_pp]].
@@ -280,13 +305,13 @@ impl System {
         self.jet(q, p).jacobian()
     }
 
-    /// H with derivatives in (q, p, μ) where μ is parameter `param` (t = 0).
+    /// H with derivatives in (q, p, μ) where μ is parameter `param`, at the frozen time.
     /// Used by continuation, which needs ∂/∂μ exactly.
     pub fn param_jet(&self, q: f64, p: f64, param: usize) -> ParamJet {
         let mut buf = self.slots(
             Dual2SVec64::<3>::from_re(q).derivative(0),
             Dual2SVec64::<3>::from_re(p).derivative(1),
-            Dual2SVec64::<3>::from(0.0),
+            Dual2SVec64::<3>::from(self.time),
         );
         if let Some(v) = self.params.get(param) {
             buf.as_mut()[FIRST_PARAM_SLOT + param] = Dual2SVec64::<3>::from_re(*v).derivative(2);
@@ -317,7 +342,7 @@ impl System {
     /// H with derivatives up to third order in (q, p, μ_a, μ_b, …) where the
     /// μ are the parameters with indices `params` (at most
     /// [`MAX_THIRD_JET_PARAMS`]; extra indices and unknown ones are ignored),
-    /// at t = 0. One forward pass per variable, with a second-order dual number
+    /// at the frozen time. One forward pass per variable, with a second-order dual number
     /// over first-order duals: the outer number carries the Hessian, the inner
     /// one differentiates it once more along the variable.
     pub fn third_jet(&self, q: f64, p: f64, params: &[usize]) -> ThirdJet {
@@ -347,7 +372,7 @@ impl System {
                 let inner = Dual64::new(base[i], if i == k { 1.0 } else { 0.0 });
                 D3::from_re(inner).derivative(i)
             };
-            let mut buf = self.slots(var(0), var(1), D3::from(0.0));
+            let mut buf = self.slots(var(0), var(1), D3::from_re(Dual64::from(self.time)));
             for (i, &pk) in params.iter().enumerate() {
                 buf.as_mut()[FIRST_PARAM_SLOT + pk] = var(2 + i);
             }
@@ -370,9 +395,9 @@ impl System {
         out
     }
 
-    /// A fast evaluator of H over many points at t = 0 and the current parameters.
+    /// A fast evaluator of H over many points at the frozen time and the current parameters.
     pub fn row_program(&self) -> RowProgram {
-        self.formula.specialize(0.0, &self.params)
+        self.formula.specialize(self.time, &self.params)
     }
 }
 
