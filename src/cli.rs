@@ -673,6 +673,24 @@ fn parse_one(option: &str, text: &str, shape: &str) -> Result<f64, CliError> {
     Ok(parse_numbers(option, text, 1, shape)?[0])
 }
 
+/// A parameter named on the command line must be one of the formula's: the
+/// panes fall back to the first parameters for a stale name in a saved file,
+/// but a name the user typed just now is refused.
+fn known_parameter(session: &Session, flag: &str, name: &str) -> Result<(), CliError> {
+    let Ok(formula) = crate::core::formula::Formula::compile(&session.formula) else {
+        return Ok(()); // the formula's own error is reported where it is compiled
+    };
+    if formula.param_index(name).is_some() {
+        return Ok(());
+    }
+    let listed = formula.params().join(", ");
+    Err(CliError(if listed.is_empty() {
+        format!("{flag} {name}: the formula has no parameters")
+    } else {
+        format!("{flag} {name}: the formula has no parameter {name} (its parameters: {listed})")
+    }))
+}
+
 impl SweepFlags {
     /// Replace the session's sweep settings with the flags given; the rest
     /// come from the session. All three must be known in the end.
@@ -695,6 +713,7 @@ impl SweepFlags {
             .or(base.as_ref().map(|b| b.param.clone()));
         match (param, from, to) {
             (Some(param), Some(from), Some(to)) => {
+                known_parameter(session, "--param", &param)?;
                 session.sweep = Some(SweepSettings {
                     param,
                     from,
@@ -749,6 +768,9 @@ impl FoldFlags {
         };
         match (params, bounds) {
             (Some(params), Some(bounds)) => {
+                for name in &params {
+                    known_parameter(session, "--params", name)?;
+                }
                 session.folds = Some(FoldSettings { params, bounds });
                 Ok(())
             }

@@ -6,5 +6,6 @@ pub mod core;
 #[cfg(feature = "gui")]
 pub mod gui;
 pub mod render;
+pub mod request;
 pub mod scene;
 pub mod session;

@@ -76,3 +76,41 @@ fn an_orbit_stopped_at_the_bounds_is_integrated_again_when_the_view_grows() {
         "after zooming out the orbit still stops at {second}"
     );
 }
+
+/// Whatever the panes show can be re-made from the saved file: for every
+/// example, the requests the explorer's diagram, fold and backbone panes run
+/// equal the ones `render` builds from the file the explorer saved.
+#[test]
+fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file() {
+    use phasewright::core::Cancel;
+    use phasewright::request::{FoldsRequest, SweepRequest};
+    let dir = tempfile::tempdir().expect("temp dir");
+    for (name, text) in EXAMPLES {
+        let (session, _) = phasewright::session::load(text).expect("example loads");
+        let (mut h, _data) = harness(session);
+        let shown = h.state().pane_requests();
+        let path = dir.path().join(name);
+        h.state_mut().save_to(&path);
+        let (saved, _) = phasewright::session::load_file(&path).expect("saved file loads");
+        let sys = saved.system().expect("saved system compiles");
+        let names = sys.formula().params();
+        assert_eq!(
+            shown.sweep,
+            SweepRequest::from_session(&saved, names),
+            "{name}: diagram"
+        );
+        assert_eq!(
+            shown.folds,
+            FoldsRequest::from_session(&saved, names),
+            "{name}: fold curves"
+        );
+        let rendered =
+            phasewright::render::backbone_request_of(&saved, &sys, &saved.view, &Cancel::never())
+                .ok();
+        assert_eq!(shown.backbone, rendered, "{name}: backbone");
+        assert!(
+            shown.sweep.is_some() || names.is_empty(),
+            "{name}: a formula with parameters always has a diagram"
+        );
+    }
+}

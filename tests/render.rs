@@ -785,12 +785,12 @@ fn render_command_draws_every_session_in_every_view_its_settings_allow() {
 fn render_command_names_the_missing_settings_and_exits_2() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("d.svg");
-    // The bond example has no sweep and no fold settings.
-    let path = sessions_dir().join("diatomic-bond.json");
+    // A formula without parameters has nothing to sweep and no fold plane.
     for (view, flag) in [("diagram", "--param"), ("folds", "--box")] {
         let o = run(&[
             "render",
-            path.to_str().unwrap(),
+            "--formula",
+            "p^2/2 + q^2/2",
             "-o",
             out.to_str().unwrap(),
             "--view",
@@ -799,11 +799,33 @@ fn render_command_names_the_missing_settings_and_exits_2() {
         let err = String::from_utf8_lossy(&o.stderr);
         assert_eq!(o.status.code(), Some(2), "{view}: {err}");
         assert!(
-            err.contains(flag) && err.contains("session"),
+            err.contains(flag) && err.contains("parameter"),
             "{view}: {err}"
         );
     }
-    // Flags supply what the file lacks.
+    assert!(!out.exists());
+}
+
+/// Without `sweep` or `folds` sections `render` makes what the explorer's panes
+/// show: the first parameter over its slider range, the first two parameters'
+/// plane (the bond example has neither section; D runs over 1..8 on its slider).
+#[test]
+fn render_without_pane_settings_uses_the_explorers_defaults() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = sessions_dir().join("diatomic-bond.json");
+    let out = dir.path().join("d.csv");
+    let o = run(&[
+        "render",
+        path.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--view",
+        "diagram",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(text.lines().count() > 10, "a diagram table: {text}");
+    // Flags still replace the defaults.
     let o = run(&[
         "render",
         path.to_str().unwrap(),
@@ -819,7 +841,6 @@ fn render_command_names_the_missing_settings_and_exits_2() {
         "8",
     ]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    assert!(!dir.path().join("f.svg").exists());
 }
 
 /// Run `render` of `session` to a CSV file with extra flags; the parsed rows.
@@ -989,16 +1010,17 @@ fn explorer_export_writes_the_same_bytes_as_the_render_command() {
             "{flag}"
         );
     }
-    // A session without sweep settings: the export says so and writes nothing.
-    let (bond, _) = load_example("diatomic-bond.json");
+    // A session whose formula has no parameter has no diagram: the export
+    // says so and writes nothing.
+    let plain = phasewright::session::Session::blank("p^2/2 + q^2/2");
     let target = dir.path().join("none.svg");
     let e = phasewright::gui::export_to_file(
-        &bond,
+        &plain,
         View::Diagram,
         ExportFormat::Figure(FigureFormat::Svg),
         &target,
     )
     .unwrap_err();
-    assert!(e.contains("sweep settings"), "{e}");
+    assert!(e.contains("no parameter"), "{e}");
     assert!(!target.exists());
 }

@@ -12,9 +12,9 @@ pub struct MenuState<'a> {
     pub can_undo: bool,
     pub can_redo: bool,
     pub dark: bool,
-    /// The session has sweep settings (the diagram can be exported).
+    /// The diagram pane has a sweep to show (so the diagram can be exported).
     pub has_sweep: bool,
-    /// The session has fold-curve settings.
+    /// The fold pane has a parameter plane to show.
     pub has_folds: bool,
 }
 
@@ -130,7 +130,7 @@ pub fn example_title(file_name: &str) -> String {
 }
 
 /// Figures (SVG, PNG) and tables (CSV, JSON) of each view; a view the
-/// session has no settings for is greyed out.
+/// panes have nothing to show for (no parameter to sweep) is greyed out.
 fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
     let figures = [
         ("Figure (SVG)…", ExportFormat::Figure(FigureFormat::Svg)),

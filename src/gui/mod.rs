@@ -31,7 +31,9 @@ pub use files::{DATA_DIR_ENV, EXAMPLES, NO_NATIVE_DIALOG_ENV};
 pub use formula_panel::EDITOR_LABEL;
 pub use plot_panel::PLOT_LABEL;
 pub use tables_panel::{equilibrium_rows, orbit_row, well_rows};
-pub use views_panel::{BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, PaneSettings};
+pub use views_panel::{
+    BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, PaneRequests, PaneSettings,
+};
 
 use crate::render;
 use dialogs::Modal;
@@ -294,6 +296,14 @@ impl Explorer {
 
     // ----- read-only views used by tests and the benchmark -----
 
+    /// The requests behind the panes for what is shown now (the diagram, fold
+    /// and backbone panes run these when open; `render` builds the same ones
+    /// from the saved file).
+    pub fn pane_requests(&self) -> views_panel::PaneRequests {
+        let system = self.system();
+        views_panel::resolve(&pane_inputs!(self, system.as_ref()))
+    }
+
     /// The formula text in the editor (may differ from the session's while it does not compile).
     pub fn editor_text(&self) -> &str {
         &self.formula.text
@@ -492,6 +502,7 @@ impl Explorer {
         self.poll_dialog(&mut commands);
         self.poll_exports();
 
+        let exportable = self.pane_requests();
         egui::Panel::top("menu").show(ui, |ui| {
             commands.extend(menu_bar::ui(
                 ui,
@@ -500,8 +511,8 @@ impl Explorer {
                     can_undo: self.history.can_undo(),
                     can_redo: self.history.can_redo(),
                     dark: self.dark,
-                    has_sweep: self.session.sweep.is_some(),
-                    has_folds: self.session.folds.is_some(),
+                    has_sweep: exportable.sweep.is_some(),
+                    has_folds: exportable.folds.is_some(),
                 },
             ));
         });

@@ -13,6 +13,9 @@ use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
 use crate::core::system::System;
+use crate::request::{
+    BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_of, range_of,
+};
 use crate::scene::{BackbonePlot, Scene, label_number};
 use crate::session::{BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
 use egui_plot::{Plot, PlotBounds};
@@ -73,19 +76,13 @@ pub struct Inputs<'a> {
     pub dragging: bool,
 }
 
-/// The settings the panes run with once defaults are filled in.
+/// The requests the panes run, with every default settled by `crate::request`
+/// (the same requests `render` and the command line build from the saved file).
 #[derive(Clone, Debug, PartialEq)]
-struct Resolved {
-    sweep: Option<(String, f64, f64)>,
-    folds: Option<([String; 2], [f64; 4])>,
-    center: Option<[f64; 2]>,
-}
-
-fn range_of(params: &[Parameter], name: &str) -> Option<(f64, f64)> {
-    params
-        .iter()
-        .find(|p| p.name == name)
-        .map(|p| (p.min, p.max))
+pub struct PaneRequests {
+    pub sweep: Option<SweepRequest>,
+    pub folds: Option<FoldsRequest>,
+    pub backbone: Option<BackboneRequest>,
 }
 
 fn value_of(params: &[Parameter], name: &str) -> Option<f64> {
@@ -94,13 +91,7 @@ fn value_of(params: &[Parameter], name: &str) -> Option<f64> {
 
 /// The centers in view, in the table's order.
 fn centers(analysis: Option<&Analysis>) -> Vec<[f64; 2]> {
-    analysis.map_or_else(Vec::new, |a| {
-        a.equilibria
-            .iter()
-            .filter(|e| e.kind == EquilibriumKind::Center)
-            .map(|e| [e.q, e.p])
-            .collect()
-    })
+    analysis.map_or_else(Vec::new, |a| centers_of(&a.equilibria))
 }
 
 /// The formula's parameter names in order.
@@ -130,31 +121,9 @@ fn param_choice(
     chosen
 }
 
-fn resolve(inp: &Inputs) -> Resolved {
+/// The panes' requests for what the explorer shows now.
+pub fn resolve(inp: &Inputs) -> PaneRequests {
     let names = param_names(inp);
-    let known = |n: &str| names.iter().any(|m| m == n);
-    let sweep = match &inp.session.sweep {
-        Some(sw) if known(&sw.param) => Some((sw.param.clone(), sw.from, sw.to)),
-        _ => names
-            .first()
-            .and_then(|n| range_of(&inp.session.parameters, n).map(|(lo, hi)| (n.clone(), lo, hi))),
-    };
-    let folds = match &inp.session.folds {
-        Some(f) if known(&f.params[0]) && known(&f.params[1]) && f.params[0] != f.params[1] => {
-            Some((f.params.clone(), f.bounds))
-        }
-        _ if names.len() >= 2 => {
-            let r0 = range_of(&inp.session.parameters, &names[0]);
-            let r1 = range_of(&inp.session.parameters, &names[1]);
-            match (r0, r1) {
-                (Some((a1, b1)), Some((a2, b2))) => {
-                    Some(([names[0].clone(), names[1].clone()], [a1, b1, a2, b2]))
-                }
-                _ => None,
-            }
-        }
-        _ => None,
-    };
     let selected_center = match (inp.selection, inp.analysis) {
         (Selection::Equilibrium(i), Some(a)) => a
             .equilibria
@@ -163,33 +132,11 @@ fn resolve(inp: &Inputs) -> Resolved {
             .map(|e| [e.q, e.p]),
         _ => None,
     };
-    // A saved center follows its well: the center in view nearest to it
-    // (parameters move centers; Newton alone may not reach the new one).
-    let in_view = centers(inp.analysis);
-    let nearest = |c: [f64; 2]| {
-        let w = &inp.session.view;
-        in_view
-            .iter()
-            .copied()
-            .min_by(|a, b| {
-                let d =
-                    |x: &[f64; 2]| ((x[0] - c[0]) / w.width()).hypot((x[1] - c[1]) / w.height());
-                d(a).total_cmp(&d(b))
-            })
-            .unwrap_or(c)
-    };
-    let center = inp
-        .session
-        .backbone
-        .as_ref()
-        .and_then(|b| b.center)
-        .map(nearest)
-        .or(selected_center)
-        .or_else(|| in_view.first().copied());
-    Resolved {
-        sweep,
-        folds,
-        center,
+    let overrides = Overrides { selected_center };
+    PaneRequests {
+        sweep: SweepRequest::from_session(inp.session, &names),
+        folds: FoldsRequest::from_session(inp.session, &names),
+        backbone: BackboneRequest::from_session(inp.session, &centers(inp.analysis), &overrides),
     }
 }
 
@@ -356,47 +303,23 @@ impl ViewsPanel {
             }
         };
         let mut wanted: Vec<(ViewKind, ViewSpec)> = Vec::new();
-        if let Some((name, from, to)) = &r.sweep {
-            wanted.push((
-                ViewKind::Diagram,
-                base(
-                    ViewTask::Sweep {
-                        param: name.clone(),
-                        from: *from,
-                        to: *to,
-                        cfg: inp.session.sweep_config(),
-                    },
-                    &[(name, *from)],
-                ),
-            ));
+        if let Some(sw) = &r.sweep {
+            let fixed = [(sw.param.as_str(), sw.from)];
+            wanted.push((ViewKind::Diagram, base(ViewTask::Sweep(sw.clone()), &fixed)));
         }
         if self.tab == Tab::Folds
-            && let Some((names, bounds)) = &r.folds
+            && let Some(f) = &r.folds
         {
-            wanted.push((
-                ViewKind::Folds,
-                base(
-                    ViewTask::Folds {
-                        params: names.clone(),
-                        bounds: *bounds,
-                    },
-                    &[(&names[0], bounds[0]), (&names[1], bounds[2])],
-                ),
-            ));
+            let fixed = [
+                (f.params[0].as_str(), f.bounds[0]),
+                (f.params[1].as_str(), f.bounds[2]),
+            ];
+            wanted.push((ViewKind::Folds, base(ViewTask::Folds(f.clone()), &fixed)));
         }
         if self.tab == Tab::Backbone
-            && let Some(center) = r.center
+            && let Some(b) = &r.backbone
         {
-            wanted.push((
-                ViewKind::Backbone,
-                base(
-                    ViewTask::Backbone {
-                        center,
-                        cfg: inp.session.backbone_config(),
-                    },
-                    &[],
-                ),
-            ));
+            wanted.push((ViewKind::Backbone, base(ViewTask::Backbone(b.clone()), &[])));
         }
         for (kind, spec) in wanted {
             let i = kind.index();
@@ -513,12 +436,18 @@ impl ViewsPanel {
         &mut self,
         ui: &mut egui::Ui,
         inp: &Inputs,
-        r: &Resolved,
+        r: &PaneRequests,
         look: &Look,
         commands: &mut Vec<Command>,
     ) {
         let names = param_names(inp);
-        let Some((name, from, to)) = r.sweep.clone() else {
+        let Some(SweepRequest {
+            param: name,
+            from,
+            to,
+            ..
+        }) = r.sweep.clone()
+        else {
             ui.label("The formula has no parameter to sweep.");
             return;
         };
@@ -619,12 +548,17 @@ impl ViewsPanel {
         &mut self,
         ui: &mut egui::Ui,
         inp: &Inputs,
-        r: &Resolved,
+        r: &PaneRequests,
         look: &Look,
         commands: &mut Vec<Command>,
     ) {
         let names = param_names(inp);
-        let Some((pair, bounds)) = r.folds.clone() else {
+        let Some(FoldsRequest {
+            params: pair,
+            bounds,
+            ..
+        }) = r.folds.clone()
+        else {
             ui.label("A fold curve needs a formula with two parameters.");
             return;
         };
@@ -756,12 +690,12 @@ impl ViewsPanel {
         &mut self,
         ui: &mut egui::Ui,
         inp: &Inputs,
-        r: &Resolved,
+        r: &PaneRequests,
         look: &Look,
         commands: &mut Vec<Command>,
     ) {
         let list = centers(inp.analysis);
-        let Some(center) = r.center else {
+        let Some(center) = r.backbone.as_ref().map(|b| b.center) else {
             ui.label("There is no center in view: a backbone needs a well.");
             return;
         };

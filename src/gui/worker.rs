@@ -7,11 +7,12 @@
 
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, AnalysisConfig, analyze};
-use crate::core::backbone::{Backbone, BackboneConfig, BackboneError, backbone};
-use crate::core::continuation::{ContinuationError, Sweep, SweepConfig, SweepProgress, sweep};
-use crate::core::folds::{FoldConfig, FoldCurves, FoldProgress, fold_curves};
+use crate::core::backbone::{Backbone, BackboneError};
+use crate::core::continuation::{ContinuationError, Sweep, SweepProgress};
+use crate::core::folds::{FoldCurves, FoldProgress};
 use crate::core::system::System;
 use crate::core::window::Window;
+use crate::request::{BackboneRequest, FoldsRequest, SweepRequest};
 use crate::session::SeededOrbit;
 use std::sync::mpsc::{Receiver, Sender, channel};
 use std::sync::{Arc, Mutex};
@@ -315,23 +316,13 @@ impl ViewKind {
     }
 }
 
-/// What a view job computes (besides the system and the window).
+/// What a view job computes (besides the system and the window): one of the
+/// requests of `crate::request`, the same ones `render` builds.
 #[derive(Clone, Debug, PartialEq)]
 pub enum ViewTask {
-    Sweep {
-        param: String,
-        from: f64,
-        to: f64,
-        cfg: SweepConfig,
-    },
-    Folds {
-        params: [String; 2],
-        bounds: [f64; 4],
-    },
-    Backbone {
-        center: [f64; 2],
-        cfg: BackboneConfig,
-    },
+    Sweep(SweepRequest),
+    Folds(FoldsRequest),
+    Backbone(BackboneRequest),
 }
 
 /// Everything a view job depends on; compared with the last job to decide whether to rerun.
@@ -568,49 +559,28 @@ fn run_view(job: &ViewJob, report: &dyn Fn(usize, usize, String)) -> ViewOutcome
     let sys = &job.system;
     let window = &job.spec.window;
     match &job.spec.task {
-        ViewTask::Sweep {
-            param,
-            from,
-            to,
-            cfg,
-        } => ViewOutcome::Sweep(sweep(
-            sys,
-            param,
-            *from,
-            *to,
-            window,
-            cfg,
-            &job.cancel,
-            &|p: SweepProgress| {
+        ViewTask::Sweep(req) => {
+            ViewOutcome::Sweep(req.run(sys, window, &job.cancel, &|p: SweepProgress| {
                 report(
                     p.steps,
                     p.max_steps,
                     format!("{} steps, {} branches", p.steps, p.branches),
                 )
-            },
-        )),
-        ViewTask::Folds { params, bounds } => ViewOutcome::Folds(fold_curves(
-            sys,
-            [params[0].as_str(), params[1].as_str()],
-            *bounds,
-            window,
-            &FoldConfig::default(),
-            &job.cancel,
-            &|p: FoldProgress| {
+            }))
+        }
+        ViewTask::Folds(req) => {
+            ViewOutcome::Folds(req.run(sys, window, &job.cancel, &|p: FoldProgress| {
                 report(
                     p.steps,
                     p.max_steps,
                     format!("{} steps, {} curves", p.steps, p.curves),
                 )
-            },
-        )),
-        ViewTask::Backbone { center, cfg } => ViewOutcome::Backbone(backbone(
-            sys,
-            *center,
-            window,
-            cfg,
-            &job.cancel,
-            &|done, total| report(done, total, format!("{done} of {total} energies")),
-        )),
+            }))
+        }
+        ViewTask::Backbone(req) => {
+            ViewOutcome::Backbone(req.run(sys, window, &job.cancel, &|done, total| {
+                report(done, total, format!("{done} of {total} energies"))
+            }))
+        }
     }
 }

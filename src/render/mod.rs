@@ -10,14 +10,14 @@ pub use svg::{FigureSize, to_svg};
 
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, analyze};
-use crate::core::backbone::{Backbone, BackboneConfig, backbone};
-use crate::core::continuation::{Sweep, sweep};
-use crate::core::equilibria::{EquilibriumKind, find_equilibria};
-use crate::core::folds::{FoldConfig, FoldCurves, fold_curves};
+use crate::core::backbone::Backbone;
+use crate::core::continuation::Sweep;
+use crate::core::folds::FoldCurves;
 use crate::core::integrate::Method;
 use crate::core::orbit::{Orbit, OrbitRequest, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
+use crate::request::{BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_in_view};
 use crate::scene::{BackbonePlot, Rgb, Scene};
 use crate::session::{SeededOrbit, Session};
 use std::fmt;
@@ -160,7 +160,8 @@ pub enum ViewData {
 /// Why a view could not be made.
 #[derive(Clone, Debug, PartialEq)]
 pub enum ViewError {
-    /// The session has no settings for this view (no `sweep` or `folds` section).
+    /// The view has nothing to run on: no parameter to sweep, fewer than two
+    /// for a fold plane (the session's sections, else its sliders, name them).
     MissingSettings(View),
     /// The computation refused its input (unknown parameter, empty range, no center …).
     Refused { view: View, message: String },
@@ -171,11 +172,11 @@ pub enum ViewError {
 impl fmt::Display for ViewError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            ViewError::MissingSettings(View::Diagram) => f.write_str(
-                "the session has no sweep settings (a \"sweep\" section with param, from and to)",
-            ),
+            ViewError::MissingSettings(View::Diagram) => {
+                f.write_str("the formula has no parameter with a slider range to sweep")
+            }
             ViewError::MissingSettings(View::Folds) => f.write_str(
-                "the session has no fold-curve settings (a \"folds\" section with params and box)",
+                "the formula has fewer than two parameters with slider ranges for a fold plane",
             ),
             ViewError::MissingSettings(v) => write!(f, "the session has no {} settings", v.name()),
             ViewError::Refused { view, message } => write!(f, "{}: {message}", view.name()),
@@ -208,51 +209,49 @@ fn refused(view: View) -> impl Fn(String) -> ViewError {
     move |message| ViewError::Refused { view, message }
 }
 
-/// The sweep the session's `sweep` settings describe.
+/// The sweep the explorer's diagram pane shows for `session` (its `sweep`
+/// settings, else the first parameter over its slider range).
 pub fn sweep_of(
     session: &Session,
     sys: &System,
     window: &Window,
     cancel: &Cancel,
 ) -> Result<Sweep, ViewError> {
-    let s = session
-        .sweep
-        .as_ref()
-        .ok_or(ViewError::MissingSettings(View::Diagram))?;
-    sweep(
-        sys,
-        &s.param,
-        s.from,
-        s.to,
-        window,
-        &session.sweep_config(),
-        cancel,
-        &|_| {},
-    )
-    .map_err(|e| refused(View::Diagram)(e.to_string()))
+    SweepRequest::from_session(session, sys.formula().params())
+        .ok_or(ViewError::MissingSettings(View::Diagram))?
+        .run(sys, window, cancel, &|_| {})
+        .map_err(|e| refused(View::Diagram)(e.to_string()))
 }
 
-/// The fold curves the session's `folds` settings describe.
+/// The fold curves the explorer's fold pane shows for `session` (its `folds`
+/// settings, else the first two parameters over their slider ranges).
 pub fn folds_of(
     session: &Session,
     sys: &System,
     window: &Window,
     cancel: &Cancel,
 ) -> Result<FoldCurves, ViewError> {
-    let f = session
-        .folds
-        .as_ref()
-        .ok_or(ViewError::MissingSettings(View::Folds))?;
-    fold_curves(
-        sys,
-        [f.params[0].as_str(), f.params[1].as_str()],
-        f.bounds,
-        window,
-        &FoldConfig::default(),
-        cancel,
-        &|_| {},
-    )
-    .map_err(|e| refused(View::Folds)(e.to_string()))
+    FoldsRequest::from_session(session, sys.formula().params())
+        .ok_or(ViewError::MissingSettings(View::Folds))?
+        .run(sys, window, cancel, &|_| {})
+        .map_err(|e| refused(View::Folds)(e.to_string()))
+}
+
+/// The backbone request for `session` in `window`: the saved center's well,
+/// else the first center in view (see [`crate::request`]).
+pub fn backbone_request_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<BackboneRequest, ViewError> {
+    let in_view = centers_in_view(session, sys, window, cancel);
+    BackboneRequest::from_session(session, &in_view, &Overrides::default()).ok_or_else(|| {
+        refused(View::Backbone(BackbonePlot::default()))(
+            "there is no center in view, so no well to follow; give a point near a center"
+                .to_string(),
+        )
+    })
 }
 
 /// The backbone of the well the session's `backbone` settings name (the
@@ -263,33 +262,9 @@ pub fn backbone_of(
     window: &Window,
     cancel: &Cancel,
 ) -> Result<Backbone, ViewError> {
-    let view = View::Backbone(BackbonePlot::default());
-    let cfg = session.backbone_config();
-    let center = match session.backbone.as_ref().and_then(|b| b.center) {
-        Some(c) => c,
-        None => first_center(sys, window, &cfg, cancel).ok_or_else(|| {
-            refused(view)(
-                "there is no center in view, so no well to follow; give a point near a center"
-                    .to_string(),
-            )
-        })?,
-    };
-    backbone(sys, center, window, &cfg, cancel, &|_, _| {})
-        .map_err(|e| refused(view)(e.to_string()))
-}
-
-/// The first center of the equilibria in `window`, if any.
-fn first_center(
-    sys: &System,
-    window: &Window,
-    cfg: &BackboneConfig,
-    cancel: &Cancel,
-) -> Option<[f64; 2]> {
-    let (equilibria, _) = find_equilibria(sys, window, &cfg.equilibria, cancel);
-    equilibria
-        .iter()
-        .find(|e| e.kind == EquilibriumKind::Center)
-        .map(|e| [e.q, e.p])
+    backbone_request_of(session, sys, window, cancel)?
+        .run(sys, window, cancel, &|_, _| {})
+        .map_err(|e| refused(View::Backbone(BackbonePlot::default()))(e.to_string()))
 }
 
 /// The scene of computed view data, with the session's current parameter

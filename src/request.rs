@@ -1,0 +1,219 @@
+//! One request per view, resolved once from a session.
+//!
+//! The explorer's pane lanes, `render` (figures and tables, the explorer's
+//! Export) and the command line's subcommands all build a view's request here
+//! and run it with the request's `run`, so whatever the screen shows can be
+//! exported and re-made from the saved file with the same numbers. Every
+//! default is settled in this file and nowhere else:
+//!
+//! - **sweep**: the session's `sweep` section when it names a parameter of the
+//!   formula; otherwise the formula's first parameter over its slider range;
+//! - **fold curves**: the session's `folds` section when it names two distinct
+//!   parameters of the formula; otherwise the first two parameters over their
+//!   slider ranges;
+//! - **backbone**: a saved center follows its well (the center in view nearest
+//!   to it, in units of the view's sides, since parameters move centers); with
+//!   no saved center, the center the user selected, else the first center in
+//!   view (equilibria in the table's order).
+//!
+//! A request is plain data compared by value: the explorer reruns a pane's job
+//! only when its request changes.
+
+use crate::core::Cancel;
+use crate::core::backbone::{Backbone, BackboneConfig, BackboneError, backbone};
+use crate::core::continuation::{ContinuationError, Sweep, SweepConfig, SweepProgress, sweep};
+use crate::core::equilibria::{Equilibrium, EquilibriumKind, find_equilibria};
+use crate::core::folds::{FoldConfig, FoldCurves, FoldProgress, fold_curves};
+use crate::core::system::System;
+use crate::core::window::Window;
+use crate::session::{Parameter, Session};
+
+/// What a front end knows beyond the saved session: things the user pointed
+/// at that are not saved.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct Overrides {
+    /// The center selected in the equilibria table or on the portrait.
+    pub selected_center: Option<[f64; 2]>,
+}
+
+/// A one-parameter sweep of the equilibria.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SweepRequest {
+    pub param: String,
+    pub from: f64,
+    pub to: f64,
+    pub cfg: SweepConfig,
+}
+
+/// Saddle-node curves in the plane of two parameters.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FoldsRequest {
+    pub params: [String; 2],
+    /// [min₁, max₁, min₂, max₂]
+    pub bounds: [f64; 4],
+    pub cfg: FoldConfig,
+}
+
+/// The backbone of the well around one center.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BackboneRequest {
+    pub center: [f64; 2],
+    pub cfg: BackboneConfig,
+}
+
+/// The slider range of parameter `name`, if listed.
+pub fn range_of(params: &[Parameter], name: &str) -> Option<(f64, f64)> {
+    params
+        .iter()
+        .find(|p| p.name == name)
+        .map(|p| (p.min, p.max))
+}
+
+impl SweepRequest {
+    /// The sweep `session` describes for a formula with parameters `names`
+    /// (see the module's defaults); `None` when the formula has no parameter.
+    pub fn from_session(session: &Session, names: &[String]) -> Option<SweepRequest> {
+        let known = |n: &str| names.iter().any(|m| m == n);
+        let (param, from, to) = match &session.sweep {
+            Some(sw) if known(&sw.param) => (sw.param.clone(), sw.from, sw.to),
+            _ => {
+                let name = names.first()?;
+                let (lo, hi) = range_of(&session.parameters, name)?;
+                (name.clone(), lo, hi)
+            }
+        };
+        Some(SweepRequest {
+            param,
+            from,
+            to,
+            cfg: session.sweep_config(),
+        })
+    }
+
+    pub fn run(
+        &self,
+        sys: &System,
+        window: &Window,
+        cancel: &Cancel,
+        progress: &dyn Fn(SweepProgress),
+    ) -> Result<Sweep, ContinuationError> {
+        sweep(
+            sys,
+            &self.param,
+            self.from,
+            self.to,
+            window,
+            &self.cfg,
+            cancel,
+            progress,
+        )
+    }
+}
+
+impl FoldsRequest {
+    /// The fold curves `session` describes for a formula with parameters
+    /// `names`; `None` when there are fewer than two parameters.
+    pub fn from_session(session: &Session, names: &[String]) -> Option<FoldsRequest> {
+        let known = |n: &str| names.iter().any(|m| m == n);
+        let (params, bounds) = match &session.folds {
+            Some(f) if known(&f.params[0]) && known(&f.params[1]) && f.params[0] != f.params[1] => {
+                (f.params.clone(), f.bounds)
+            }
+            _ if names.len() >= 2 => {
+                let (a1, b1) = range_of(&session.parameters, &names[0])?;
+                let (a2, b2) = range_of(&session.parameters, &names[1])?;
+                ([names[0].clone(), names[1].clone()], [a1, b1, a2, b2])
+            }
+            _ => return None,
+        };
+        Some(FoldsRequest {
+            params,
+            bounds,
+            cfg: FoldConfig::default(),
+        })
+    }
+
+    pub fn run(
+        &self,
+        sys: &System,
+        window: &Window,
+        cancel: &Cancel,
+        progress: &dyn Fn(FoldProgress),
+    ) -> Result<FoldCurves, ContinuationError> {
+        fold_curves(
+            sys,
+            [self.params[0].as_str(), self.params[1].as_str()],
+            self.bounds,
+            window,
+            &self.cfg,
+            cancel,
+            progress,
+        )
+    }
+}
+
+/// The centers among `equilibria`, in their order.
+pub fn centers_of(equilibria: &[Equilibrium]) -> Vec<[f64; 2]> {
+    equilibria
+        .iter()
+        .filter(|e| e.kind == EquilibriumKind::Center)
+        .map(|e| [e.q, e.p])
+        .collect()
+}
+
+/// The centers in `window` as the portrait's analysis finds them (the same
+/// equilibrium search with the session's analysis settings).
+pub fn centers_in_view(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Vec<[f64; 2]> {
+    let cfg = session.analysis_config();
+    centers_of(&find_equilibria(sys, window, &cfg.equilibria, cancel).0)
+}
+
+impl BackboneRequest {
+    /// The backbone `session` describes, given the centers in view (in the
+    /// table's order); `None` when there is no center to follow.
+    pub fn from_session(
+        session: &Session,
+        in_view: &[[f64; 2]],
+        overrides: &Overrides,
+    ) -> Option<BackboneRequest> {
+        let w = &session.view;
+        let nearest = |c: [f64; 2]| {
+            in_view
+                .iter()
+                .copied()
+                .min_by(|a, b| {
+                    let d = |x: &[f64; 2]| {
+                        ((x[0] - c[0]) / w.width()).hypot((x[1] - c[1]) / w.height())
+                    };
+                    d(a).total_cmp(&d(b))
+                })
+                .unwrap_or(c)
+        };
+        let center = session
+            .backbone
+            .as_ref()
+            .and_then(|b| b.center)
+            .map(nearest)
+            .or(overrides.selected_center)
+            .or_else(|| in_view.first().copied())?;
+        Some(BackboneRequest {
+            center,
+            cfg: session.backbone_config(),
+        })
+    }
+
+    pub fn run(
+        &self,
+        sys: &System,
+        window: &Window,
+        cancel: &Cancel,
+        progress: &dyn Fn(usize, usize),
+    ) -> Result<Backbone, BackboneError> {
+        backbone(sys, self.center, window, &self.cfg, cancel, progress)
+    }
+}
