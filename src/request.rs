@@ -16,6 +16,11 @@
 //!   no saved center, the center the user selected, else the first center in
 //!   view (equilibria in the table's order).
 //!
+//! - **seeded orbits**: start, method and duration from the session; the
+//!   duration is the longest an orbit runs, and it stops once it has closed
+//!   (one period is the whole closed curve), in the explorer and in figures;
+//!   the bounds are the default ones around the view.
+//!
 //! A request is plain data compared by value: the explorer reruns a pane's job
 //! only when its request changes.
 
@@ -24,9 +29,11 @@ use crate::core::backbone::{Backbone, BackboneConfig, BackboneError, backbone};
 use crate::core::continuation::{ContinuationError, Sweep, SweepConfig, SweepProgress, sweep};
 use crate::core::equilibria::{Equilibrium, EquilibriumKind, find_equilibria};
 use crate::core::folds::{FoldConfig, FoldCurves, FoldProgress, fold_curves};
+use crate::core::integrate::Method;
+use crate::core::orbit::OrbitRequest;
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::session::{Parameter, Session};
+use crate::session::{Parameter, SeededOrbit, Session};
 
 /// What a front end knows beyond the saved session: things the user pointed
 /// at that are not saved.
@@ -216,4 +223,17 @@ impl BackboneRequest {
     ) -> Result<Backbone, BackboneError> {
         backbone(sys, self.center, window, &self.cfg, cancel, progress)
     }
+}
+
+/// The core's request for a seeded orbit drawn over `view` (see the module's
+/// defaults). An unknown method name or an invalid field is refused with a
+/// message naming it.
+pub fn seeded_orbit_request(seed: &SeededOrbit, view: &Window) -> Result<OrbitRequest, String> {
+    let method = Method::from_name(&seed.method).map_err(|e| e.to_string())?;
+    let mut req = OrbitRequest::new(seed.q0, seed.p0, seed.duration, view);
+    req.method = method;
+    req.stop_when_closed = true;
+    req.validate()
+        .map_err(|e| format!("{}: {}", e.field, e.problem))?;
+    Ok(req)
 }

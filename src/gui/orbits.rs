@@ -3,8 +3,7 @@
 //! core's; this file only builds the request and copies fields.
 
 use crate::core::Cancel;
-use crate::core::integrate::Method;
-use crate::core::orbit::{OrbitRequest, StopReason, integrate_orbit};
+use crate::core::orbit::{StopReason, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
 use crate::session::SeededOrbit;
@@ -33,24 +32,18 @@ pub struct OrbitOutcome {
 /// The method names the orbit editor offers.
 pub const METHODS: &[&str] = &crate::session::ORBIT_METHODS;
 
-/// Integrate one seeded orbit with the core's integrator. The orbit stops once
-/// it has closed; `duration` is the longest it runs otherwise.
+/// Integrate one seeded orbit with the core's integrator, from the request
+/// `crate::request::seeded_orbit_request` builds (the one figures use too).
 pub fn integrate(
     sys: &System,
     seeded: &SeededOrbit,
     window: &Window,
     cancel: &Cancel,
 ) -> OrbitOutcome {
-    let method = match Method::from_name(&seeded.method) {
-        Ok(m) => m,
-        Err(e) => return refused(sys, seeded, e.to_string()),
+    let req = match crate::request::seeded_orbit_request(seeded, window) {
+        Ok(r) => r,
+        Err(why) => return refused(sys, seeded, why),
     };
-    let mut req = OrbitRequest::new(seeded.q0, seeded.p0, seeded.duration, window);
-    req.method = method;
-    req.stop_when_closed = true;
-    if let Err(e) = req.validate() {
-        return refused(sys, seeded, format!("{}: {}", e.field, e.problem));
-    }
     let orbit = integrate_orbit(sys, &req, cancel);
     let stopped_early = !matches!(orbit.stop, StopReason::Finished | StopReason::Closed);
     OrbitOutcome {

@@ -13,24 +13,16 @@ use crate::core::analysis::{Analysis, analyze};
 use crate::core::backbone::Backbone;
 use crate::core::continuation::Sweep;
 use crate::core::folds::FoldCurves;
-use crate::core::integrate::Method;
-use crate::core::orbit::{Orbit, OrbitRequest, integrate_orbit};
+use crate::core::orbit::{Orbit, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::request::{BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_in_view};
+use crate::request::{
+    BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_in_view, seeded_orbit_request,
+};
 use crate::scene::{BackbonePlot, Rgb, Scene};
-use crate::session::{SeededOrbit, Session};
+use crate::session::Session;
 use std::fmt;
 use table::Table;
-
-/// The orbit request for a seeded orbit: its start, duration and method with
-/// the default bounds around `view` (a method name the loader let through but
-/// this build does not know falls back to `auto`).
-pub fn orbit_request(seed: &SeededOrbit, view: &Window) -> OrbitRequest {
-    let mut req = OrbitRequest::new(seed.q0, seed.p0, seed.duration, view);
-    req.method = Method::from_name(&seed.method).unwrap_or(Method::Auto);
-    req
-}
 
 /// What a session's portrait is made from: the analysis of its window and
 /// its seeded orbits, integrated (an orbit whose request is invalid is skipped).
@@ -53,10 +45,9 @@ pub fn portrait_data(
     let mut orbits = Vec::new();
     let mut colours = Vec::new();
     for seed in &session.orbits {
-        let req = orbit_request(seed, window);
-        if req.validate().is_err() {
+        let Ok(req) = seeded_orbit_request(seed, window) else {
             continue;
-        }
+        };
         orbits.push(integrate_orbit(sys, &req, cancel));
         colours.push(seed.colour.as_deref().and_then(Rgb::parse_hex));
     }
