@@ -106,11 +106,11 @@ pub struct OrbitArgs {
     #[arg(long, allow_negative_numbers = true)]
     pub duration: Option<f64>,
     /// Integration method: auto, verlet, yoshida4, yoshida6, nystrom4, nystrom6, split4,
-    /// split6, midpoint, gauss4, gauss6, dopri5.
+    /// split6, midpoint, gauss4, gauss6, dormand-prince (older spelling: dopri5).
     #[arg(long, value_name = "NAME")]
     pub method: Option<String>,
     /// Fixed step size (default: from the local time scale).
-    #[arg(long, value_name = "H")]
+    #[arg(long, value_name = "DT")]
     pub step: Option<f64>,
     /// `--json` prints the measurements as JSON; `--csv` prints the samples (t,q,p,H).
     #[command(flatten)]
@@ -229,7 +229,7 @@ pub struct RenderArgs {
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: PathBuf,
     /// Size in pixels, WIDTHxHEIGHT.
-    #[arg(long, value_name = "WxH", default_value = "1000x750")]
+    #[arg(long, value_name = "WIDTHxHEIGHT", default_value = "1000x750")]
     pub size: String,
     /// What to draw.
     #[arg(long, value_enum, default_value_t = FigureView::Portrait)]

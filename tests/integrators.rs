@@ -50,9 +50,13 @@ fn method_names_round_trip_and_unknown_names_list_the_valid_ones() {
         assert_eq!(Method::from_name(m.name()), Ok(m));
     }
     assert_eq!(Method::from_name(" Gauss6 "), Ok(Method::Gauss6));
+    // The method is named after the published Dormand–Prince 5(4) pair; files
+    // and flags written with the older spelling still read.
+    assert_eq!(Method::from_name("dormand-prince"), Ok(Method::Dopri5));
+    assert_eq!(Method::from_name("dopri5"), Ok(Method::Dopri5));
     let err = Method::from_name("leapfrog2").unwrap_err().to_string();
     assert!(
-        err.contains("leapfrog2") && err.contains("yoshida4") && err.contains("dopri5"),
+        err.contains("leapfrog2") && err.contains("yoshida4") && err.contains("dormand-prince"),
         "{err}"
     );
 }

@@ -98,7 +98,8 @@ impl Method {
     ];
 
     /// The stable name ("auto", "verlet", "yoshida4", "yoshida6", "nystrom4",
-    /// "nystrom6", "split4", "split6", "midpoint", "gauss4", "gauss6", "dopri5").
+    /// "nystrom6", "split4", "split6", "midpoint", "gauss4", "gauss6",
+    /// "dormand-prince"). Older spellings are read through [`Method::ALIASES`].
     pub const fn name(self) -> &'static str {
         match self {
             Method::Auto => "auto",
@@ -112,9 +113,12 @@ impl Method {
             Method::Midpoint => "midpoint",
             Method::Gauss4 => "gauss4",
             Method::Gauss6 => "gauss6",
-            Method::Dopri5 => "dopri5",
+            Method::Dopri5 => "dormand-prince",
         }
     }
+
+    /// Older names still accepted when reading files and flags.
+    pub const ALIASES: [(&'static str, Method); 1] = [("dopri5", Method::Dopri5)];
 
     /// Every stable name, in the order of [`Method::ALL`].
     pub const NAMES: [&'static str; Method::ALL.len()] = {
@@ -138,6 +142,12 @@ impl Method {
             .iter()
             .copied()
             .find(|m| m.name() == key)
+            .or_else(|| {
+                Method::ALIASES
+                    .iter()
+                    .find(|(alias, _)| *alias == key)
+                    .map(|&(_, m)| m)
+            })
             .ok_or_else(|| UnknownMethod(name.to_string()))
     }
 
