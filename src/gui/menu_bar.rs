@@ -74,7 +74,7 @@ pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
         ui.menu_button("Export", |ui| export_menu(ui, st, &mut out));
         ui.menu_button("Examples", |ui| {
             if EXAMPLES.is_empty() {
-                if ui.button("Double well (built in)").clicked() {
+                if ui.button("Harmonic oscillator (built in)").clicked() {
                     out.push(Command::Guarded(Guarded::Builtin));
                 }
             }
