@@ -1,11 +1,13 @@
 //! The explorer's session state as a user meets it: opening a file is not an
 //! edit, slider steps keep the values people typed, and orbits that stopped at
-//! the bounds around the view follow the view when it moves.
+//! the bounds around the view follow the view when it moves; saving a shipped
+//! example offers a new file in the documents folder.
 #![cfg(feature = "gui")]
 
 #[path = "common/explorer.rs"]
 mod explorer;
 use egui_kittest::Harness;
+use egui_kittest::kittest::{NodeT, Queryable};
 use explorer::settle;
 use phasewright::core::window::Window;
 use phasewright::gui::{EXAMPLES, Explorer};
@@ -113,4 +115,98 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
             "{name}: a formula with parameters always has a diagram"
         );
     }
+}
+
+fn menu(h: &mut Harness<'static, Explorer>, top: &str, item: &str) {
+    h.get_by_label(top).click();
+    h.run_steps(3);
+    h.get_by_label(item).click();
+    h.run_steps(3);
+}
+
+/// The text in the path prompt's field.
+fn prompt_text(h: &Harness<'static, Explorer>) -> String {
+    h.get_by_label("Path")
+        .accesskit_node()
+        .value()
+        .unwrap_or_default()
+}
+
+#[test]
+fn saving_a_shipped_example_offers_a_new_file_in_the_documents_folder() {
+    let docs = tempfile::tempdir().expect("temp dir");
+    // SAFETY: no other test in this file reads or writes the environment.
+    unsafe { std::env::set_var("XDG_DOCUMENTS_DIR", docs.path()) };
+    let shipped =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("sessions/imperfect-strut.json");
+    let original = std::fs::read_to_string(&shipped).expect("the example is readable");
+    let (session, _) = phasewright::session::load(&original).expect("example loads");
+    // The title "Strut with an initial bow: the pitchfork breaks" as a file
+    // name; a file of that name exists already, so the offer is numbered.
+    let taken = docs
+        .path()
+        .join("strut-with-an-initial-bow-the-pitchfork-breaks.json");
+    std::fs::write(&taken, "{}").expect("write");
+    let expected = docs
+        .path()
+        .join("strut-with-an-initial-bow-the-pitchfork-breaks-2.json");
+
+    // Opened from the examples folder by path, as `phasewright sessions/…` does.
+    let data = tempfile::tempdir().expect("temp dir");
+    let mut app = Explorer::new(
+        session,
+        Some(shipped.clone()),
+        Some(data.path().to_path_buf()),
+    )
+    .expect("explorer starts");
+    app.set_native_dialogs(false);
+    let mut h = Harness::builder()
+        .with_size(egui::vec2(1280.0, 800.0))
+        .build_ui_state(|ui, app: &mut Explorer| app.show(ui), app);
+    settle(&mut h);
+
+    // Save on a shipped example asks where, offering the new file.
+    h.key_press_modifiers(egui::Modifiers::COMMAND, egui::Key::S);
+    h.run_steps(3);
+    assert_eq!(h.state().modal_name(), "path-prompt");
+    assert_eq!(prompt_text(&h), expected.display().to_string());
+    // Typing the example's own path asks before writing over it.
+    h.get_by_label("Path")
+        .set_text_value_accesskit(&shipped.display().to_string());
+    h.run_steps(2);
+    h.get_by_label("Save").click();
+    h.run_steps(3);
+    assert_eq!(h.state().modal_name(), "confirm-overwrite");
+    h.get_by_label("Cancel").click();
+    h.run_steps(3);
+    assert_eq!(
+        std::fs::read_to_string(&shipped).expect("readable"),
+        original,
+        "the shipped example was changed"
+    );
+
+    // The offered name saves there; the taken file is left alone.
+    menu(&mut h, "Session", "Save to path…");
+    assert_eq!(prompt_text(&h), expected.display().to_string());
+    h.get_by_label("Save").click();
+    h.run_steps(3);
+    assert!(
+        expected.exists(),
+        "nothing written at {}",
+        expected.display()
+    );
+    assert_eq!(std::fs::read_to_string(&taken).expect("readable"), "{}");
+    assert_eq!(h.state().file.as_deref(), Some(expected.as_path()));
+
+    // An example from the Examples menu is offered in the documents folder too.
+    menu(&mut h, "Examples", "loaded strut");
+    settle(&mut h);
+    menu(&mut h, "Session", "Save to path…");
+    assert_eq!(
+        prompt_text(&h),
+        docs.path()
+            .join("axially-loaded-strut-buckling-into-two-states.json")
+            .display()
+            .to_string()
+    );
 }

@@ -22,6 +22,8 @@ pub enum Modal {
         text: String,
         note: String,
     },
+    /// Saving would write over a shipped example: ask first.
+    ConfirmOverwrite(PathBuf),
     OfferRestore,
     Message {
         title: String,
@@ -113,6 +115,33 @@ pub fn ui(ctx: &egui::Context, modal: &mut Modal, has_file: bool) -> Vec<Command
                                 Command::ExportTo(view, format, path)
                             }
                         });
+                        done = true;
+                    }
+                    if ui.button("Cancel").clicked() {
+                        done = true;
+                    }
+                });
+                done
+            });
+            close = r.inner || r.should_close();
+        }
+        Modal::ConfirmOverwrite(path) => {
+            let path = path.clone();
+            let r = egui::Modal::new(egui::Id::unique("confirm-overwrite")).show(ctx, |ui| {
+                ui.set_max_width(480.0);
+                ui.heading("Overwrite a shipped example?");
+                ui.label(format!(
+                    "{} is one of the examples that come with phasewright. Write this session over it?",
+                    path.display()
+                ));
+                let mut done = false;
+                ui.horizontal(|ui| {
+                    if ui.button("Overwrite the example").clicked() {
+                        out.push(Command::OverwriteExample(path.clone()));
+                        done = true;
+                    }
+                    if ui.button("Save as a new file…").clicked() {
+                        out.push(Command::SaveAs);
                         done = true;
                     }
                     if ui.button("Cancel").clicked() {

@@ -279,3 +279,90 @@ pub fn export_file_name(view: crate::render::View, format: crate::render::Export
     };
     format!("{}{table}.{}", view.name(), export_extension(format))
 }
+
+/// Environment variable naming the user's documents folder (freedesktop user directories).
+pub const DOCUMENTS_ENV: &str = "XDG_DOCUMENTS_DIR";
+/// Longest file-name stem made from a session title (characters).
+const SLUG_MAX: usize = 60;
+/// How many numbered names Save as… tries before giving up on a free one.
+const FRESH_NAME_TRIES: usize = 10_000;
+
+/// The folder a new session file is offered in: `$XDG_DOCUMENTS_DIR` if set,
+/// else `~/Documents` if it exists, else the working directory.
+pub fn documents_dir() -> PathBuf {
+    if let Some(d) = std::env::var_os(DOCUMENTS_ENV).filter(|d| !d.is_empty()) {
+        return PathBuf::from(d);
+    }
+    if let Some(home) = std::env::var_os("HOME").filter(|d| !d.is_empty()) {
+        let docs = PathBuf::from(home).join("Documents");
+        if docs.is_dir() {
+            return docs;
+        }
+    }
+    std::env::current_dir().unwrap_or_else(|_| PathBuf::from("."))
+}
+
+/// A safe file-name stem from a session title: lowercase ASCII letters and
+/// digits, every other run of characters one hyphen, at most 60 characters;
+/// "session" when nothing is left ("Imperfect strut (P = 0.52)" →
+/// "imperfect-strut-p-0-52").
+pub fn file_slug(title: &str) -> String {
+    let mut slug = String::new();
+    for c in title.chars() {
+        if c.is_ascii_alphanumeric() {
+            if slug.len() >= SLUG_MAX {
+                break;
+            }
+            slug.push(c.to_ascii_lowercase());
+        } else if !slug.is_empty() && !slug.ends_with('-') {
+            slug.push('-');
+        }
+    }
+    let slug = slug.trim_end_matches('-');
+    if slug.is_empty() {
+        "session".into()
+    } else {
+        slug.to_string()
+    }
+}
+
+/// `dir/stem.json`, or `dir/stem-2.json`, `dir/stem-3.json` … whichever does not exist yet.
+pub fn fresh_path(dir: &Path, stem: &str) -> PathBuf {
+    let first = dir.join(format!("{stem}.json"));
+    if !first.exists() {
+        return first;
+    }
+    (2..FRESH_NAME_TRIES)
+        .map(|n| dir.join(format!("{stem}-{n}.json")))
+        .find(|p| !p.exists())
+        .unwrap_or(first)
+}
+
+/// Whether `path` is one of the examples shipped with the program: a file in
+/// the source tree's `sessions/` folder under an example's name, or a file
+/// under an example's name whose text is that example's text.
+pub fn is_bundled_example(path: &Path) -> bool {
+    let Some(name) = path.file_name().and_then(|n| n.to_str()) else {
+        return false;
+    };
+    let Some((_, text)) = EXAMPLES.iter().find(|(n, _)| *n == name) else {
+        return false;
+    };
+    let shipped = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("sessions")
+        .join(name);
+    let same_file = match (path.canonicalize(), shipped.canonicalize()) {
+        (Ok(a), Ok(b)) => a == b,
+        _ => false,
+    };
+    same_file || std::fs::read_to_string(path).is_ok_and(|t| t == *text)
+}
+
+/// Where Save as… offers to write: the session's own file when it has one of
+/// the user's, else a new file in the documents folder named after the title.
+pub fn save_as_suggestion(file: Option<&Path>, bundled: bool, title: &str) -> PathBuf {
+    match file {
+        Some(f) if !bundled => f.to_path_buf(),
+        _ => fresh_path(&documents_dir(), &file_slug(title)),
+    }
+}

@@ -138,6 +138,8 @@ pub enum Command {
     SaveAs,
     SavePrompt,
     SaveTo(PathBuf),
+    /// Save over a shipped example: the user said yes.
+    OverwriteExample(PathBuf),
     /// Export a view as a figure or table: ask where.
     Export(render::View, render::ExportFormat),
     /// Export a view to this file (off the UI thread).
@@ -172,6 +174,8 @@ pub struct Explorer {
     pub file: Option<PathBuf>,
     /// Unsaved changes.
     pub dirty: bool,
+    /// The session is a shipped example (Save asks for a new file).
+    bundled: bool,
     pub selection: Selection,
     /// The last message shown in the status line.
     pub status: String,
@@ -235,7 +239,9 @@ impl Explorer {
                     .open(p)
                     .ok()
             });
+        let bundled = file.as_deref().is_some_and(files::is_bundled_example);
         let mut ex = Explorer {
+            bundled,
             formula: formula_panel::FormulaPanel::new(&session.formula),
             compiled: None,
             home_view: session.view,
@@ -331,6 +337,7 @@ impl Explorer {
             Modal::About => "about",
             Modal::ConfirmDiscard(_) => "confirm-discard",
             Modal::PathPrompt { .. } => "path-prompt",
+            Modal::ConfirmOverwrite(_) => "confirm-overwrite",
             Modal::OfferRestore => "offer-restore",
             Modal::Message { .. } => "message",
         }
@@ -595,7 +602,11 @@ impl Explorer {
                 note,
             ));
         });
-        commands.extend(dialogs::ui(&ctx, &mut self.modal, self.file.is_some()));
+        commands.extend(dialogs::ui(
+            &ctx,
+            &mut self.modal,
+            self.file.is_some() && !self.bundled,
+        ));
 
         for c in commands {
             self.apply(c);
@@ -758,10 +769,8 @@ impl Explorer {
 
     fn prompt_path(&mut self, purpose: DialogPurpose, note: &str) {
         let text = match (&self.file, purpose) {
+            (_, DialogPurpose::SaveAs) => self.save_as_suggestion().display().to_string(),
             (Some(f), _) => f.display().to_string(),
-            (None, DialogPurpose::SaveAs) => std::env::current_dir()
-                .map(|d| d.join("session.json").display().to_string())
-                .unwrap_or_else(|_| "session.json".into()),
             (None, DialogPurpose::Open | DialogPurpose::Export(..)) => String::new(),
         };
         let text = match purpose {
@@ -792,12 +801,21 @@ impl Explorer {
             self.prompt_path(purpose, "");
             return;
         }
-        let dir = self
-            .file
-            .as_ref()
-            .and_then(|f| f.parent().map(Path::to_path_buf));
+        let suggestion = self.save_as_suggestion();
+        let dir = match purpose {
+            DialogPurpose::SaveAs => suggestion.parent().map(Path::to_path_buf),
+            _ => self
+                .file
+                .as_ref()
+                .and_then(|f| f.parent().map(Path::to_path_buf)),
+        };
         let name = match purpose {
             DialogPurpose::Export(view, format) => files::export_file_name(view, format),
+            DialogPurpose::SaveAs => suggestion
+                .file_name()
+                .map_or("session.json".to_string(), |n| {
+                    n.to_string_lossy().into_owned()
+                }),
             _ => self
                 .file
                 .as_ref()
@@ -810,6 +828,11 @@ impl Explorer {
             Some(d) => self.pending_dialog = Some(d),
             None => self.prompt_path(purpose, ""),
         }
+    }
+
+    /// Where Save as… offers to write (never over a shipped example).
+    fn save_as_suggestion(&self) -> PathBuf {
+        files::save_as_suggestion(self.file.as_deref(), self.bundled, &self.session.title)
     }
 
     // ----- applying commands -----
@@ -977,8 +1000,8 @@ impl Explorer {
                 }
             },
             Command::Save => match self.file.clone() {
-                Some(path) => self.apply(Command::SaveTo(path)),
-                None => self.apply(Command::SaveAs),
+                Some(path) if !self.bundled => self.apply(Command::SaveTo(path)),
+                _ => self.apply(Command::SaveAs),
             },
             Command::SaveAs => self.native_dialog(DialogPurpose::SaveAs),
             Command::SavePrompt => self.prompt_path(DialogPurpose::SaveAs, ""),
@@ -986,25 +1009,31 @@ impl Explorer {
                 self.native_dialog(DialogPurpose::Export(view, format));
             }
             Command::ExportTo(view, format, path) => self.start_export(view, format, path),
-            Command::SaveTo(path) => match files::save_session(&self.session, &path) {
-                Ok(()) => {
-                    self.file = Some(path.clone());
-                    self.dirty = false;
-                    self.status = format!("Saved {}", path.display());
-                    if let Some(d) = &self.data {
-                        d.clear_recovery();
-                        self.recent = d.add_recent(&path);
+            Command::SaveTo(path) if files::is_bundled_example(&path) => {
+                self.modal = Modal::ConfirmOverwrite(path);
+            }
+            Command::SaveTo(path) | Command::OverwriteExample(path) => {
+                match files::save_session(&self.session, &path) {
+                    Ok(()) => {
+                        self.bundled = files::is_bundled_example(&path);
+                        self.file = Some(path.clone());
+                        self.dirty = false;
+                        self.status = format!("Saved {}", path.display());
+                        if let Some(d) = &self.data {
+                            d.clear_recovery();
+                            self.recent = d.add_recent(&path);
+                        }
+                        self.autosaved = None;
                     }
-                    self.autosaved = None;
+                    Err(e) => {
+                        self.status = format!("Not saved: {e}");
+                        self.modal = Modal::Message {
+                            title: "The session was not saved".into(),
+                            text: e,
+                        };
+                    }
                 }
-                Err(e) => {
-                    self.status = format!("Not saved: {e}");
-                    self.modal = Modal::Message {
-                        title: "The session was not saved".into(),
-                        text: e,
-                    };
-                }
-            },
+            }
             Command::Undo => {
                 if let Some(s) = self.history.undo(&self.session) {
                     self.restore(s);
@@ -1048,6 +1077,7 @@ impl Explorer {
                     match files::parse_session(text) {
                         Ok((s, _)) => {
                             self.replace_session(s, None);
+                            self.bundled = true;
                             self.status = format!("Example {name}");
                         }
                         Err(e) => {
@@ -1077,6 +1107,7 @@ impl Explorer {
 
     /// Put a whole new session in place (new, open, example, restore).
     fn replace_session(&mut self, session: Session, file: Option<PathBuf>) {
+        self.bundled = file.as_deref().is_some_and(files::is_bundled_example);
         self.session = session;
         self.file = file;
         self.dirty = false;

@@ -116,7 +116,10 @@ impl TablesPanel {
             );
         });
         ui.separator();
-        egui::ScrollArea::vertical()
+        // Scrolling both ways keeps a table wider than the panel inside it: a
+        // table that overflows widens the panel, and with it the panel's
+        // separator, across the diagram pane beside it.
+        egui::ScrollArea::both()
             .auto_shrink([false, false])
             .show(ui, |ui| match self.tab {
                 Tab::Equilibria => {
