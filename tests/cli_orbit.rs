@@ -169,3 +169,23 @@ fn bad_orbit_input_exits_2_naming_the_flag() {
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("T(p) + V(q)"), "{}", stderr(&o));
 }
+
+#[test]
+fn a_product_of_momenta_is_still_integrated_by_the_nystrom_method() {
+    // p*p/2 + q*q/2 is the harmonic oscillator, T quadratic in p, separable
+    // (common practice): auto picks the sixth-order Nyström splitting.
+    let o = run(&[
+        "orbit",
+        "--formula",
+        "p*p/2 + q*q/2",
+        "--q0",
+        "1",
+        "--p0",
+        "0",
+        "--json",
+    ]);
+    let v = json(&o);
+    assert_eq!(v["method"], "nystrom6");
+    let period = v["period"].as_f64().unwrap();
+    assert!((period - 2.0 * PI).abs() < 1e-10, "T = {period}");
+}

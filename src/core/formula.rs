@@ -853,15 +853,19 @@ impl<'a> Compiler<'a> {
             self.sep.pop();
         }
         self.depth = self.depth + 1 - arity;
-        // separability: sums and differences of separable parts stay separable;
-        // so do products with, and quotients by, a q- and p-free factor.
-        let sep = match (op, arity) {
-            (Op::Add | Op::Sub, 2) => sep_in[0] && sep_in[1],
-            (Op::Neg, 1) => sep_in[0],
-            (Op::Mul, 2) => (arg_deps[0] == 0 && sep_in[1]) || (arg_deps[1] == 0 && sep_in[0]),
-            (Op::Div, 2) => arg_deps[1] == 0 && sep_in[0],
-            _ => deps != 3,
-        };
+        // separability: a node that depends on at most one of q and p is
+        // separable whatever its operation (q*q, 1/q, q/(1+q^2)); only where
+        // both meet does the structure matter: sums and differences of
+        // separable parts stay separable, and so do products with, and
+        // quotients by, a q- and p-free factor.
+        let sep = deps != 3
+            || match (op, arity) {
+                (Op::Add | Op::Sub, 2) => sep_in[0] && sep_in[1],
+                (Op::Neg, 1) => sep_in[0],
+                (Op::Mul, 2) => (arg_deps[0] == 0 && sep_in[1]) || (arg_deps[1] == 0 && sep_in[0]),
+                (Op::Div, 2) => arg_deps[1] == 0 && sep_in[0],
+                _ => false,
+            };
         self.consts.push(None);
         self.deps.push(deps);
         self.sep.push(sep);
