@@ -10,6 +10,10 @@ use super::{Cancel, Diagnostic};
 use std::f64::consts::PI;
 use std::fmt;
 
+pub mod observers;
+pub use observers::{AcceptedStep, Observer, Verdict};
+use observers::{Bounds, EnergyError, Extent, FirstReturn, Strobe, Thinning};
+
 /// The default bounds are the view grown by this factor about its centre.
 pub const BOUNDS_FACTOR: f64 = 4.0;
 /// Default cap on the number of steps.
@@ -30,7 +34,7 @@ pub const EQUILIBRIUM_FRACTION: f64 = 1e-13;
 /// Newton on the crossing time stops when its change is below this fraction
 /// of the elapsed time.
 pub const CROSSING_TOLERANCE: f64 = 1e-15;
-const CROSSING_MAX_ITERATIONS: u32 = 30;
+pub(crate) const CROSSING_MAX_ITERATIONS: u32 = 30;
 /// H is taken as periodic in q when H(q + 2π, p) and H(q, p) agree to this
 /// (relative to 1 + |H|) at every test point.
 pub const PERIODIC_TOLERANCE: f64 = 1e-12;
@@ -68,6 +72,10 @@ pub struct OrbitRequest {
     pub max_samples: usize,
     /// Relative tolerance per step of the adaptive method.
     pub tolerance: f64,
+    /// Record the state every this much time (the stroboscopic record for a
+    /// drive of this period): at t0 + kτ, k = 1, 2, …, landed on exactly with
+    /// a shortened step; see [`Orbit::strobe_points`]. `None` records nothing.
+    pub strobe: Option<f64>,
 }
 
 impl OrbitRequest {
@@ -86,6 +94,7 @@ impl OrbitRequest {
             stop_when_closed: false,
             max_samples: DEFAULT_MAX_SAMPLES,
             tolerance: super::integrate::dopri::DEFAULT_TOLERANCE,
+            strobe: None,
         }
     }
 
@@ -148,6 +157,14 @@ impl OrbitRequest {
         }
         if self.max_samples < 2 {
             return bad("max_samples", "must be at least 2".into());
+        }
+        if let Some(tau) = self.strobe {
+            if !(tau.is_finite() && tau > 0.0) {
+                return bad(
+                    "strobe",
+                    format!("must be a finite positive period (got {tau})"),
+                );
+            }
         }
         if !(self.tolerance.is_finite() && self.tolerance > 0.0 && self.tolerance < 1.0) {
             return bad(
@@ -306,6 +323,10 @@ pub struct Orbit {
     pub steps: u64,
     pub field_evaluations: u64,
     pub jet_evaluations: u64,
+    /// (q, p) at t0 + kτ, k = 1, 2, … when the request asked for a strobe
+    /// period τ (empty otherwise).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub strobe_points: Vec<[f64; 2]>,
     pub diagnostics: Vec<Diagnostic>,
 }
 
@@ -386,6 +407,19 @@ pub fn is_periodic_in_q(sys: &System, bounds: &Window, t: f64) -> bool {
 /// Integrate one orbit. Never panics: a bad request comes back as an orbit with
 /// `StopReason::InvalidRequest`; every other failure stops the orbit with its reason.
 pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orbit {
+    integrate_with(sys, req, &mut [], cancel)
+}
+
+/// [`integrate_orbit`] with caller-supplied observers run after the built-in
+/// ones (first return, stroboscopic record, thinning, extent, energy error,
+/// bounds) on every accepted step; each may stop the orbit or ask the stepper
+/// to land exactly on a time (see [`Observer`]).
+pub fn integrate_with(
+    sys: &System,
+    req: &OrbitRequest,
+    extra: &mut [&mut dyn Observer],
+    cancel: &Cancel,
+) -> Orbit {
     let mut orbit = Orbit {
         samples: Vec::new(),
         period: None,
@@ -406,6 +440,7 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         steps: 0,
         field_evaluations: 0,
         jet_evaluations: 0,
+        strobe_points: Vec::new(),
         diagnostics: Vec::new(),
     };
     if let Err(e) = req.validate() {
@@ -437,12 +472,6 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
         orbit.motion = Motion::Unbounded;
         return orbit;
     }
-    let first = Sample {
-        t: start.t,
-        q: start.q,
-        p: start.p,
-        h: h0,
-    };
 
     let method = integrator.method();
     let h = match req.step {
@@ -457,21 +486,59 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
     if speed0 == 0.0 || (rate0 > 0.0 && speed0 / rate0 < EQUILIBRIUM_FRACTION * length) {
         orbit.stop = StopReason::AtEquilibrium;
         orbit.motion = Motion::Equilibrium;
-        orbit.samples.push(first);
+        orbit.samples.push(Sample {
+            t: start.t,
+            q: start.q,
+            p: start.p,
+            h: h0,
+        });
         return orbit;
     }
     let sense = h.signum();
     let dir = [sense * field0[0] / speed0, sense * field0[1] / speed0];
     let periodic = is_periodic_in_q(sys, &req.bounds, start.t);
     let t_end = start.t + req.duration;
-    let mut thinner = Thinner::new(
+    // Time slack below which two times are the same (common practice: a few
+    // ulps of the largest time involved).
+    let slack = (t_end.abs().max(h.abs())) * 4.0 * f64::EPSILON;
+
+    let mut first_return = FirstReturn::new(
+        start,
+        dir,
+        periodic,
+        sense,
+        req.tolerance,
+        req.stop_when_closed,
+    );
+    let mut strobe = req
+        .strobe
+        .map(|tau| Strobe::new(start.t, tau.copysign(sense), slack));
+    let mut thinning = Thinning::new(
         req.bounds.diagonal() / BOUNDS_FACTOR / SAMPLE_SEGMENTS_PER_VIEW,
         req.max_samples,
     );
-    thinner.first(first);
+    let mut extent = Extent::new(start);
+    let mut energy = EnergyError::new(h0);
+    let mut bounds = Bounds::new(req.bounds.clone(), periodic);
+    let mut built_in: Vec<&mut dyn Observer> = Vec::with_capacity(6 + extra.len());
+    built_in.push(&mut first_return);
+    if let Some(s) = strobe.as_mut() {
+        built_in.push(s);
+    }
+    built_in.push(&mut thinning);
+    built_in.push(&mut extent);
+    built_in.push(&mut energy);
+    built_in.push(&mut bounds);
+    for o in extra.iter_mut() {
+        built_in.push(&mut **o);
+    }
+    let observers = built_in;
+    let mut observers = observers;
+    for o in observers.iter_mut() {
+        o.start(&start, h0);
+    }
 
     let mut y = start;
-    let mut p_dq_total = 0.0;
     let mut h_next = h;
     let mut stop = StopReason::Finished;
     loop {
@@ -486,14 +553,25 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
             break;
         }
         let remaining = t_end - y.t;
-        if remaining * sense <= (t_end.abs().max(h.abs())) * 4.0 * f64::EPSILON {
+        if remaining * sense <= slack {
             break;
         }
-        let h_try = if h_next.abs() >= remaining.abs() {
+        let mut h_try = if h_next.abs() >= remaining.abs() {
             remaining
         } else {
             h_next
         };
+        // Land exactly on the nearest time an observer asks for.
+        let mut landing = false;
+        for o in observers.iter() {
+            if let Some(tl) = o.next_landing() {
+                let to = tl - y.t;
+                if to * sense > 0.0 && h_try.abs() > to.abs() {
+                    h_try = to;
+                    landing = true;
+                }
+            }
+        }
         let (step, h_taken, proposed) = match integrator.adaptive_step(sys, &y, h_try) {
             Ok(r) => r,
             Err(e) => {
@@ -501,7 +579,7 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
                 break;
             }
         };
-        if method.is_adaptive() && h_try != remaining {
+        if method.is_adaptive() && h_try != remaining && !landing {
             h_next = proposed;
         }
         let next = step.state;
@@ -511,88 +589,50 @@ pub fn integrate_orbit(sys: &System, req: &OrbitRequest, cancel: &Cancel) -> Orb
             break;
         }
 
-        // First return to the section through the start, transverse to the flow.
-        if orbit.period.is_none() {
-            let shift = if periodic {
-                // `+ 0.0` turns a rounded −0 into 0.
-                ((next.q - start.q) / Q_PERIOD).round() * Q_PERIOD + 0.0
-            } else {
-                0.0
-            };
-            let anchor = [start.q + shift, start.p];
-            let g = |q: f64, p: f64| dir[0] * (q - anchor[0]) + dir[1] * (p - anchor[1]);
-            let g_prev = g(y.q, y.p);
-            let g_next = g(next.q, next.p);
-            let size =
-                (orbit.q_range[1] - orbit.q_range[0]).hypot(orbit.p_range[1] - orbit.p_range[0]);
-            let near =
-                (next.q - anchor[0]).hypot(next.p - anchor[1]) <= RETURN_RADIUS_FRACTION * size;
-            if g_prev < 0.0 && g_next >= 0.0 && near {
-                let mut finder = match Integrator::new(sys, method) {
-                    Ok(f) => f,
-                    Err(e) => {
-                        stop = StopReason::InvalidRequest {
-                            problem: e.to_string(),
-                        };
-                        break;
+        let mut seen = AcceptedStep {
+            sys,
+            integrator: &integrator,
+            before: y,
+            after: next,
+            energy_after: h_next_energy,
+            h: h_taken,
+            p_dq: step.p_dq,
+        };
+        let mut verdict: Option<StopReason> = None;
+        for o in observers.iter_mut() {
+            match o.observe(&seen) {
+                Verdict::Continue => {}
+                Verdict::Stop(reason) => {
+                    if verdict.is_none() {
+                        verdict = Some(reason);
                     }
-                };
-                finder.set_tolerance(req.tolerance);
-                let crossing = locate_crossing(
-                    &mut finder,
-                    &integrator,
-                    sys,
-                    &y,
-                    h_taken,
-                    &dir,
-                    &anchor,
-                    g_prev,
-                    g_next,
-                );
-                orbit.field_evaluations += finder.counters.field_evaluations;
-                orbit.jet_evaluations += finder.counters.jet_evaluations;
-                match crossing {
-                    Some((at, p_dq_partial)) => {
-                        let period = (at.t - start.t).abs();
-                        orbit.period = Some(period);
-                        orbit.frequency = Some(2.0 * PI / period);
-                        orbit.action = Some(sense * (p_dq_total + p_dq_partial) / (2.0 * PI));
-                        orbit.q_advance = shift;
-                        orbit.closed = true;
-                        orbit.motion = if shift == 0.0 { Motion::Libration } else { Motion::Rotation };
-                        if req.stop_when_closed {
-                            let h_at = sys.energy_t(at.q, at.p, at.t);
-                            record(&mut orbit, &mut thinner, at, h_at, h0);
-                            stop = StopReason::Closed;
-                            break;
-                        }
+                }
+                Verdict::StopAt(reason, cut, energy_cut, p_dq_cut) => {
+                    if verdict.is_none() {
+                        verdict = Some(reason);
+                        seen.h = cut.t - seen.before.t;
+                        seen.after = cut;
+                        seen.energy_after = energy_cut;
+                        seen.p_dq = p_dq_cut;
                     }
-                    None => orbit.diagnostics.push(Diagnostic::warning(format!(
-                        "a return to the start section near t = {:.6} could not be located precisely; no period reported",
-                        next.t
-                    ))),
                 }
             }
         }
-
-        p_dq_total += step.p_dq;
-        y = next;
-        record(&mut orbit, &mut thinner, y, h_next_energy, h0);
-        let outside = if periodic {
-            y.p < req.bounds.pmin || y.p > req.bounds.pmax
-        } else {
-            !req.bounds.contains(y.q, y.p)
-        };
-        if outside {
-            stop = StopReason::LeftBounds {
-                t: y.t,
-                q: y.q,
-                p: y.p,
-            };
+        y = seen.after;
+        if let Some(reason) = verdict {
+            stop = reason;
             break;
         }
     }
-    orbit.samples = thinner.finish();
+    drop(observers);
+    orbit.samples = thinning.finish();
+    orbit.q_range = extent.q_range;
+    orbit.p_range = extent.p_range;
+    orbit.energy_error = energy.max_error;
+    if let Some(s) = strobe {
+        orbit.strobe_points = s.points;
+    }
+    first_return.finish(&mut orbit);
     if matches!(
         stop,
         StopReason::LeftBounds { .. } | StopReason::NonFinite { .. }
@@ -622,18 +662,6 @@ fn step_error_stop(e: &StepError, t: f64) -> StopReason {
     }
 }
 
-fn record(orbit: &mut Orbit, thinner: &mut Thinner, s: State, h: f64, h0: f64) {
-    orbit.q_range = [orbit.q_range[0].min(s.q), orbit.q_range[1].max(s.q)];
-    orbit.p_range = [orbit.p_range[0].min(s.p), orbit.p_range[1].max(s.p)];
-    orbit.energy_error = orbit.energy_error.max((h - h0).abs());
-    thinner.push(Sample {
-        t: s.t,
-        q: s.q,
-        p: s.p,
-        h,
-    });
-}
-
 /// max(|H₀|, ½ max|∇H| over the samples × the extent's diagonal).
 fn energy_scale(sys: &System, orbit: &Orbit) -> f64 {
     let diag = (orbit.q_range[1] - orbit.q_range[0]).hypot(orbit.p_range[1] - orbit.p_range[0]);
@@ -649,145 +677,4 @@ fn energy_scale(sys: &System, orbit: &Orbit) -> f64 {
     }
     let scale = orbit.energy.abs().max(0.5 * grad * diag);
     if scale.is_finite() { scale } else { 0.0 }
-}
-
-/// The crossing of g = 0 inside the step from `y` of size `h`: Newton on the
-/// partial step size τ, each trial state computed by the integrator itself (a
-/// step of size τ from `y`; for the adaptive method its continuous extension),
-/// safeguarded by bisection on the bracket [0, h]. Returns the state there and
-/// ∫ p dq from `y` to it.
-#[allow(clippy::too_many_arguments)]
-fn locate_crossing(
-    finder: &mut Integrator,
-    stepped: &Integrator,
-    sys: &System,
-    y: &State,
-    h: f64,
-    dir: &[f64; 2],
-    anchor: &[f64; 2],
-    g_lo: f64,
-    g_hi: f64,
-) -> Option<(State, f64)> {
-    let g = |q: f64, p: f64| dir[0] * (q - anchor[0]) + dir[1] * (p - anchor[1]);
-    let (mut lo, mut hi) = (0.0, h);
-    let mut tau = h * g_lo / (g_lo - g_hi);
-    let elapsed = y.t.abs() + h.abs();
-    for _ in 0..CROSSING_MAX_ITERATIONS {
-        let (state, p_dq) = if finder.method().is_adaptive() {
-            let xy = stepped.dense(tau / h)?;
-            (
-                State {
-                    q: xy[0],
-                    p: xy[1],
-                    t: y.t + tau,
-                },
-                f64::NAN,
-            )
-        } else {
-            let s = finder.step(sys, y, tau).ok()?;
-            (s.state, s.p_dq)
-        };
-        let gv = g(state.q, state.p);
-        let f = sys.field_t(state.q, state.p, state.t);
-        finder.counters.field_evaluations += 1;
-        let slope = dir[0] * f[0] + dir[1] * f[1];
-        if gv < 0.0 {
-            lo = tau
-        } else {
-            hi = tau
-        }
-        let mut next = if slope.is_finite() && slope != 0.0 {
-            tau - gv / slope
-        } else {
-            f64::NAN
-        };
-        let inside = next > lo.min(hi) && next < lo.max(hi);
-        if !inside {
-            next = 0.5 * (lo + hi);
-        }
-        if (next - tau).abs() <= CROSSING_TOLERANCE * elapsed || gv == 0.0 {
-            let p_dq = if p_dq.is_nan() {
-                // Adaptive method: one exact step of size τ for the quadrature.
-                finder.step(sys, y, tau).ok()?.p_dq
-            } else {
-                p_dq
-            };
-            return Some((state, p_dq));
-        }
-        tau = next;
-    }
-    None
-}
-
-/// Keeps the points where the path turns, and enough along straight runs.
-struct Thinner {
-    kept: Vec<Sample>,
-    candidate: Option<Sample>,
-    max_segment: f64,
-    cos_turn: f64,
-    cap: usize,
-}
-
-impl Thinner {
-    fn new(max_segment: f64, cap: usize) -> Thinner {
-        Thinner {
-            kept: Vec::new(),
-            candidate: None,
-            max_segment,
-            cos_turn: SAMPLE_TURN_ANGLE.cos(),
-            cap: cap.max(2),
-        }
-    }
-
-    fn first(&mut self, s: Sample) {
-        self.kept.push(s);
-    }
-
-    fn push(&mut self, s: Sample) {
-        let Some(c) = self.candidate else {
-            self.candidate = Some(s);
-            return;
-        };
-        let Some(l) = self.kept.last().copied() else {
-            self.kept.push(s);
-            return;
-        };
-        let d1 = [c.q - l.q, c.p - l.p];
-        let d2 = [s.q - c.q, s.p - c.p];
-        let n1 = d1[0].hypot(d1[1]);
-        let n2 = d2[0].hypot(d2[1]);
-        let turned =
-            n1 > 0.0 && n2 > 0.0 && (d1[0] * d2[0] + d1[1] * d2[1]) < self.cos_turn * n1 * n2;
-        let long = (s.q - l.q).hypot(s.p - l.p) > self.max_segment;
-        if turned || long {
-            self.kept.push(c);
-            if self.kept.len() >= self.cap {
-                self.halve();
-            }
-        }
-        self.candidate = Some(s);
-    }
-
-    /// Drop every other point and coarsen the thresholds.
-    fn halve(&mut self) {
-        let last = self.kept.len() - 1;
-        let kept: Vec<Sample> = self
-            .kept
-            .iter()
-            .enumerate()
-            .filter(|(i, _)| i % 2 == 0 || *i == last)
-            .map(|(_, s)| *s)
-            .collect();
-        self.kept = kept;
-        self.max_segment *= 2.0;
-        let angle = self.cos_turn.acos() * 2.0;
-        self.cos_turn = angle.min(PI / 2.0).cos();
-    }
-
-    fn finish(mut self) -> Vec<Sample> {
-        if let Some(c) = self.candidate.take() {
-            self.kept.push(c);
-        }
-        self.kept
-    }
 }
