@@ -1,0 +1,322 @@
+//! The Melnikov function of a driven, damped system along the separatrix
+//! connections of its undriven part.
+//!
+//! Equations of motion q' = ∂H/∂p, p' = −∂H/∂q − δ ∂H/∂p. H₀ is H with the
+//! amplitude parameter F set to 0 (it must not depend on t); H₁ = ∂H/∂F.
+//! Along a connection x₀(s) of H₀,
+//! M(t₀) = F·m(t₀) − δ·D, m(t₀) = ∫ {H₀, H₁}(x₀(s), s + t₀) ds,
+//! D = ∫ (∂H₀/∂p)² ds, with {A, B} = A_q B_p − A_p B_q (so that
+//! {H₀, H₁} = f ∧ g for f = (H₀_p, −H₀_q), g = (H₁_p, −H₁_q)).
+//!
+//! Reference: J. Guckenheimer and P. Holmes, Nonlinear Oscillations, Dynamical
+//! Systems, and Bifurcations of Vector Fields (1983), §4.5.
+//!
+//! The connection is integrated from its mid point forward and backward with
+//! Gauss–Legendre collocation (order 6) at a fixed step until it is
+//! `STOP_REL` of the window scale from the saddle; beyond that the orbit
+//! follows the saddle's linearisation (exponential approach along the stable
+//! or unstable eigenvector) until its distance is `TAIL_REL` of the scale.
+//! The integrals use the trapezoidal rule on that uniform grid (spectrally
+//! accurate for smooth integrands decaying on the line; common practice).
+
+use super::Cancel;
+use super::equilibria::Equilibrium;
+use super::integrate::{Integrator, Method, State};
+use super::system::System;
+use super::wells::{Connection, ConnectionKind};
+
+/// Time step as a fraction of 1/λ (λ the saddle's eigenvalue).
+const STEP_PER_LAMBDA: f64 = 0.01;
+/// The nonlinear flow stops this close to the saddle (relative to the scale).
+const STOP_REL: f64 = 1e-5;
+/// The linearised tail stops at this relative distance.
+const TAIL_REL: f64 = 1e-14;
+/// Samples of m over one drive period.
+const SAMPLES: usize = 64;
+/// Most steps on one side of the mid point.
+const MAX_STEPS: usize = 200_000;
+/// Bisection / golden-section iterations.
+const REFINE_ITERATIONS: usize = 60;
+
+/// The Melnikov function along one connection.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct MelnikovConnection {
+    pub kind: ConnectionKind,
+    pub from: usize,
+    pub to: usize,
+    pub energy: f64,
+    /// D = ∫ (∂H₀/∂p)² ds.
+    pub damping_integral: f64,
+    /// (t₀, m(t₀)) over one period.
+    pub samples: Vec<[f64; 2]>,
+    /// Simple zeros of M(t₀) = F·m − δ·D in one period at the system's F.
+    pub zeros: Vec<f64>,
+    /// max over t₀ of |m(t₀)|.
+    pub max_abs_m: f64,
+    /// F at which zeros first appear: δ·D / max|m| (0 when δ = 0: any F > 0).
+    pub threshold_amplitude: f64,
+    /// D / max|m|.
+    pub threshold_ratio: f64,
+}
+
+/// Points and trapezoid weights along one connection.
+struct Orbit {
+    pts: Vec<(f64, f64, f64, f64)>, // q, p, s, weight
+}
+
+/// The Melnikov function along every connection. `amplitude` names the
+/// drive-amplitude parameter; `period` the drive period τ > 0; `damping` δ ≥ 0.
+pub fn melnikov(
+    sys: &System,
+    amplitude: &str,
+    damping: f64,
+    period: f64,
+    equilibria: &[Equilibrium],
+    connections: &[Connection],
+    cancel: &Cancel,
+) -> Result<Vec<MelnikovConnection>, String> {
+    let idx = sys
+        .formula()
+        .param_index(amplitude)
+        .ok_or_else(|| format!("the formula has no parameter named '{amplitude}' (amplitude)"))?;
+    if !(period.is_finite() && period > 0.0) {
+        return Err(format!("the drive period must be positive, got {period}"));
+    }
+    if !(damping.is_finite() && damping >= 0.0) {
+        return Err(format!("the damping must be ≥ 0, got {damping}"));
+    }
+    let f = sys.params()[idx];
+    let sys0 = sys.with_param(idx, 0.0);
+    // H₀ must be autonomous: ∂H₀/∂t is checked by comparing H₀ at two times.
+    if sys.depends_on_time() {
+        for &(q, p) in &[(0.3, 0.7), (-1.1, 0.4), (0.9, -1.3)] {
+            let a = sys0.energy_t(q, p, 0.0);
+            for &t in &[0.37, 1.9, 5.3] {
+                let b = sys0.energy_t(q, p, t);
+                if (a - b).abs() > 1e-12 * (1.0 + a.abs()) {
+                    return Err(format!(
+                        "H with {amplitude} = 0 still depends on t; the time dependence must sit in the drive term"
+                    ));
+                }
+            }
+        }
+    }
+    let mut out = Vec::new();
+    for c in connections {
+        if cancel.is_cancelled() {
+            break;
+        }
+        let Some(orbit) = trace(&sys0, c, equilibria)? else {
+            continue;
+        };
+        let d: f64 = orbit
+            .pts
+            .iter()
+            .map(|&(q, p, _, w)| w * sys0.dh_dp(q, p, 0.0).1.powi(2))
+            .sum();
+        let m = |t0: f64| -> f64 {
+            orbit
+                .pts
+                .iter()
+                .map(|&(q, p, s, w)| {
+                    let j = sys0.frozen_at(s + t0).param_jet(q, p, idx);
+                    w * (j.grad[0] * j.hess[1][2] - j.grad[1] * j.hess[0][2])
+                })
+                .sum()
+        };
+        let samples: Vec<[f64; 2]> = (0..SAMPLES)
+            .map(|k| {
+                let t = period * k as f64 / SAMPLES as f64;
+                [t, m(t)]
+            })
+            .collect();
+        // max |m|: golden section around the best sample
+        let (kbest, _) = samples.iter().enumerate().fold((0, -1.0), |b, (k, s)| {
+            if s[1].abs() > b.1 { (k, s[1].abs()) } else { b }
+        });
+        let dt = period / SAMPLES as f64;
+        let g = |t: f64| -m(t).abs();
+        let (mut a, mut b) = (samples[kbest][0] - dt, samples[kbest][0] + dt);
+        let r = 0.5 * (5f64.sqrt() - 1.0);
+        let (mut x1, mut x2) = (b - r * (b - a), a + r * (b - a));
+        let (mut g1, mut g2) = (g(x1), g(x2));
+        for _ in 0..REFINE_ITERATIONS {
+            if g1 < g2 {
+                b = x2;
+                x2 = x1;
+                g2 = g1;
+                x1 = b - r * (b - a);
+                g1 = g(x1);
+            } else {
+                a = x1;
+                x1 = x2;
+                g1 = g2;
+                x2 = a + r * (b - a);
+                g2 = g(x2);
+            }
+            if (b - a).abs() < 1e-10 * period {
+                break;
+            }
+        }
+        let max_abs_m = (-g1).max(-g2).max(samples[kbest][1].abs());
+        // zeros of M = F m − δ D
+        let mm = |t: f64| f * m(t) - damping * d;
+        let mut zeros = Vec::new();
+        for k in 0..SAMPLES {
+            let (mut a, mut b) = (samples[k][0], samples[k][0] + dt);
+            let mut fa = f * samples[k][1] - damping * d;
+            let fb = f * samples[(k + 1) % SAMPLES][1] - damping * d;
+            if fa == 0.0 {
+                zeros.push(a);
+                continue;
+            }
+            if fa * fb >= 0.0 {
+                continue;
+            }
+            for _ in 0..REFINE_ITERATIONS {
+                let mid = 0.5 * (a + b);
+                let fm = mm(mid);
+                if fm == 0.0 || (b - a) < 1e-13 * period {
+                    a = mid;
+                    b = mid;
+                    break;
+                }
+                if fa * fm < 0.0 {
+                    b = mid;
+                } else {
+                    a = mid;
+                    fa = fm;
+                }
+            }
+            zeros.push(0.5 * (a + b));
+        }
+        let ratio = if max_abs_m > 0.0 {
+            d / max_abs_m
+        } else {
+            f64::INFINITY
+        };
+        out.push(MelnikovConnection {
+            kind: c.kind,
+            from: c.from,
+            to: c.to,
+            energy: c.energy,
+            damping_integral: d,
+            samples,
+            zeros,
+            max_abs_m,
+            threshold_amplitude: damping * ratio,
+            threshold_ratio: ratio,
+        });
+    }
+    Ok(out)
+}
+
+/// The saddle's eigenvalue λ > 0 and its unstable and stable eigenvectors.
+fn saddle_linear(sys0: &System, e: &Equilibrium) -> Option<(f64, [f64; 2], [f64; 2])> {
+    let j = sys0.jacobian(e.q, e.p);
+    let det = j[0][0] * j[1][1] - j[0][1] * j[1][0];
+    if !(det < 0.0) {
+        return None;
+    }
+    let tr = j[0][0] + j[1][1];
+    let lam = (0.25 * tr * tr - det).sqrt();
+    let vec = |mu: f64| {
+        let a = [j[0][1], mu - j[0][0]];
+        let b = [mu - j[1][1], j[1][0]];
+        let v = if a[0].hypot(a[1]) > b[0].hypot(b[1]) {
+            a
+        } else {
+            b
+        };
+        let n = v[0].hypot(v[1]);
+        [v[0] / n, v[1] / n]
+    };
+    Some((lam, vec(0.5 * tr + lam), vec(0.5 * tr - lam)))
+}
+
+fn trace(sys0: &System, c: &Connection, eq: &[Equilibrium]) -> Result<Option<Orbit>, String> {
+    let (Some(a), Some(b)) = (eq.get(c.from), eq.get(c.to)) else {
+        return Ok(None);
+    };
+    let (Some(la), Some(lb)) = (saddle_linear(sys0, a), saddle_linear(sys0, b)) else {
+        return Ok(None);
+    };
+    if c.path.len() < 3 {
+        return Ok(None);
+    }
+    // mid point: the vertex farthest from both saddles, refined onto the level
+    let dist = |v: &[f64; 2]| {
+        (v[0] - a.q)
+            .hypot(v[1] - a.p)
+            .min((v[0] - b.q).hypot(v[1] - b.p))
+    };
+    let mid = c
+        .path
+        .iter()
+        .fold(c.path[0], |m, v| if dist(v) > dist(&m) { *v } else { m });
+    let scale = dist(&mid).max(1e-300);
+    let (mut q, mut p) = (mid[0], mid[1]);
+    for _ in 0..8 {
+        let g = sys0.gradient(q, p);
+        let n2 = g[0] * g[0] + g[1] * g[1];
+        if n2 == 0.0 {
+            break;
+        }
+        let r = sys0.energy(q, p) - c.energy;
+        q -= r * g[0] / n2;
+        p -= r * g[1] / n2;
+    }
+    let lam = la.0.max(lb.0);
+    let h = STEP_PER_LAMBDA / lam;
+    let mut integ = Integrator::new(sys0, Method::Gauss6).map_err(|e| e.to_string())?;
+    let mut pts = vec![(q, p, 0.0, h)];
+    // Forward in time the orbit approaches a saddle along its stable
+    // direction, backward along its unstable one. Which saddle it approaches
+    // depends on the arc's orientation, so both ends are watched.
+    let ends = [(a, la), (b, lb)];
+    for dir in [1.0, -1.0] {
+        let mut s = State { q, p, t: 0.0 };
+        let mut k = 0usize;
+        loop {
+            let st = integ
+                .step(sys0, &s, dir * h)
+                .map_err(|e| e.to_string())?
+                .state;
+            s = st;
+            k += 1;
+            let near = ends
+                .iter()
+                .map(|(e, lin)| (e, lin, (s.q - e.q).hypot(s.p - e.p)))
+                .min_by(|x, y| x.2.total_cmp(&y.2));
+            let Some((sad, lin, gap)) = near else {
+                break;
+            };
+            if gap < STOP_REL * scale || k > MAX_STEPS {
+                if k > MAX_STEPS {
+                    return Err(format!(
+                        "the connection from saddle {} did not reach a saddle within {MAX_STEPS} steps",
+                        c.from + 1
+                    ));
+                }
+                let (l, v) = if dir > 0.0 {
+                    (lin.0, lin.2)
+                } else {
+                    (lin.0, lin.1)
+                };
+                // linearised tail along the eigenvector
+                let (dq, dp) = (s.q - sad.q, s.p - sad.p);
+                let amp = dq * v[0] + dp * v[1];
+                let mut e = 1.0;
+                let decay = (-l * h).exp();
+                while e * amp.abs() > TAIL_REL * scale {
+                    pts.push((sad.q + amp * e * v[0], sad.p + amp * e * v[1], s.t, h));
+                    e *= decay;
+                    s.t += dir * h;
+                }
+                break;
+            }
+            pts.push((s.q, s.p, s.t, h));
+        }
+    }
+    Ok(Some(Orbit { pts }))
+}
