@@ -21,11 +21,19 @@ fn rust_files(dir: &Path, out: &mut Vec<PathBuf>) {
     }
 }
 
+/// Names that must not appear in the layers between the core and the explorer
+/// (figures, scenes, the session format, the view requests).
+const GUI_NAMES: &[&str] = &["egui", "eframe", "egui_plot", "rfd"];
+
 /// Forbidden names found in `text`, as whole words (so "rfd" does not match inside "surfdata").
 fn offences(text: &str) -> Vec<(usize, &'static str)> {
+    offences_of(text, FORBIDDEN)
+}
+
+fn offences_of(text: &str, names: &[&'static str]) -> Vec<(usize, &'static str)> {
     let mut found = Vec::new();
     for (n, line) in text.lines().enumerate() {
-        for &name in FORBIDDEN {
+        for &name in names {
             let mut from = 0;
             while let Some(i) = line[from..].find(name) {
                 let at = from + i;
@@ -67,6 +75,37 @@ fn core_never_mentions_view_crates_clap_or_the_file_system() {
     assert!(
         bad.is_empty(),
         "the core must stay free of views and files:\n{}",
+        bad.join("\n")
+    );
+}
+
+#[test]
+fn figures_scenes_sessions_and_requests_never_mention_the_gui() {
+    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
+    let mut files = vec![
+        src.join("scene.rs"),
+        src.join("session.rs"),
+        src.join("request.rs"),
+    ];
+    rust_files(&src.join("render"), &mut files);
+    assert!(
+        files.len() >= 6,
+        "render/ not found under {}",
+        src.display()
+    );
+    let mut bad = Vec::new();
+    for f in &files {
+        let text = match std::fs::read_to_string(f) {
+            Ok(t) => t,
+            Err(e) => panic!("cannot read {}: {e}", f.display()),
+        };
+        for (line, name) in offences_of(&text, GUI_NAMES) {
+            bad.push(format!("{}:{line} mentions {name}", f.display()));
+        }
+    }
+    assert!(
+        bad.is_empty(),
+        "figures, scenes, sessions and requests must not know the explorer:\n{}",
         bad.join("\n")
     );
 }

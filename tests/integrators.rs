@@ -460,10 +460,3 @@ fn fourth_order_energy_error_stays_below_1e_7_over_a_hundred_thousand_periods() 
         );
     }
 }
-
-#[test]
-fn session_method_names_are_integrator_names() {
-    for name in phasewright::session::ORBIT_METHODS {
-        assert!(Method::from_name(name).is_ok(), "{name}");
-    }
-}
