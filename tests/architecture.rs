@@ -50,6 +50,21 @@ fn offences_of(text: &str, names: &[&'static str]) -> Vec<(usize, &'static str)>
     found
 }
 
+/// Every forbidden name in `files`, as "path:line mentions name".
+fn scan(files: &[PathBuf], names: &[&'static str]) -> Vec<String> {
+    let mut bad = Vec::new();
+    for f in files {
+        let text = match std::fs::read_to_string(f) {
+            Ok(t) => t,
+            Err(e) => panic!("cannot read {}: {e}", f.display()),
+        };
+        for (line, name) in offences_of(&text, names) {
+            bad.push(format!("{}:{line} mentions {name}", f.display()));
+        }
+    }
+    bad
+}
+
 #[test]
 fn core_never_mentions_view_crates_clap_or_the_file_system() {
     let core = Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -62,16 +77,7 @@ fn core_never_mentions_view_crates_clap_or_the_file_system() {
         "src/core not found at {}",
         core.display()
     );
-    let mut bad = Vec::new();
-    for f in &files {
-        let text = match std::fs::read_to_string(f) {
-            Ok(t) => t,
-            Err(e) => panic!("cannot read {}: {e}", f.display()),
-        };
-        for (line, name) in offences(&text) {
-            bad.push(format!("{}:{line} mentions {name}", f.display()));
-        }
-    }
+    let bad = scan(&files, FORBIDDEN);
     assert!(
         bad.is_empty(),
         "the core must stay free of views and files:\n{}",
@@ -93,16 +99,7 @@ fn figures_scenes_sessions_and_requests_never_mention_the_gui() {
         "render/ not found under {}",
         src.display()
     );
-    let mut bad = Vec::new();
-    for f in &files {
-        let text = match std::fs::read_to_string(f) {
-            Ok(t) => t,
-            Err(e) => panic!("cannot read {}: {e}", f.display()),
-        };
-        for (line, name) in offences_of(&text, GUI_NAMES) {
-            bad.push(format!("{}:{line} mentions {name}", f.display()));
-        }
-    }
+    let bad = scan(&files, GUI_NAMES);
     assert!(
         bad.is_empty(),
         "figures, scenes, sessions and requests must not know the explorer:\n{}",
