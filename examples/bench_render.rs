@@ -8,6 +8,7 @@
 use phasewright::core::Cancel;
 use phasewright::render::png::rasterize;
 use phasewright::render::{FigureSize, View, to_svg, view_data, view_scene};
+use phasewright::request::Overrides;
 use phasewright::scene::BackbonePlot;
 use std::path::Path;
 use std::time::{Duration, Instant};
@@ -86,8 +87,16 @@ fn main() {
         }
         for view in views {
             let label = format!("{name}/{}", view.name());
-            let (t_analyze, data) =
-                best(|| view_data(&session, &sys, &session.view, view, &Cancel::never()));
+            let (t_analyze, data) = best(|| {
+                view_data(
+                    &session,
+                    &sys,
+                    &session.view,
+                    view,
+                    &Overrides::default(),
+                    &Cancel::never(),
+                )
+            });
             let data = match data {
                 Ok(d) => d,
                 Err(e) => {

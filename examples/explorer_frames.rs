@@ -45,7 +45,7 @@ fn main() {
         };
         let ctx = egui::Context::default();
         let start = Instant::now();
-        let mut frame = |app: &mut Explorer| -> f64 {
+        let frame = |app: &mut Explorer| -> f64 {
             let input = egui::RawInput {
                 screen_rect: Some(egui::Rect::from_min_size(
                     egui::Pos2::ZERO,

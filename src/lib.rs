@@ -5,6 +5,7 @@ pub mod cli;
 pub mod core;
 #[cfg(feature = "gui")]
 pub mod gui;
+pub mod numbers;
 pub mod render;
 pub mod request;
 pub mod scene;

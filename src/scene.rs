@@ -10,6 +10,7 @@ use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
 use crate::core::system::System;
+use crate::numbers;
 
 /// A colour as 8-bit sRGB.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -336,33 +337,11 @@ pub fn formula_caption(sys: &System) -> String {
         let values: Vec<String> = names
             .iter()
             .zip(sys.params())
-            .map(|(n, v)| format!("{n} = {}", short_number(*v)))
+            .map(|(n, v)| format!("{n} = {}", numbers::caption(*v)))
             .collect();
         text.push_str(&format!(" with {}", values.join(", ")));
     }
     text
-}
-
-/// A compact number for captions: up to 6 significant digits, no trailing zeros.
-pub fn short_number(v: f64) -> String {
-    if v == 0.0 || !v.is_finite() {
-        return format!("{v}");
-    }
-    let mag = v.abs().log10().floor();
-    if !(-4.0..6.0).contains(&mag) {
-        return format!("{v:.4e}");
-    }
-    let decimals = (5.0 - mag).max(0.0) as usize;
-    let mut s = format!("{v:.decimals$}");
-    if s.contains('.') {
-        while s.ends_with('0') {
-            s.pop();
-        }
-        if s.ends_with('.') {
-            s.pop();
-        }
-    }
-    s
 }
 
 impl Scene {
@@ -598,19 +577,6 @@ pub fn nice_ticks(min: f64, max: f64, target: usize) -> (Vec<f64>, f64) {
     (ticks, step)
 }
 
-/// A tick label for `v` on an axis with tick spacing `step`: as many decimals
-/// as the step needs, exponent form for very large or small values, a true minus sign.
-pub fn tick_label(v: f64, step: f64) -> String {
-    let mag = step.abs().log10().floor();
-    let text = if step > 0.0 && (mag < -4.0 || v.abs() >= 1e6) {
-        format!("{v:.1e}")
-    } else {
-        let decimals = if mag < 0.0 { (-mag) as usize } else { 0 };
-        format!("{v:.decimals$}")
-    };
-    text.replace('-', "\u{2212}")
-}
-
 /// Which relation a backbone figure plots.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
 pub enum BackbonePlot {
@@ -633,7 +599,7 @@ fn caption_without(sys: &System, skip: &[&str], tail: &str) -> String {
         .iter()
         .zip(sys.params())
         .filter(|(n, _)| !skip.contains(&n.as_str()))
-        .map(|(n, v)| format!("{n} = {}", short_number(*v)))
+        .map(|(n, v)| format!("{n} = {}", numbers::caption(*v)))
         .collect();
     if !values.is_empty() {
         text.push_str(&format!(" with {}", values.join(", ")));
@@ -642,20 +608,6 @@ fn caption_without(sys: &System, skip: &[&str], tail: &str) -> String {
         text.push_str(&format!("; {tail}"));
     }
     text
-}
-
-/// A parameter value in a mark's label: five decimals in the usual range, else exponent form.
-pub fn label_number(v: f64) -> String {
-    let text = if v == 0.0 || (v.abs() >= 1e-3 && v.abs() < 1e5) {
-        format!("{v:.5}")
-    } else {
-        format!("{v:.4e}")
-    };
-    if text.starts_with('-') && text.trim_start_matches(['-', '0', '.']).is_empty() {
-        text[1..].to_string()
-    } else {
-        text
-    }
 }
 
 /// An axis over the finite values of `values`, widened by a margin; `fallback`
@@ -753,7 +705,7 @@ impl Scene {
                 label: Some(format!(
                     "{} {name} = {}",
                     b.kind.name(),
-                    label_number(b.param)
+                    numbers::label(b.param)
                 )),
             })
             .collect();
@@ -782,7 +734,7 @@ impl Scene {
         if let Some(v) = current.filter(|v| *v >= x.min && *v <= x.max) {
             curves.push(guide(vec![[v, y.min], [v, y.max]]));
             legend.push(line_entry(
-                format!("{name} = {}", short_number(v)),
+                format!("{name} = {}", numbers::caption(v)),
                 GUIDE_COLOUR,
                 GUIDE_WIDTH,
                 true,
@@ -790,8 +742,8 @@ impl Scene {
         }
         let tail = format!(
             "{name} from {} to {}",
-            short_number(sweep.from),
-            short_number(sweep.to)
+            numbers::caption(sweep.from),
+            numbers::caption(sweep.to)
         );
         Scene {
             title: format!("Equilibria as {name} moves"),
@@ -864,10 +816,13 @@ impl Scene {
                 true,
             ));
         }
+        // the well's size is the scale against which the center's
+        // coordinates are rounding noise
+        let size = backbone.rows.iter().fold(0.0f64, |m, r| m.max(r.amplitude));
         let tail = format!(
             "well of the center at q = {}, p = {}",
-            short_number(backbone.center[0]),
-            short_number(backbone.center[1])
+            numbers::caption(numbers::clean(backbone.center[0], size)),
+            numbers::caption(numbers::clean(backbone.center[1], size))
         );
         Scene {
             title: title.to_string(),
@@ -911,8 +866,8 @@ impl Scene {
                 style: BIFURCATION_MARKER,
                 label: Some(format!(
                     "cusp {n1} = {}, {n2} = {}",
-                    label_number(c.params[0]),
-                    label_number(c.params[1])
+                    numbers::label(c.params[0]),
+                    numbers::label(c.params[1])
                 )),
             })
             .collect();
@@ -940,7 +895,11 @@ impl Scene {
             curves.push(guide(vec![[u, y.min], [u, y.max]]));
             curves.push(guide(vec![[x.min, v], [x.max, v]]));
             legend.push(line_entry(
-                format!("{n1} = {}, {n2} = {}", short_number(u), short_number(v)),
+                format!(
+                    "{n1} = {}, {n2} = {}",
+                    numbers::caption(u),
+                    numbers::caption(v)
+                ),
                 GUIDE_COLOUR,
                 GUIDE_WIDTH,
                 true,

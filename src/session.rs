@@ -44,15 +44,6 @@ pub const MAX_FILE_BYTES: usize = 16 * 1024 * 1024;
 /// Orbit method names a session may use (the integrators' stable names).
 pub const ORBIT_METHODS: [&str; Method::ALL.len()] = Method::NAMES;
 
-/// Names a formula reads as variables or constants, never as parameters.
-const RESERVED_NAMES: [(&str, &str); 5] = [
-    ("q", "the coordinate"),
-    ("p", "the momentum"),
-    ("t", "time"),
-    ("pi", "the constant π"),
-    ("e", "the constant e = 2.718…"),
-];
-
 /// Value given to a formula parameter that the session does not list.
 pub const DEFAULT_PARAM_VALUE: f64 = 1.0;
 /// Slider range given to a formula parameter that the session does not list.
@@ -640,7 +631,7 @@ impl Session {
                     ));
                 }
             }
-            if let Some((_, meaning)) = RESERVED_NAMES.iter().find(|(n, _)| *n == p.name) {
+            if let Some(meaning) = crate::core::formula::reserved_meaning(&p.name) {
                 warnings.push(format!(
                     "parameters[{i}]: `{}` is a built-in name in formulas ({meaning}), so this \
                      parameter has no effect; rename it in the formula and here",
@@ -733,7 +724,7 @@ impl Session {
                 let clamped = MAX_DURATION.copysign(o.duration);
                 warnings.push(format!(
                     "orbits[{i}].duration: {} is beyond the cap of ±{MAX_DURATION:e}; using {clamped:e}",
-                    crate::core::analysis::short_number(o.duration)
+                    crate::numbers::message(o.duration)
                 ));
                 o.duration = clamped;
             }

@@ -95,7 +95,7 @@ fn typing_a_formula_changes_the_equilibria_table() {
         .set_text_value_accesskit("p^2/2 - cos(q)");
     settle(&mut f.harness);
     let app = f.harness.state();
-    assert_eq!(app.session.formula, "p^2/2 - cos(q)");
+    assert_eq!(app.doc.session.formula, "p^2/2 - cos(q)");
     // Pendulum: center at q = 0, saddles at q = ±π (closed form), all inside |q| ≤ 4.
     let a = app.analysis().expect("analysis shown");
     let rows = equilibrium_rows(&a.equilibria);
@@ -136,7 +136,7 @@ fn parameter_across_a_saddle_node_adds_a_center_and_a_saddle() {
     f.harness.get_by_label("mu value").set_value_accesskit(0.5);
     settle(&mut f.harness);
     let app = f.harness.state();
-    assert_eq!(app.session.parameters[0].value, 0.5);
+    assert_eq!(app.doc.session.parameters[0].value, 0.5);
     let a = app.analysis().expect("analysis shown");
     assert_eq!(a.equilibria.len(), 2);
     let root = 0.5f64.sqrt();
@@ -164,8 +164,8 @@ fn a_click_in_the_plot_launches_an_orbit_with_a_period() {
     f.harness.run_steps(40);
     settle(&mut f.harness);
     let app = f.harness.state();
-    assert_eq!(app.session.orbits.len(), 1);
-    let o = &app.session.orbits[0];
+    assert_eq!(app.doc.session.orbits.len(), 1);
+    let o = &app.doc.session.orbits[0];
     assert!(
         o.q0 > 0.2 && o.p0.abs() < 0.2,
         "orbit starts at ({}, {})",
@@ -200,7 +200,7 @@ fn saving_and_reopening_gives_the_same_session() {
     ));
     f.harness.get_by_label("mu value").set_value_accesskit(0.25);
     settle(&mut f.harness);
-    assert!(f.harness.state().dirty);
+    assert!(f.harness.state().doc.dirty);
     assert!(f.harness.state().title().starts_with('●'));
     let path = f.data.path().join("saved.json");
 
@@ -212,8 +212,8 @@ fn saving_and_reopening_gives_the_same_session() {
     f.harness.run_steps(2);
     f.harness.get_by_label("Save").click();
     f.harness.run_steps(3);
-    let saved = f.harness.state().session.clone();
-    assert!(!f.harness.state().dirty);
+    let saved = f.harness.state().doc.session.clone();
+    assert!(!f.harness.state().doc.dirty);
     assert!(path.exists());
 
     let mut g = open(session("p^2/2", &[], window(-1.0, 1.0, -1.0, 1.0)));
@@ -224,7 +224,7 @@ fn saving_and_reopening_gives_the_same_session() {
     g.harness.run_steps(2);
     g.harness.get_by_label("Open").click();
     settle(&mut g.harness);
-    assert_eq!(g.harness.state().session, saved);
+    assert_eq!(g.harness.state().doc.session, saved);
     assert_eq!(g.harness.state().editor_text(), "p^2/2 + q^3/3 - mu*q");
 }
 
@@ -235,24 +235,24 @@ fn undo_restores_the_previous_formula() {
         .get_by_label(EDITOR_LABEL)
         .set_text_value_accesskit("p^2/2 + q^4/4");
     settle(&mut f.harness);
-    assert_eq!(f.harness.state().session.formula, "p^2/2 + q^4/4");
+    assert_eq!(f.harness.state().doc.session.formula, "p^2/2 + q^4/4");
     f.harness
         .key_press_modifiers(egui::Modifiers::COMMAND, egui::Key::Z);
     settle(&mut f.harness);
-    assert_eq!(f.harness.state().session.formula, "p^2/2 + q^2/2");
+    assert_eq!(f.harness.state().doc.session.formula, "p^2/2 + q^2/2");
     assert_eq!(f.harness.state().editor_text(), "p^2/2 + q^2/2");
     f.harness.key_press_modifiers(
         egui::Modifiers::COMMAND | egui::Modifiers::SHIFT,
         egui::Key::Z,
     );
     settle(&mut f.harness);
-    assert_eq!(f.harness.state().session.formula, "p^2/2 + q^4/4");
+    assert_eq!(f.harness.state().doc.session.formula, "p^2/2 + q^4/4");
 }
 
 #[test]
 fn a_bad_session_file_leaves_the_current_session_untouched() {
     let mut f = open(session("p^2/2 + q^2/2", &[], window(-2.0, 2.0, -2.0, 2.0)));
-    let before = f.harness.state().session.clone();
+    let before = f.harness.state().doc.session.clone();
     let bad = f.data.path().join("bad.json");
     std::fs::write(
         &bad,
@@ -266,12 +266,12 @@ fn a_bad_session_file_leaves_the_current_session_untouched() {
     f.harness.run_steps(2);
     f.harness.get_by_label("Open").click();
     f.harness.run_steps(3);
-    assert_eq!(f.harness.state().session, before);
+    assert_eq!(f.harness.state().doc.session, before);
     assert_eq!(f.harness.state().modal_name(), "message");
     assert!(
-        f.harness.state().status.contains("bad.json"),
+        f.harness.state().status().contains("bad.json"),
         "status: {}",
-        f.harness.state().status
+        f.harness.state().status()
     );
 }
 
@@ -283,7 +283,7 @@ fn an_invalid_formula_keeps_the_last_portrait_and_points_at_the_column() {
         .set_text_value_accesskit("p^2/2 + * q");
     settle(&mut f.harness);
     let app = f.harness.state();
-    assert_eq!(app.session.formula, "p^2/2 + q^2/2");
+    assert_eq!(app.doc.session.formula, "p^2/2 + q^2/2");
     assert!(app.formula_error().is_some());
     assert_eq!(kinds(app), vec![EquilibriumKind::Center]);
     assert!(
@@ -302,7 +302,7 @@ fn a_range_with_min_above_max_is_refused() {
     ));
     f.harness.get_by_label("k min").set_value_accesskit(3.0);
     f.harness.run_steps(3);
-    let p = &f.harness.state().session.parameters[0];
+    let p = &f.harness.state().doc.session.parameters[0];
     assert_eq!((p.min, p.max), (0.0, 2.0));
     assert!(
         f.harness
@@ -321,6 +321,7 @@ fn a_new_identifier_gets_a_row_and_a_dropped_one_leaves_after_the_edit_settles()
     let names: Vec<String> = f
         .harness
         .state()
+        .doc
         .session
         .parameters
         .iter()
@@ -332,12 +333,12 @@ fn a_new_identifier_gets_a_row_and_a_dropped_one_leaves_after_the_edit_settles()
         .set_text_value_accesskit("p^2/2 + q^2/2");
     f.harness.run_steps(2);
     assert_eq!(
-        f.harness.state().session.parameters.len(),
+        f.harness.state().doc.session.parameters.len(),
         1,
         "kept while the edit settles"
     );
     f.harness.run_steps(90);
-    assert!(f.harness.state().session.parameters.is_empty());
+    assert!(f.harness.state().doc.session.parameters.is_empty());
 }
 
 #[test]
@@ -364,8 +365,8 @@ fn unsaved_work_is_offered_back_after_a_crash() {
     assert_eq!(h.state().modal_name(), "offer-restore");
     h.get_by_label("Restore it").click();
     h.run_steps(3);
-    assert_eq!(h.state().session.formula, "p^2/2 + 2*q^2");
-    assert!(h.state().dirty);
+    assert_eq!(h.state().doc.session.formula, "p^2/2 + 2*q^2");
+    assert!(h.state().doc.dirty);
 }
 
 // ----- the diagram panes -----
@@ -472,7 +473,7 @@ fn clicking_the_diagram_sets_the_parameter_and_redraws_the_portrait() {
     click_at(&mut f.harness, at);
     settle(&mut f.harness);
     let app = f.harness.state();
-    let mu = app.session.parameters[0].value;
+    let mu = app.doc.session.parameters[0].value;
     let expected = x0 + 0.8 * (x1 - x0);
     let pixel = (x1 - x0) / f64::from(rect.width());
     assert!(
@@ -530,7 +531,7 @@ fn a_sweep_range_with_from_above_to_is_refused_and_edits_undo() {
         .get_by_label("sweep from")
         .set_value_accesskit(2.0);
     f.harness.run_steps(3);
-    let sw = f.harness.state().session.sweep.clone().expect("sweep");
+    let sw = f.harness.state().doc.session.sweep.clone().expect("sweep");
     assert_eq!((sw.from, sw.to), (-1.0, 1.0));
     assert!(
         f.harness
@@ -539,7 +540,7 @@ fn a_sweep_range_with_from_above_to_is_refused_and_edits_undo() {
     );
     f.harness.get_by_label("sweep to").set_value_accesskit(0.5);
     settle(&mut f.harness);
-    let sw = f.harness.state().session.sweep.clone().expect("sweep");
+    let sw = f.harness.state().doc.session.sweep.clone().expect("sweep");
     assert_eq!((sw.from, sw.to), (-1.0, 0.5));
     // The saddle-node at μ = 0.2565 is still inside [−1, 0.5].
     let sweep = f.harness.state().sweep().expect("swept again");
@@ -548,7 +549,7 @@ fn a_sweep_range_with_from_above_to_is_refused_and_edits_undo() {
     f.harness
         .key_press_modifiers(egui::Modifiers::COMMAND, egui::Key::Z);
     settle(&mut f.harness);
-    let sw = f.harness.state().session.sweep.clone().expect("sweep");
+    let sw = f.harness.state().doc.session.sweep.clone().expect("sweep");
     assert_eq!((sw.from, sw.to), (-1.0, 1.0));
 }
 

@@ -81,15 +81,15 @@ fn hazard_messages_are_on_screen() {
 fn a_failed_save_keeps_the_session_unsaved_in_memory() {
     let data = tempfile::tempdir().expect("temp dir");
     let mut h = open(session("p^2/2 + q^2/2"), Some(data.path().to_path_buf()));
-    h.state_mut().session.title = "work in progress".into();
-    h.state_mut().dirty = true;
-    let before = h.state().session.clone();
+    h.state_mut().doc.session.title = "work in progress".into();
+    h.state_mut().doc.dirty = true;
+    let before = h.state().doc.session.clone();
     // procfs takes no new files, even from root
     let bad = Path::new("/proc/phasewright-unsaved.json");
     h.state_mut().save_to(bad);
     h.run_steps(2);
-    assert!(h.state().dirty, "still marked unsaved");
-    assert_eq!(h.state().session, before, "nothing lost");
+    assert!(h.state().doc.dirty, "still marked unsaved");
+    assert_eq!(h.state().doc.session, before, "nothing lost");
     assert_eq!(h.state().modal_name(), "message");
     // in the message dialog and in the status bar
     assert!(
@@ -139,8 +139,8 @@ fn autosave_brings_back_the_unsaved_session_after_a_crash() {
         // the child: an explorer with unsaved changes autosaves, then the process dies
         let mut app =
             Explorer::new(session("p^2/2"), None, Some(PathBuf::from(dir))).expect("starts");
-        app.session = unsaved();
-        app.dirty = true;
+        app.doc.session = unsaved();
+        app.doc.dirty = true;
         app.autosave_now();
         std::process::abort();
     }
@@ -168,6 +168,6 @@ fn autosave_brings_back_the_unsaved_session_after_a_crash() {
     assert_eq!(h.state().modal_name(), "offer-restore");
     h.get_by_label("Restore it").click();
     h.run_steps(3);
-    assert_eq!(h.state().session, unsaved());
-    assert!(h.state().dirty, "restored work is unsaved until saved");
+    assert_eq!(h.state().doc.session, unsaved());
+    assert!(h.state().doc.dirty, "restored work is unsaved until saved");
 }

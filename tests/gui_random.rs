@@ -160,7 +160,7 @@ fn act(h: &mut Harness<'static, Explorer>, rng: &mut Rng) {
 /// The session the explorer holds reloads through the file loader with the same
 /// content and can be written to disk.
 fn check_session(h: &Harness<'static, Explorer>, step: usize, dir: &std::path::Path) {
-    let s = &h.state().session;
+    let s = &h.state().doc.session;
     let text = s.to_json_pretty();
     let (reloaded, _warnings) = match session::load(&text) {
         Ok(r) => r,

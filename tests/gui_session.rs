@@ -11,6 +11,7 @@ use egui_kittest::kittest::{NodeT, Queryable};
 use explorer::settle;
 use phasewright::core::window::Window;
 use phasewright::gui::{EXAMPLES, Explorer};
+use phasewright::request::Overrides;
 use phasewright::session::{SeededOrbit, Session};
 
 fn harness(session: Session) -> (Harness<'static, Explorer>, tempfile::TempDir) {
@@ -33,9 +34,12 @@ fn opening_each_example_leaves_no_unsaved_mark_and_keeps_its_values() {
         let (mut h, _data) = harness(session);
         h.run_steps(10);
         let app = h.state();
-        assert!(!app.dirty, "{name}: opening the file counted as an edit");
+        assert!(
+            !app.doc.dirty,
+            "{name}: opening the file counted as an edit"
+        );
         assert!(!app.title().starts_with('●'), "{name}: {}", app.title());
-        for (p, q) in before.iter().zip(&app.session.parameters) {
+        for (p, q) in before.iter().zip(&app.doc.session.parameters) {
             // Bit-for-bit: a slider step must not turn 2.3 into 2.3000000000000003.
             assert_eq!(p.value.to_bits(), q.value.to_bits(), "{name}: {}", p.name);
         }
@@ -106,9 +110,14 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
             FoldsRequest::from_session(&saved, names),
             "{name}: fold curves"
         );
-        let rendered =
-            phasewright::render::backbone_request_of(&saved, &sys, &saved.view, &Cancel::never())
-                .ok();
+        let rendered = phasewright::render::backbone_request_of(
+            &saved,
+            &sys,
+            &saved.view,
+            &Overrides::default(),
+            &Cancel::never(),
+        )
+        .ok();
         assert_eq!(shown.backbone, rendered, "{name}: backbone");
         assert!(
             shown.sweep.is_some() || names.is_empty(),
@@ -196,7 +205,7 @@ fn saving_a_shipped_example_offers_a_new_file_in_the_documents_folder() {
         expected.display()
     );
     assert_eq!(std::fs::read_to_string(&taken).expect("readable"), "{}");
-    assert_eq!(h.state().file.as_deref(), Some(expected.as_path()));
+    assert_eq!(h.state().doc.file.as_deref(), Some(expected.as_path()));
 
     // An example from the Examples menu is offered in the documents folder too.
     menu(&mut h, "Examples", "loaded strut");

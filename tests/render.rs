@@ -11,6 +11,7 @@ use phasewright::core::window::Window;
 use phasewright::render::png::rasterize;
 use phasewright::render::table::{equilibria_table, parameter_pairs, parse_csv};
 use phasewright::render::{FigureSize, to_svg};
+use phasewright::request::Overrides;
 use phasewright::scene::{self, Scene, marker_for, nice_ticks};
 use std::f64::consts::PI;
 
@@ -276,8 +277,8 @@ fn ticks_step_by_one_two_or_five_times_a_power_of_ten() {
     assert_eq!(step, 2.0);
     let (_, step) = nice_ticks(10.0, 270.0, 5);
     assert_eq!(step, 50.0);
-    assert_eq!(scene::tick_label(-0.5, 0.5), "\u{2212}0.5");
-    assert_eq!(scene::tick_label(2.0, 1.0), "2");
+    assert_eq!(phasewright::numbers::tick(-0.5, 0.5), "\u{2212}0.5");
+    assert_eq!(phasewright::numbers::tick(2.0, 1.0), "2");
 }
 
 #[test]
@@ -941,8 +942,14 @@ fn folds_csv_holds_the_curves_and_cusps_bit_for_bit() {
 fn backbone_csv_holds_every_row_bit_for_bit() {
     let rows = render_csv("biased-resonator.json", &["--view", "backbone"]);
     let (session, sys) = load_example("biased-resonator.json");
-    let b =
-        phasewright::render::backbone_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
+    let b = phasewright::render::backbone_of(
+        &session,
+        &sys,
+        &session.view,
+        &Overrides::default(),
+        &Cancel::never(),
+    )
+    .unwrap();
     assert_eq!(
         rows[0],
         [
@@ -1002,7 +1009,14 @@ fn explorer_export_writes_the_same_bytes_as_the_render_command() {
         ]);
         assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
         let from_gui = dir.path().join(format!("gui.{ext}"));
-        let done = phasewright::gui::export_to_file(&session, view, format, &from_gui).unwrap();
+        let done = phasewright::gui::export_to_file(
+            &session,
+            &Overrides::default(),
+            view,
+            format,
+            &from_gui,
+        )
+        .unwrap();
         assert!(done.starts_with("exported"), "{done}");
         assert_eq!(
             std::fs::read(&from_gui).unwrap(),
@@ -1016,6 +1030,7 @@ fn explorer_export_writes_the_same_bytes_as_the_render_command() {
     let target = dir.path().join("none.svg");
     let e = phasewright::gui::export_to_file(
         &plain,
+        &Overrides::default(),
         View::Diagram,
         ExportFormat::Figure(FigureFormat::Svg),
         &target,

@@ -8,6 +8,7 @@ use super::system::System;
 use super::wells::{Connection, Well};
 use super::window::Window;
 use super::{Cancel, Diagnostic};
+use crate::numbers;
 
 /// Fewest grid points per side an analysis uses.
 pub const MIN_ANALYSIS_GRID: usize = 16;
@@ -106,7 +107,7 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
         diagnostics.push(Diagnostic::info(format!(
             "H is constant in view (H = {}{}): every point is an equilibrium, so none is \
              listed, and there are no level curves to draw",
-            short_number(lo),
+            numbers::message(lo),
             if hi == lo { "" } else { " up to rounding" }
         )));
     } else if grid.range.is_some() {
@@ -120,9 +121,9 @@ pub fn analyze(sys: &System, window: &Window, cfg: &AnalysisConfig, cancel: &Can
                 "H jumps or has a pole between neighbouring grid points (first near q = {}, \
                  p = {}); the cells there ({}% of the window) are left blank so that no level \
                  curve is drawn across it",
-                short_number(q),
-                short_number(p),
-                percent(share)
+                numbers::message(q),
+                numbers::message(p),
+                numbers::percent(share)
             )));
         }
     }
@@ -218,7 +219,7 @@ fn grid_diagnostics(grid: &Grid, diagnostics: &mut Vec<Diagnostic>) {
     if grid.nonfinite_fraction > 0.0 {
         diagnostics.push(Diagnostic::warning(format!(
             "H is NaN or infinite on {}% of the window; those cells are left blank",
-            percent(100.0 * grid.nonfinite_fraction)
+            numbers::percent(100.0 * grid.nonfinite_fraction)
         )));
     }
 }
@@ -246,25 +247,6 @@ fn rounding_noise(sys: &System, window: &Window) -> f64 {
         }
     }
     noise
-}
-
-/// A share in percent for a message: two decimals below 1 %, whole numbers above.
-fn percent(pct: f64) -> String {
-    if pct < 1.0 {
-        format!("{pct:.2}")
-    } else {
-        format!("{pct:.0}")
-    }
-}
-
-/// A number for a message: plain digits (at most nine decimals) in the usual
-/// range, else with an exponent, so that 1e300 is not written out in full.
-pub fn short_number(x: f64) -> String {
-    if x == 0.0 || (1e-4..1e9).contains(&x.abs()) {
-        format!("{}", (x * 1e9).round() / 1e9)
-    } else {
-        format!("{x:.6e}")
-    }
 }
 
 /// The levels an analysis draws: `n` evenly spaced ones plus each distinct

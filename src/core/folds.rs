@@ -21,10 +21,9 @@
 //! I. Stewart, *Catastrophe Theory and its Applications* (Pitman 1978), ch. 5
 //! (the cusp).
 
-use super::continuation::{BifurcationKind, SweepProgress};
+use super::continuation::engine::{self, Curve, Matrix, Vector, Walk};
 use super::continuation::{
-    ContinuationError, Curve, Matrix, StepConfig, SweepConfig, Vector, Walk, distance_to_polyline,
-    exit_point, illinois, inside, next_step_length, point_between, sweep_index, tangent,
+    BifurcationKind, ContinuationError, StepConfig, SweepConfig, SweepProgress, sweep_index,
 };
 use super::system::System;
 use super::window::Window;
@@ -202,14 +201,14 @@ impl FoldTracer<'_> {
             let pa = (t[2], t[3]);
             if pa.0 * st.t[2] + pa.1 * st.t[3] < 0.0
                 && let Some(yc) = self.locate_cusp(&y, &st.y, pa)
-                && inside(&yc, &self.bounds, 0.0)
+                && engine::inside(&yc, &self.bounds, 0.0)
                 && !self.cusps.iter().any(|c| (c - yc).amax() < CUSP_MATCH_TOL)
             {
                 self.cusps.push(yc);
             }
-            if !inside(&st.y, &self.bounds, 0.0) {
+            if !engine::inside(&st.y, &self.bounds, 0.0) {
                 if let Some((yc, _)) =
-                    exit_point(&self.fold, &y, &st.y, &self.bounds, &self.cfg.step)
+                    engine::exit_point(&self.fold, &y, &st.y, &self.bounds, &self.cfg.step)
                 {
                     pts.push(yc);
                 }
@@ -228,7 +227,7 @@ impl FoldTracer<'_> {
             }
             y = st.y;
             t = st.t;
-            h = next_step_length(st.h, st.iterations, &self.cfg.step);
+            h = engine::next_step_length(st.h, st.iterations, &self.cfg.step);
         }
         HalfCurve {
             points: pts,
@@ -240,19 +239,19 @@ impl FoldTracer<'_> {
     fn locate_cusp(&self, y0: &Vector<4>, y1: &Vector<4>, pa: (f64, f64)) -> Option<Vector<4>> {
         let chord = (y1 - y0).try_normalize(0.0)?;
         let g = |s: f64| {
-            let y = point_between(&self.fold, y0, y1, s)?;
-            tangent(&self.fold, &y, &chord).map(|(t, _)| t[2] * pa.0 + t[3] * pa.1)
+            let y = engine::point_between(&self.fold, y0, y1, s)?;
+            engine::tangent(&self.fold, &y, &chord).map(|(t, _)| t[2] * pa.0 + t[3] * pa.1)
         };
         let (g0, g1) = (g(0.0)?, g(1.0)?);
-        let s = illinois(g, 0.0, g0, 1.0, g1, CUSP_LOCATE_TOL)?;
-        point_between(&self.fold, y0, y1, s)
+        let s = engine::illinois(g, 0.0, g0, 1.0, g1, CUSP_LOCATE_TOL)?;
+        engine::point_between(&self.fold, y0, y1, s)
     }
 
     fn trace_from(&mut self, y0: Vector<4>) {
         let Some((t0, _)) = [2usize, 3, 0, 1].iter().find_map(|&k| {
             let mut e = Vector::<4>::zeros();
             e[k] = 1.0;
-            tangent(&self.fold, &y0, &e)
+            engine::tangent(&self.fold, &y0, &e)
         }) else {
             return;
         };
@@ -422,7 +421,7 @@ pub fn fold_curves(
         if tracer
             .curves
             .iter()
-            .any(|(pts, _)| distance_to_polyline(&seed, pts) < SEED_ON_CURVE_TOL)
+            .any(|(pts, _)| engine::distance_to_polyline(&seed, pts) < SEED_ON_CURVE_TOL)
         {
             continue;
         }

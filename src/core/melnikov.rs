@@ -20,7 +20,7 @@
 //! accurate for smooth integrands decaying on the line; common practice).
 
 use super::Cancel;
-use super::equilibria::Equilibrium;
+use super::equilibria::{Equilibrium, saddle_directions};
 use super::integrate::{Integrator, Method, State};
 use super::system::System;
 use super::wells::{Connection, ConnectionKind};
@@ -213,25 +213,7 @@ pub fn melnikov(
 
 /// The saddle's eigenvalue λ > 0 and its unstable and stable eigenvectors.
 fn saddle_linear(sys0: &System, e: &Equilibrium) -> Option<(f64, [f64; 2], [f64; 2])> {
-    let j = sys0.jacobian(e.q, e.p);
-    let det = j[0][0] * j[1][1] - j[0][1] * j[1][0];
-    if !(det < 0.0) {
-        return None;
-    }
-    let tr = j[0][0] + j[1][1];
-    let lam = (0.25 * tr * tr - det).sqrt();
-    let vec = |mu: f64| {
-        let a = [j[0][1], mu - j[0][0]];
-        let b = [mu - j[1][1], j[1][0]];
-        let v = if a[0].hypot(a[1]) > b[0].hypot(b[1]) {
-            a
-        } else {
-            b
-        };
-        let n = v[0].hypot(v[1]);
-        [v[0] / n, v[1] / n]
-    };
-    Some((lam, vec(0.5 * tr + lam), vec(0.5 * tr - lam)))
+    saddle_directions(sys0.jacobian(e.q, e.p))
 }
 
 fn trace(sys0: &System, c: &Connection, eq: &[Equilibrium]) -> Result<Option<Orbit>, String> {

@@ -26,7 +26,7 @@
 //! of L. Vincent and P. Soille, IEEE PAMI 13 (1991).
 
 use super::contour::{Grid, LevelCurve};
-use super::equilibria::{DegenerateShape, Equilibrium, EquilibriumKind};
+use super::equilibria::{DegenerateShape, Equilibrium, EquilibriumKind, saddle_directions};
 use super::system::System;
 use super::window::Window;
 use std::cmp::Reverse;
@@ -389,15 +389,8 @@ fn branch_dirs(sys: &System, e: &Equilibrium) -> Option<[[f64; 2]; 4]> {
     let (u, s) = match (e.unstable_dir, e.stable_dir) {
         (Some(u), Some(s)) => (u, s),
         _ => {
-            let j = sys.jet(e.q, e.p);
-            let (a, b, c) = (j.hqp, j.hpp, -j.hqq);
-            // J = [[a, b], [c, −a]], eigenvalues ±λ with λ² = a² + bc.
-            let l2 = a * a + b * c;
-            if !l2.is_finite() || l2 <= 0.0 {
-                return None;
-            }
-            let l = l2.sqrt();
-            (eigvec(a, b, c, l)?, eigvec(a, b, c, -l)?)
+            let (_, u, s) = saddle_directions(sys.jacobian(e.q, e.p))?;
+            (u, s)
         }
     };
     let unit = |v: [f64; 2]| -> Option<[f64; 2]> {
@@ -406,17 +399,6 @@ fn branch_dirs(sys: &System, e: &Equilibrium) -> Option<[[f64; 2]; 4]> {
     };
     let (u, s) = (unit(u)?, unit(s)?);
     Some([u, [-u[0], -u[1]], s, [-s[0], -s[1]]])
-}
-
-/// An eigenvector of [[a, b], [c, −a]] for eigenvalue l, from the better-conditioned row.
-fn eigvec(a: f64, b: f64, c: f64, l: f64) -> Option<[f64; 2]> {
-    let r1 = [b, l - a];
-    let r2 = [a + l, c];
-    let n1 = r1[0].hypot(r1[1]);
-    let n2 = r2[0].hypot(r2[1]);
-    let v = if n1 >= n2 { r1 } else { r2 };
-    let n = n1.max(n2);
-    (n > 0.0 && n.is_finite()).then(|| [v[0] / n, v[1] / n])
 }
 
 /// Where one separatrix branch ends.

@@ -56,7 +56,7 @@ impl FormulaPanel {
         if let Some(err) = &self.error {
             error_block(ui, &self.text, err);
         } else {
-            ui.small("Variables q, p (and t); any other name becomes a parameter.");
+            ui.small(variables_hint());
         }
         command
     }
@@ -75,4 +75,17 @@ fn error_block(ui: &mut egui::Ui, text: &str, err: &FormulaError) {
                 .color(red),
         );
     }
+}
+
+/// The line under the editor: the formula's variables from the one table, and
+/// what any other name becomes.
+fn variables_hint() -> String {
+    let names: Vec<&str> = crate::core::formula::VARIABLES
+        .iter()
+        .map(|v| v.name)
+        .collect();
+    format!(
+        "Variables {}; any other name becomes a parameter.",
+        names.join(", ")
+    )
 }

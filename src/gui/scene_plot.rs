@@ -9,9 +9,9 @@
 //! end of the energy scale) are lifted towards white; everything else is drawn
 //! as the scene says.
 
+use crate::numbers::tick as tick_label;
 use crate::scene::{
     ColourScale, LegendEntry, MarkRole, MarkerShape, MarkerStyle, Rgb, Scene, Swatch, nice_ticks,
-    tick_label,
 };
 use egui::{Color32, Painter, Pos2, Rect, Stroke, pos2, vec2};
 use egui_plot::{Arrows, Line, LineStyle, PlotPoint, PlotUi, Points, Text};

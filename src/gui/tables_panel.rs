@@ -4,6 +4,7 @@
 
 use crate::core::analysis::Analysis;
 use crate::core::equilibria::Equilibrium;
+use crate::numbers::fixed;
 use crate::session::SeededOrbit;
 use std::sync::Arc;
 
@@ -22,16 +23,6 @@ pub enum Tab {
 #[derive(Default)]
 pub struct TablesPanel {
     pub tab: Tab,
-}
-
-/// `x` with `digits` decimals; a value that rounds to zero is shown without a
-/// sign (a center at q = −1e-17 reads "0.00000", not "-0.00000").
-fn fixed(x: f64, digits: usize) -> String {
-    let text = format!("{x:.digits$}");
-    match text.strip_prefix('-') {
-        Some(rest) if rest.chars().all(|c| c == '0' || c == '.') => rest.to_string(),
-        _ => text,
-    }
 }
 
 /// Text of the equilibria table: q, p, H, kind, eigenvalues, ω or λ.

@@ -13,10 +13,11 @@ use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
 use crate::core::system::System;
+use crate::numbers::{clean, label as label_number};
 use crate::request::{
     BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_of, range_of,
 };
-use crate::scene::{BackbonePlot, Scene, label_number};
+use crate::scene::{BackbonePlot, Scene};
 use crate::session::{BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
 use egui_plot::{Plot, PlotBounds};
 use std::sync::{Arc, Mutex};
@@ -121,9 +122,9 @@ fn param_choice(
     chosen
 }
 
-/// The panes' requests for what the explorer shows now.
-pub fn resolve(inp: &Inputs) -> PaneRequests {
-    let names = param_names(inp);
+/// What the panes follow that the session does not say: the center
+/// selected in the tables or on the portrait.
+pub fn overrides(inp: &Inputs) -> Overrides {
     let selected_center = match (inp.selection, inp.analysis) {
         (Selection::Equilibrium(i), Some(a)) => a
             .equilibria
@@ -132,7 +133,13 @@ pub fn resolve(inp: &Inputs) -> PaneRequests {
             .map(|e| [e.q, e.p]),
         _ => None,
     };
-    let overrides = Overrides { selected_center };
+    Overrides { selected_center }
+}
+
+/// The panes' requests for what the explorer shows now.
+pub fn resolve(inp: &Inputs) -> PaneRequests {
+    let names = param_names(inp);
+    let overrides = overrides(inp);
     PaneRequests {
         sweep: SweepRequest::from_session(inp.session, &names),
         folds: FoldsRequest::from_session(inp.session, &names),
@@ -699,8 +706,15 @@ impl ViewsPanel {
             ui.label("There is no center in view: a backbone needs a well.");
             return;
         };
-        let show =
-            |c: [f64; 2]| format!("center at ({}, {})", label_number(c[0]), label_number(c[1]));
+        let v = &inp.session.view;
+        let (qs, ps) = (v.qmax - v.qmin, v.pmax - v.pmin);
+        let show = |c: [f64; 2]| {
+            format!(
+                "center at ({}, {})",
+                label_number(clean(c[0], qs)),
+                label_number(clean(c[1], ps))
+            )
+        };
         ui.horizontal(|ui| {
             ui.label("well of the");
             let mut chosen = center;

@@ -180,19 +180,24 @@ impl std::error::Error for ViewError {}
 
 /// Compute what `view` shows for `session` in `window`, with the session's
 /// settings for that view (the explorer and the command line both come here,
-/// so a figure from either is made from the same numbers).
+/// so a figure from either is made from the same numbers). `overrides` are
+/// the explorer's choices not in the session (the selected center); the
+/// command line passes none.
 pub fn view_data(
     session: &Session,
     sys: &System,
     window: &Window,
     view: View,
+    overrides: &Overrides,
     cancel: &Cancel,
 ) -> Result<ViewData, ViewError> {
     Ok(match view {
         View::Portrait => ViewData::Portrait(portrait_data(session, sys, window, cancel)),
         View::Diagram => ViewData::Diagram(sweep_of(session, sys, window, cancel)?),
         View::Folds => ViewData::Folds(folds_of(session, sys, window, cancel)?),
-        View::Backbone(_) => ViewData::Backbone(backbone_of(session, sys, window, cancel)?),
+        View::Backbone(_) => {
+            ViewData::Backbone(backbone_of(session, sys, window, overrides, cancel)?)
+        }
     })
 }
 
@@ -229,15 +234,17 @@ pub fn folds_of(
 }
 
 /// The backbone request for `session` in `window`: the saved center's well,
-/// else the first center in view (see [`crate::request`]).
+/// else the selected center, else the first center in view (see
+/// [`crate::request`]).
 pub fn backbone_request_of(
     session: &Session,
     sys: &System,
     window: &Window,
+    overrides: &Overrides,
     cancel: &Cancel,
 ) -> Result<BackboneRequest, ViewError> {
     let in_view = centers_in_view(session, sys, window, cancel);
-    BackboneRequest::from_session(session, &in_view, &Overrides::default()).ok_or_else(|| {
+    BackboneRequest::from_session(session, &in_view, overrides).ok_or_else(|| {
         refused(View::Backbone(BackbonePlot::default()))(
             "there is no center in view, so no well to follow; give a point near a center"
                 .to_string(),
@@ -251,9 +258,10 @@ pub fn backbone_of(
     session: &Session,
     sys: &System,
     window: &Window,
+    overrides: &Overrides,
     cancel: &Cancel,
 ) -> Result<Backbone, ViewError> {
-    backbone_request_of(session, sys, window, cancel)?
+    backbone_request_of(session, sys, window, overrides, cancel)?
         .run(sys, window, cancel, &|_, _| {})
         .map_err(|e| refused(View::Backbone(BackbonePlot::default()))(e.to_string()))
 }
@@ -361,9 +369,10 @@ pub fn export(
     view: View,
     format: ExportFormat,
     size: FigureSize,
+    overrides: &Overrides,
     cancel: &Cancel,
 ) -> Result<Exported, ViewError> {
-    let data = view_data(session, sys, window, view, cancel)?;
+    let data = view_data(session, sys, window, view, overrides, cancel)?;
     Ok(export_data(session, sys, &data, view, format, size)?)
 }
 

@@ -3,9 +3,10 @@
 //! `<g class="mark …">` per mark, the energy colour bar, the legend and a
 //! caption line. Text stays text (escaped XML) in the bundled font's family.
 
+use crate::numbers::{coordinate as num, tick as tick_label};
 use crate::scene::{
     Arrow, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape, MarkerStyle,
-    PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks, tick_label,
+    PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
 };
 use std::fmt::Write;
 
@@ -127,18 +128,6 @@ pub fn escape(text: &str) -> String {
         }
     }
     out
-}
-
-/// A coordinate with two decimals, trailing zeros dropped.
-fn num(v: f64) -> String {
-    let mut s = format!("{v:.2}");
-    while s.ends_with('0') {
-        s.pop();
-    }
-    if s.ends_with('.') {
-        s.pop();
-    }
-    if s == "-0" { "0".to_string() } else { s }
 }
 
 /// The whole figure as an SVG document.

@@ -11,6 +11,7 @@ use crate::core::folds::FoldCurves;
 use crate::core::orbit::Orbit;
 use crate::core::wells::Well;
 use crate::core::window::Window;
+use crate::numbers;
 use crate::scene::kind_name;
 use serde_json::{Map, Value};
 
@@ -81,12 +82,6 @@ pub struct Table {
     pub rows: Vec<Vec<Cell>>,
 }
 
-/// Full-precision text of an f64 that Rust's parser reads back exactly
-/// (`NaN`, `inf`, `-inf` for the non-finite ones).
-pub fn number_text(v: f64) -> String {
-    format!("{v:?}")
-}
-
 fn csv_field(text: &str) -> String {
     if text.contains([',', '"', '\n', '\r']) || text.starts_with(' ') || text.ends_with(' ') {
         format!("\"{}\"", text.replace('"', "\"\""))
@@ -119,7 +114,7 @@ impl Table {
             let fields: Vec<String> = row
                 .iter()
                 .map(|c| match c {
-                    Cell::Number(v) => number_text(*v),
+                    Cell::Number(v) => numbers::exact(*v),
                     Cell::Integer(i) => i.to_string(),
                     Cell::Text(t) => csv_field(t),
                     Cell::Empty => String::new(),

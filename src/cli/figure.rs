@@ -1,0 +1,135 @@
+//! `render`: a figure of any view, SVG or PNG by the output's extension.
+
+use super::*;
+
+/// What a figure shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum FigureView {
+    /// Level curves, equilibria and the session's orbits in the phase plane.
+    Portrait,
+    /// Equilibria against one parameter (the session's sweep, or --param/--from/--to).
+    Diagram,
+    /// Period against energy, or frequency against amplitude, in the well of one center.
+    Backbone,
+    /// Saddle-node curves in the plane of two parameters (the session's folds, or --params/--box).
+    Folds,
+}
+
+/// Which relation a backbone figure plots.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum PlotArg {
+    /// Period against energy, the escape energy as a guide.
+    PeriodEnergy,
+    /// Angular frequency against amplitude.
+    FrequencyAmplitude,
+}
+
+/// Arguments of `render`.
+#[derive(Debug, Clone, Args)]
+pub struct RenderArgs {
+    #[command(flatten)]
+    pub system: SystemArgs,
+    /// The file to write: FILE.svg or FILE.png (a figure), FILE.csv or FILE.json (its table).
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: PathBuf,
+    /// Size in pixels, WIDTHxHEIGHT.
+    #[arg(long, value_name = "WIDTHxHEIGHT", default_value = "1000x750")]
+    pub size: String,
+    /// What to draw.
+    #[arg(long, value_enum, default_value_t = FigureView::Portrait)]
+    pub view: FigureView,
+    /// Backbone: which relation to plot.
+    #[arg(long, value_enum, default_value_t = PlotArg::PeriodEnergy)]
+    pub plot: PlotArg,
+    #[command(flatten)]
+    pub sweep: SweepFlags,
+    #[command(flatten)]
+    pub folds: FoldFlags,
+    #[command(flatten)]
+    pub backbone: BackboneFlags,
+    /// Portrait with -o FILE.csv or FILE.json: which table to write.
+    #[arg(long, value_enum)]
+    pub table: Option<PortraitTable>,
+}
+
+/// The tables behind a portrait.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum PortraitTable {
+    Equilibria,
+    Wells,
+    /// One row of measurements per seeded orbit.
+    Orbits,
+    /// Every stored sample of every seeded orbit.
+    Samples,
+}
+
+impl From<PortraitTable> for render::PortraitTable {
+    fn from(t: PortraitTable) -> Self {
+        match t {
+            PortraitTable::Equilibria => render::PortraitTable::Equilibria,
+            PortraitTable::Wells => render::PortraitTable::Wells,
+            PortraitTable::Orbits => render::PortraitTable::Orbits,
+            PortraitTable::Samples => render::PortraitTable::Samples,
+        }
+    }
+}
+
+impl FigureView {
+    fn view(self, plot: PlotArg) -> View {
+        match self {
+            FigureView::Portrait => View::Portrait,
+            FigureView::Diagram => View::Diagram,
+            FigureView::Folds => View::Folds,
+            FigureView::Backbone => View::Backbone(match plot {
+                PlotArg::PeriodEnergy => BackbonePlot::PeriodEnergy,
+                PlotArg::FrequencyAmplitude => BackbonePlot::FrequencyAmplitude,
+            }),
+        }
+    }
+}
+
+/// `render`: compute the view, then write it as SVG or PNG, or write the
+/// numbers behind it as CSV or JSON, through `render::export_data`.
+pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
+    use crate::render::{ExportFormat, FigureSize};
+    let view = args.view.view(args.plot);
+    let which = args.table.map(Into::into).unwrap_or_default();
+    let format = ExportFormat::from_path(&args.output, which).ok_or_else(|| {
+        CliError(format!(
+            "-o {}: the file name must end in .svg or .png (a figure) or .csv or .json (a table)",
+            args.output.display()
+        ))
+    })?;
+    if args.table.is_some() && view != View::Portrait {
+        return Err(CliError(format!(
+            "--table chooses among the portrait's tables; the {} has one table",
+            view.name()
+        )));
+    }
+    let size = FigureSize::parse(&args.size).map_err(|e| CliError(format!("--size: {e}")))?;
+    let mut r = args.system.resolve()?;
+    let command = match view {
+        View::Diagram => {
+            args.sweep.apply(&mut r.session)?;
+            "--view diagram".to_string()
+        }
+        View::Folds => {
+            args.folds.apply(&mut r.session)?;
+            "--view folds".to_string()
+        }
+        View::Backbone(_) => {
+            args.backbone.apply(&mut r.session)?;
+            args.backbone.command()
+        }
+        View::Portrait => "--view portrait".to_string(),
+    };
+    print_warnings(&r.warnings);
+    let data = compute(&r, &command, |s, sys, w, c| {
+        render::view_data(s, sys, w, view, &Overrides::default(), c)
+    })?;
+    let out = render::export_data(&r.session, &r.system, &data, view, format, size)
+        .map_err(|e| view_error(&e, &command))?;
+    session::write_atomic(&args.output, |w| w.write_all(&out.bytes))
+        .map_err(|e| CliError(e.to_string()))?;
+    Ok(format!("wrote {} ({})", args.output.display(), out.summary))
+}
