@@ -73,7 +73,7 @@ fn core_never_mentions_view_crates_clap_or_the_file_system() {
     let mut files = Vec::new();
     rust_files(&core, &mut files);
     assert!(
-        files.iter().any(|f| f.ends_with("formula.rs")),
+        files.iter().any(|f| f.ends_with("system.rs")),
         "src/core not found at {}",
         core.display()
     );

@@ -106,3 +106,49 @@ fn refusals() {
             .contains("'F'")
     );
 }
+
+/// The phase of M(t₀): with s = 0 at the loop's turning point (√2, 0) the
+/// double well's m(t₀) is ±√2 π ω sech(πω/2) sin(ωt₀) exactly (G&H §4.5),
+/// so every sample matches that curve, not only its maximum.
+#[test]
+fn double_well_phase() {
+    let w = 1.0;
+    let r = run(
+        "p^2/2 - q^2/2 + q^4/4 - g*q*cos(w*t)",
+        w,
+        0.3,
+        0.25,
+        Window::new(-2.0, 2.0, -1.5, 1.5).unwrap(),
+    );
+    let mx = 2f64.sqrt() * PI * w / (PI * w / 2.0).cosh();
+    for c in &r {
+        let sign = c.samples[16][1].signum();
+        for &[t0, m] in &c.samples {
+            let want = sign * mx * (w * t0).sin();
+            assert!((m - want).abs() < 1e-8 * mx, "m({t0}) = {m}, want {want}");
+        }
+    }
+}
+
+/// The pendulum's m(t₀) = ±2π sech(πω/2) cos(ωt₀) with s = 0 at the top of
+/// the connection (q = 0), G&H §4.5 (amplitude per unit γ).
+#[test]
+fn pendulum_phase() {
+    let w = 1.0;
+    let r = run(
+        "p^2/2 - cos(q) - g*q*cos(w*t)",
+        w,
+        0.3,
+        0.25,
+        Window::new(-4.0, 4.0, -3.0, 3.0).unwrap(),
+    );
+    assert!(!r.is_empty());
+    let mx = 2.0 * PI / (PI * w / 2.0).cosh();
+    for c in &r {
+        let sign = c.samples[0][1].signum();
+        for &[t0, m] in &c.samples {
+            let want = sign * mx * (w * t0).cos();
+            assert!((m - want).abs() < 1e-8 * mx, "m({t0}) = {m}, want {want}");
+        }
+    }
+}

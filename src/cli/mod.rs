@@ -10,6 +10,7 @@
 
 mod analyze;
 mod diagrams;
+mod drive;
 mod figure;
 mod orbit;
 mod system;
@@ -17,6 +18,7 @@ mod text;
 
 pub use analyze::*;
 pub use diagrams::*;
+pub use drive::*;
 pub use figure::*;
 pub use orbit::*;
 pub use system::*;
@@ -76,6 +78,9 @@ pub enum Command {
     Folds(FoldsArgs),
     /// Period, frequency, action and amplitude against energy in the well of a center.
     Backbone(BackboneArgs),
+    /// The Melnikov function of a driven, damped H along each separatrix of the undriven H:
+    /// its zeros and the drive amplitude above which a chaotic layer is expected.
+    Melnikov(MelnikovArgs),
     /// Draw a figure (SVG or PNG by the output's extension).
     Render(RenderArgs),
 }
@@ -112,6 +117,7 @@ pub fn run(command: &Command) -> Result<String, CliError> {
         Command::Sweep(args) => run_sweep(args),
         Command::Folds(args) => run_folds(args),
         Command::Backbone(args) => run_backbone(args),
+        Command::Melnikov(args) => run_melnikov(args),
         Command::Render(args) => run_render(args),
         Command::Open { .. } => Err(CliError(
             "`open` starts the desktop explorer; it has no text output".to_string(),

@@ -59,6 +59,102 @@ pub struct MelnikovConnection {
     pub threshold_ratio: f64,
 }
 
+/// The Melnikov analysis of a system: every connection of H₀, and the
+/// lowest threshold over them (the drive at which the first chaotic layer is
+/// expected).
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct Melnikov {
+    /// The drive-amplitude parameter and its value in the system.
+    pub amplitude: String,
+    pub amplitude_value: f64,
+    /// Drive period τ and damping δ.
+    pub period: f64,
+    pub damping: f64,
+    pub connections: Vec<MelnikovConnection>,
+    /// The smallest `threshold_amplitude` over the connections (none without one).
+    pub threshold_amplitude: Option<f64>,
+    /// The smallest `threshold_ratio` over the connections.
+    pub threshold_ratio: Option<f64>,
+}
+
+impl Melnikov {
+    /// Collect `connections` with the drive they were computed for.
+    pub fn new(
+        sys: &System,
+        amplitude: &str,
+        period: f64,
+        damping: f64,
+        connections: Vec<MelnikovConnection>,
+    ) -> Melnikov {
+        let amplitude_value = sys
+            .formula()
+            .param_index(amplitude)
+            .map_or(f64::NAN, |k| sys.params()[k]);
+        let least = |f: fn(&MelnikovConnection) -> f64| {
+            connections
+                .iter()
+                .map(f)
+                .filter(|v| v.is_finite())
+                .min_by(f64::total_cmp)
+        };
+        Melnikov {
+            amplitude: amplitude.to_string(),
+            amplitude_value,
+            period,
+            damping,
+            threshold_amplitude: least(|c| c.threshold_amplitude),
+            threshold_ratio: least(|c| c.threshold_ratio),
+            connections,
+        }
+    }
+}
+
+/// The parameter that switches the drive off: the only one in which H is
+/// affine and whose value 0 leaves H independent of t (for
+/// `… − F*q*cos(W*t)` that is F, not W: W = 0 also removes t, but H is not
+/// affine in W). An error names the candidates when there are none or
+/// several, so the user can name it.
+pub fn drive_amplitude_parameter(sys: &System) -> Result<String, String> {
+    if !sys.depends_on_time() {
+        return Err("H does not depend on t, so it has no drive".to_string());
+    }
+    const POINTS: [(f64, f64); 3] = [(0.3, 0.7), (-1.1, 0.4), (0.9, -1.3)];
+    const TIMES: [f64; 3] = [0.37, 1.9, 5.3];
+    let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * (1.0 + a.abs().max(b.abs()));
+    let names = sys.formula().params();
+    let mut found = Vec::new();
+    for (k, name) in names.iter().enumerate() {
+        let off = sys.with_param(k, 0.0);
+        let one = sys.with_param(k, 1.0);
+        let two = sys.with_param(k, 2.0);
+        let autonomous = POINTS.iter().all(|&(q, p)| {
+            let a = off.energy_t(q, p, 0.0);
+            TIMES.iter().all(|&t| close(a, off.energy_t(q, p, t)))
+        });
+        let affine = POINTS.iter().all(|&(q, p)| {
+            TIMES.iter().all(|&t| {
+                let (h0, h1, h2) = (off.energy_t(q, p, t), one.energy_t(q, p, t), two.energy_t(q, p, t));
+                close(h2 - h1, h1 - h0)
+            })
+        });
+        if autonomous && affine {
+            found.push(name.clone());
+        }
+    }
+    match found.len() {
+        1 => Ok(found.remove(0)),
+        0 => Err(format!(
+            "no parameter switches the drive off (H affine in it and free of t at 0); \
+             parameters: {}",
+            names.join(", ")
+        )),
+        _ => Err(format!(
+            "several parameters could be the drive amplitude ({}); name one",
+            found.join(", ")
+        )),
+    }
+}
+
 /// Points and trapezoid weights along one connection.
 struct Orbit {
     pts: Vec<(f64, f64, f64, f64)>, // q, p, s, weight
@@ -298,6 +394,52 @@ fn trace(sys0: &System, c: &Connection, eq: &[Equilibrium]) -> Result<Option<Orb
                 break;
             }
             pts.push((s.q, s.p, s.t, h));
+        }
+    }
+    // The clock's origin s = 0: for a loop (homoclinic) the turning point
+    // where ∂H₀/∂p = 0 farthest from the saddle, for a heteroclinic
+    // connection the point midway in q between its saddles; the origins the
+    // closed forms use ((√2, 0) on the double well's loop, (0, 2) on the
+    // pendulum's upper connection). Bracketed between two samples, then
+    // Newton along the flow itself, so the zeros of M(t₀) sit on that clock.
+    pts.sort_by(|x, y| x.2.total_cmp(&y.2));
+    let homoclinic = c.kind == ConnectionKind::Homoclinic;
+    let q_mid = 0.5 * (a.q + b.q);
+    let f = |q: f64, p: f64| -> (f64, f64) {
+        let j = sys0.jet(q, p);
+        if homoclinic {
+            (j.hp, j.hqp * j.hp - j.hpp * j.hq)
+        } else {
+            (q - q_mid, j.hp)
+        }
+    };
+    let far = |i: usize| dist(&[pts[i].0, pts[i].1]);
+    let bracket = (0..pts.len().saturating_sub(1))
+        .filter(|&i| {
+            let (f0, f1) = (f(pts[i].0, pts[i].1).0, f(pts[i + 1].0, pts[i + 1].1).0);
+            f0 == 0.0 || f0.signum() != f1.signum()
+        })
+        .max_by(|&x, &y| far(x).total_cmp(&far(y)));
+    if let Some(k) = bracket {
+        let mut st = State {
+            q: pts[k].0,
+            p: pts[k].1,
+            t: pts[k].2,
+        };
+        for _ in 0..6 {
+            let (v, dv) = f(st.q, st.p);
+            if v == 0.0 || dv == 0.0 || !dv.is_finite() {
+                break;
+            }
+            let ds = -v / dv;
+            if !(ds.abs() <= 2.0 * h) {
+                break;
+            }
+            st = integ.step(sys0, &st, ds).map_err(|e| e.to_string())?.state;
+        }
+        let shift = st.t;
+        for pt in &mut pts {
+            pt.2 -= shift;
         }
     }
     Ok(Some(Orbit { pts }))

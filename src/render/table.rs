@@ -10,6 +10,8 @@ use crate::core::equilibria::{DegenerateShape, Equilibrium};
 use crate::core::folds::FoldCurves;
 use crate::core::orbit::Orbit;
 use crate::core::wells::Well;
+use crate::core::melnikov::Melnikov;
+use crate::core::wells::ConnectionKind;
 use crate::core::window::Window;
 use crate::numbers;
 use crate::scene::kind_name;
@@ -394,6 +396,38 @@ pub fn backbone_table(backbone: &Backbone) -> Table {
         ]);
     }
     t
+}
+
+/// The Melnikov function's samples: one row per connection and t₀, with
+/// m(t₀) (per unit amplitude) and M(t₀) = F·m(t₀) − δ·D at the system's F.
+pub fn melnikov_table(m: &Melnikov) -> Table {
+    let mut t = Table::new(vec![
+        Column::new("connection", "connection"),
+        Column::plain("kind"),
+        Column::plain("t0"),
+        Column::new("m", "m(t0) per unit amplitude"),
+        Column::new("M", "M(t0)"),
+    ]);
+    for (k, c) in m.connections.iter().enumerate() {
+        for &[t0, mv] in &c.samples {
+            t.push(vec![
+                Cell::Integer(k as i64 + 1),
+                Cell::Text(connection_kind_name(c.kind).to_string()),
+                t0.into(),
+                mv.into(),
+                (m.amplitude_value * mv - m.damping * c.damping_integral).into(),
+            ]);
+        }
+    }
+    t
+}
+
+/// The name of a connection's kind in tables.
+pub fn connection_kind_name(kind: ConnectionKind) -> &'static str {
+    match kind {
+        ConnectionKind::Homoclinic => "homoclinic",
+        ConnectionKind::Heteroclinic => "heteroclinic",
+    }
 }
 
 /// A core result as JSON with the formula, the parameter values by name and

@@ -24,6 +24,10 @@
 //! A request is plain data compared by value: the explorer reruns a pane's job
 //! only when its request changes.
 
+mod drive;
+
+pub use drive::MelnikovRequest;
+
 use crate::core::Cancel;
 use crate::core::backbone::{Backbone, BackboneConfig, BackboneError, backbone};
 use crate::core::continuation::{ContinuationError, Sweep, SweepConfig, SweepProgress, sweep};

@@ -3,6 +3,10 @@
 //! loader validates every field and names the field and the problem, and
 //! `save_atomic` replaces a file so that a failed save never destroys the old one.
 
+pub mod drive;
+
+pub use drive::{Drive, DriveSettings};
+
 use crate::core::analysis::AnalysisConfig;
 use crate::core::backbone::BackboneConfig;
 use crate::core::continuation::SweepConfig;
@@ -76,6 +80,9 @@ pub struct Session {
     /// The well whose backbone is drawn, if set.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub backbone: Option<BackboneSettings>,
+    /// A periodic drive with light damping, if set (see [`drive`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub drive: Option<DriveSettings>,
 }
 
 /// The sweep of one parameter: which, over what range, how finely.
@@ -278,6 +285,14 @@ fn field_template() -> serde_json::Value {
     s.backbone = Some(BackboneSettings {
         center: Some([0.0, 0.0]),
         energies: Some(200),
+    });
+    s.drive = Some(DriveSettings {
+        period: String::new(),
+        damping: Some(String::new()),
+        amplitude: Some(String::new()),
+        periods: Some(1),
+        lattice: Some(1),
+        enabled: false,
     });
     serde_json::to_value(&s).unwrap_or(serde_json::Value::Null)
 }
@@ -530,6 +545,7 @@ impl Session {
             sweep: None,
             folds: None,
             backbone: None,
+            drive: None,
         }
     }
 
@@ -590,6 +606,7 @@ impl Session {
         self.validate_sweep(&formula, &mut warnings)?;
         self.validate_folds(&formula, &mut warnings)?;
         self.validate_backbone(&mut warnings)?;
+        self.validate_drive(&formula, &mut warnings)?;
         Ok(warnings)
     }
 
@@ -598,6 +615,11 @@ impl Session {
         formula: &Formula,
         warnings: &mut Vec<String>,
     ) -> Result<(), SessionError> {
+        let drive_names = self
+            .drive
+            .as_ref()
+            .map(drive::expression_parameters)
+            .unwrap_or_default();
         for (i, p) in self.parameters.iter().enumerate() {
             let at = |f: &str| format!("parameters[{i}].{f}");
             if p.name.trim().is_empty() {
@@ -637,7 +659,7 @@ impl Session {
                      parameter has no effect; rename it in the formula and here",
                     p.name
                 ));
-            } else if formula.param_index(&p.name).is_none() {
+            } else if formula.param_index(&p.name).is_none() && !drive_names.contains(&p.name) {
                 warnings.push(format!(
                     "parameters[{i}]: `{}` does not appear in the formula and has no effect",
                     p.name
