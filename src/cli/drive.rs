@@ -77,6 +77,10 @@ pub struct MelnikovArgs {
 pub fn run_melnikov(args: &MelnikovArgs) -> Result<String, CliError> {
     let mut r = args.system.resolve()?;
     args.drive.apply(&mut r.session)?;
+    if r.session.drive.is_some() {
+        r.warnings
+            .retain(|w| w != crate::session::drive::FROZEN_TIME_WARNING);
+    }
     print_warnings(&r.warnings);
     let m = melnikov_of(&r.session, &r.system, &r.window, &Cancel::never())
         .map_err(|e| CliError(format!("melnikov: {e}")))?;

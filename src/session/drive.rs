@@ -14,6 +14,10 @@ use super::{Session, SessionError};
 use crate::core::formula::Formula;
 use serde::{Deserialize, Serialize};
 
+/// The warning for a formula in t without a drive: it is analysed at a frozen time.
+pub const FROZEN_TIME_WARNING: &str = "formula: H depends on t but the session has no drive \
+     period, so it is analysed frozen at t = 0; add a \"drive\" section to iterate it over periods";
+
 /// Most drive periods a section may iterate per start.
 pub const MAX_SECTION_PERIODS: usize = 100_000;
 /// Drive periods a section iterates per start when the session says nothing.
@@ -169,11 +173,7 @@ impl Session {
     ) -> Result<(), SessionError> {
         let Some(d) = &mut self.drive else {
             if formula.uses_t() {
-                warnings.push(
-                    "formula: H depends on t but the session has no drive period, so it is \
-                     analysed frozen at t = 0; add a \"drive\" section to iterate it over periods"
-                        .to_string(),
-                );
+                warnings.push(FROZEN_TIME_WARNING.to_string());
             }
             return Ok(());
         };
