@@ -40,6 +40,8 @@ fn main() {
         Ok(rd) => rd
             .filter_map(|e| e.ok().map(|e| e.path()))
             .filter(|p| p.extension().is_some_and(|x| x == "json"))
+            // the format's schema lives beside the examples
+            .filter(|p| !p.to_string_lossy().ends_with(".schema.json"))
             .collect(),
         Err(e) => {
             eprintln!("cannot read {}: {e}", dir.display());

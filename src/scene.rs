@@ -42,17 +42,26 @@ impl Rgb {
     }
 }
 
-/// The energy colour scale ("dusk to ochre"): deep violet for low H through
-/// cobalt, teal and sea green to olive and ochre for high H. The stops rise
-/// steadily in lightness, so the order of energies reads without a key and
-/// survives grey-scale printing; the top stays dark enough to read on white.
-pub const ENERGY_STOPS: [(f64, Rgb); 6] = [
-    (0.0, Rgb(0x2a, 0x1a, 0x5e)),
-    (0.2, Rgb(0x1f, 0x4f, 0x8c)),
-    (0.4, Rgb(0x16, 0x7f, 0x8f)),
-    (0.6, Rgb(0x3a, 0xa2, 0x7a)),
-    (0.8, Rgb(0x93, 0xbb, 0x4f)),
-    (1.0, Rgb(0xd9, 0xb2, 0x3a)),
+/// The energy colour scale ("wine to sky"): dark wine for low H through
+/// plum, violet and periwinkle to a light sky blue for high H. Designed in
+/// OKLab, written here as OKLCh (lightness L, chroma C, hue h in degrees):
+/// L rises evenly from 0.30 to 0.80, so the order of energies reads from
+/// lightness alone (in grey-scale print and under every common colour-vision
+/// deficiency); h turns from 15° down through 0° to 235° (warm to cool by way
+/// of violet, never across a red–green contrast); C swells from 0.11 to 0.15
+/// mid-way and eases to 0.09, every stop inside the sRGB gamut. The top stays
+/// dark enough to read as a line on white. Nine stops, 1/8 apart in t, close
+/// enough that straight sRGB mixing between them keeps L rising.
+pub const ENERGY_STOPS: [(f64, Rgb); 9] = [
+    (0.0, Rgb(0x59, 0x05, 0x1a)),   // L 0.30, C 0.114, h 15
+    (0.125, Rgb(0x6e, 0x12, 0x3e)), // L 0.36, C 0.131, h 357.5
+    (0.25, Rgb(0x7e, 0x24, 0x67)),  // L 0.42, C 0.144, h 340
+    (0.375, Rgb(0x86, 0x3b, 0x91)), // L 0.49, C 0.152, h 322.5
+    (0.5, Rgb(0x87, 0x56, 0xb8)),   // L 0.55, C 0.153, h 305
+    (0.625, Rgb(0x80, 0x73, 0xd6)), // L 0.61, C 0.146, h 287.5
+    (0.75, Rgb(0x77, 0x91, 0xe8)),  // L 0.68, C 0.132, h 270
+    (0.875, Rgb(0x75, 0xae, 0xef)), // L 0.74, C 0.112, h 252.5
+    (1.0, Rgb(0x82, 0xc7, 0xf0)),   // L 0.80, C 0.090, h 235
 ];
 
 /// The colour of position `t` in [0, 1] on the energy scale (clamped; NaN gives the low end).
@@ -74,13 +83,20 @@ pub const INK: Rgb = Rgb(0x1c, 0x1e, 0x26);
 pub const MUTED: Rgb = Rgb(0x6b, 0x6f, 0x7a);
 /// The plot area's background.
 pub const PAPER: Rgb = Rgb(0xff, 0xff, 0xff);
-/// Colours given to orbits the user did not colour, in turn.
+/// Colours given to orbits the user did not colour, in turn: amber, petrol,
+/// rust, aqua (OKLCh below). Their hues (50°–220°, by way of yellow) lie
+/// outside the energy scale's (235°–15° by way of violet), so an orbit stands
+/// out from the level curves; warm and cool alternate and lightness differs
+/// between neighbours, so each two in turn stay apart in normal vision and in
+/// simulated protan and deutan vision (OKLab distance 0.17 or more).
 pub const ORBIT_COLOURS: [Rgb; 4] = [
-    Rgb(0xd6, 0x28, 0x28),
-    Rgb(0x19, 0x82, 0xc4),
-    Rgb(0x8a, 0x4f, 0xb0),
-    Rgb(0xf0, 0x7c, 0x1e),
+    Rgb(0xb6, 0x76, 0x16), // L 0.62, C 0.128, h 70
+    Rgb(0x10, 0x6e, 0x85), // L 0.50, C 0.087, h 220
+    Rgb(0x81, 0x3c, 0x09), // L 0.44, C 0.111, h 50
+    Rgb(0x1f, 0xae, 0xa8), // L 0.68, C 0.112, h 190
 ];
+/// The ring drawn around the selected equilibrium or well in the explorer.
+pub const SELECTION_COLOUR: Rgb = Rgb(0xff, 0x3c, 0xc8);
 /// The one font family every figure uses (bundled with the renderer, upright and oblique).
 pub const FONT_FAMILY: &str = "DejaVu Sans";
 

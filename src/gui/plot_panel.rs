@@ -213,7 +213,10 @@ impl PlotPanel {
                 _ => None,
             },
         };
-        let select_colour = egui::Color32::from_rgb(255, 60, 200);
+        let select_colour = {
+            let c = crate::scene::SELECTION_COLOUR;
+            egui::Color32::from_rgb(c.0, c.1, c.2)
+        };
 
         let mut new_view = None;
         let mut hovered_at = None;

@@ -14,12 +14,15 @@ use crate::core::formula::Formula;
 use crate::core::integrate::Method;
 use crate::core::system::System;
 use crate::core::window::Window;
+use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 use std::fmt;
-use std::io::{self, Write};
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::sync::Arc;
-use std::sync::atomic::{AtomicU64, Ordering};
+
+mod save;
+pub mod schema;
+pub use save::{SaveError, save_atomic, write_atomic};
 
 /// The value of the `format` field.
 pub const FORMAT_NAME: &str = "phasewright-session";
@@ -54,21 +57,33 @@ pub const DEFAULT_PARAM_VALUE: f64 = 1.0;
 pub const DEFAULT_PARAM_RANGE: (f64, f64) = (-10.0, 10.0);
 
 /// A whole session as saved.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct Session {
+    /// Names the kind of file: always "phasewright-session".
+    #[schemars(extend("const" = FORMAT_NAME))]
     pub format: String,
+    /// The format version the file was written in.
+    #[schemars(range(min = 1, max = FORMAT_VERSION))]
     pub version: u32,
+    /// A one-line title shown above the figures.
     #[serde(default)]
     pub title: String,
+    /// Free notes on the model.
     #[serde(default)]
     pub notes: String,
+    /// H in q, p, t and the parameters.
+    #[schemars(regex(pattern = schema::NOT_BLANK))]
     pub formula: String,
+    /// The formula's parameters (one missing here gets value 1 and range [-10, 10]).
     #[serde(default)]
     pub parameters: Vec<Parameter>,
+    /// The rectangle of phase space in view.
     #[serde(default)]
+    #[schemars(with = "schema::ViewSchema")]
     pub view: Window,
     #[serde(default)]
     pub levels: LevelSettings,
+    /// Orbits started from given points (at most 64 are kept).
     #[serde(default)]
     pub orbits: Vec<SeededOrbit>,
     /// The one-parameter sweep behind the bifurcation diagram, if set.
@@ -86,24 +101,27 @@ pub struct Session {
 }
 
 /// The sweep of one parameter: which, over what range, how finely.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct SweepSettings {
     /// The parameter that moves (a parameter of the formula).
+    #[schemars(regex(pattern = schema::NOT_BLANK))]
     pub param: String,
     /// Where the parameter starts.
     pub from: f64,
     /// Where the parameter ends (different from `from`; may be below it).
     pub to: f64,
     /// Longest continuation step as a share of the range and window (default
-    /// 0.02, kept within [`MIN_SWEEP_STEP`, `MAX_SWEEP_STEP`]).
+    /// 0.02, kept within 0.0001 ..= 0.1).
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(extend("exclusiveMinimum" = 0))]
     pub max_step: Option<f64>,
 }
 
 /// The plane of two parameters in which saddle-node curves are traced.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct FoldSettings {
     /// The two parameters, horizontal axis first.
+    #[schemars(inner(regex(pattern = schema::NOT_BLANK)), extend("uniqueItems" = true))]
     pub params: [String; 2],
     /// The box [a1, b1] × [a2, b2] as [a1, b1, a2, b2].
     #[serde(rename = "box")]
@@ -111,36 +129,43 @@ pub struct FoldSettings {
 }
 
 /// The well whose period, frequency and action against energy are drawn.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, Default)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, Default, JsonSchema)]
 pub struct BackboneSettings {
     /// A point [q, p] near the center (Newton refines it); without it, the
     /// first center in view.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub center: Option<[f64; 2]>,
     /// Energies sampled, the center's included (default 200, kept within
-    /// [`MIN_BACKBONE_ENERGIES`, `MAX_BACKBONE_ENERGIES`]).
+    /// 2 ..= 2000).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub energies: Option<usize>,
 }
 
 /// One parameter of the formula with its slider range.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct Parameter {
+    /// The name as the formula writes it.
+    #[schemars(regex(pattern = schema::NOT_BLANK))]
     pub name: String,
+    /// The value in use, within [min, max].
     pub value: f64,
+    /// The slider's range, min < max.
     pub min: f64,
     pub max: f64,
+    /// The slider's step (without it, continuous).
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(extend("exclusiveMinimum" = 0))]
     pub step: Option<f64>,
 }
 
 /// How level curves are drawn.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(default)]
 pub struct LevelSettings {
-    /// Evenly spaced levels over the range of H in view (saddle levels are added).
+    /// Evenly spaced levels over the range of H in view (saddle levels are
+    /// added; at most 200).
     pub count: usize,
-    /// Grid points per side.
+    /// Grid points per side (kept within 16 ..= 1024).
     pub grid: usize,
     /// Move vertices onto the exact level.
     pub refine: bool,
@@ -157,17 +182,21 @@ impl Default for LevelSettings {
 }
 
 /// An orbit the user seeded.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct SeededOrbit {
+    /// The start point (q0, p0).
     pub q0: f64,
     pub p0: f64,
     /// Integration time (negative integrates backward).
+    #[schemars(extend("not" = { "const": 0 }))]
     pub duration: f64,
     /// Method name ("auto", "verlet", "yoshida4", ...).
     #[serde(default = "default_method")]
+    #[schemars(schema_with = "schema::method_name")]
     pub method: String,
     /// Colour as "#rrggbb".
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(regex(pattern = schema::COLOUR))]
     pub colour: Option<String>,
 }
 
@@ -205,25 +234,6 @@ impl fmt::Display for SessionError {
 
 impl std::error::Error for SessionError {}
 
-/// Why a save failed, with the file it was writing.
-#[derive(Debug)]
-pub struct SaveError {
-    pub path: PathBuf,
-    pub source: io::Error,
-}
-
-impl fmt::Display for SaveError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "cannot save {}: {}", self.path.display(), self.source)
-    }
-}
-
-impl std::error::Error for SaveError {
-    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
-        Some(&self.source)
-    }
-}
-
 /// Read and check a session from JSON text. Returns the session (values
 /// above a cap clamped, missing parameters added) and the warnings that
 /// tell the user what was changed or looks wrong.
@@ -240,6 +250,8 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
     // a byte-order mark, as some editors write, is not part of the JSON
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let raw = check_header(text)?;
+    let mut warnings = Vec::new();
+    unknown_fields(&raw, &field_template(), "", &mut warnings)?;
     let mut de = serde_json::Deserializer::from_str(text);
     let mut session: Session = match serde_path_to_error::deserialize(&mut de) {
         Ok(s) => s,
@@ -248,8 +260,6 @@ pub fn load(text: &str) -> Result<(Session, Vec<String>), SessionError> {
     if let Err(e) = de.end() {
         return Err(SessionError::new("", json_problem(&e)));
     }
-    let mut warnings = Vec::new();
-    unknown_fields(&raw, &field_template(), "", &mut warnings);
     warnings.extend(session.validate()?);
     Ok((session, warnings))
 }
@@ -298,13 +308,14 @@ fn field_template() -> serde_json::Value {
 }
 
 /// Warn about fields this version does not know (a typo would otherwise
-/// lose the value silently).
+/// lose the value silently); refuse an array where the format has an object
+/// (serde would read it by position).
 fn unknown_fields(
     actual: &serde_json::Value,
     known: &serde_json::Value,
     path: &str,
     warnings: &mut Vec<String>,
-) {
+) -> Result<(), SessionError> {
     use serde_json::Value;
     match (actual, known) {
         (Value::Object(a), Value::Object(k)) => {
@@ -315,7 +326,7 @@ fn unknown_fields(
                     format!("{path}.{key}")
                 };
                 match k.get(key) {
-                    Some(template) => unknown_fields(value, template, &here, warnings),
+                    Some(template) => unknown_fields(value, template, &here, warnings)?,
                     None => warnings.push(format!(
                         "{here}: unknown field, ignored (check the spelling)"
                     )),
@@ -325,12 +336,19 @@ fn unknown_fields(
         (Value::Array(a), Value::Array(k)) => {
             if let Some(template) = k.first() {
                 for (i, value) in a.iter().enumerate() {
-                    unknown_fields(value, template, &format!("{path}[{i}]"), warnings);
+                    unknown_fields(value, template, &format!("{path}[{i}]"), warnings)?;
                 }
             }
         }
+        (Value::Array(_), Value::Object(_)) => {
+            return Err(SessionError::new(
+                path,
+                "expected an object { ... } of named fields, found an array",
+            ));
+        }
         _ => {}
     }
+    Ok(())
 }
 
 /// Syntax, the top-level shape, `format` and `version`, checked before the
@@ -937,77 +955,4 @@ impl Session {
             ..AnalysisConfig::default()
         }
     }
-}
-
-/// Write `session` to `path` atomically (see [`write_atomic`]).
-pub fn save_atomic(path: &Path, session: &Session) -> Result<(), SaveError> {
-    let text = session.to_json_pretty();
-    write_atomic(path, |w| {
-        w.write_all(text.as_bytes())?;
-        w.write_all(b"\n")
-    })
-}
-
-static TEMP_COUNTER: AtomicU64 = AtomicU64::new(0);
-
-/// Replace `path` with what `write` produces, so that a crash or an error
-/// midway never leaves a half-written file: write a temporary file in the
-/// same folder, flush and sync it, then rename it over the target. On any
-/// error the temporary file is removed and the old file is untouched.
-pub fn write_atomic(
-    path: &Path,
-    write: impl FnOnce(&mut dyn Write) -> io::Result<()>,
-) -> Result<(), SaveError> {
-    let err = |source| SaveError {
-        path: path.to_path_buf(),
-        source,
-    };
-    let name = path.file_name().ok_or_else(|| {
-        err(io::Error::new(
-            io::ErrorKind::InvalidInput,
-            "the path does not name a file",
-        ))
-    })?;
-    // Renaming over a device, a pipe or a folder would replace it (as root,
-    // even /dev/null); a session goes only onto a regular file or a new name.
-    if let Ok(meta) = std::fs::metadata(path)
-        && !meta.is_file()
-    {
-        return Err(err(io::Error::new(
-            io::ErrorKind::InvalidInput,
-            "the path names a folder, device or pipe, not a file; choose a file name",
-        )));
-    }
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let tmp = dir.join(format!(
-        ".{}.{}-{}.tmp",
-        name.to_string_lossy(),
-        std::process::id(),
-        TEMP_COUNTER.fetch_add(1, Ordering::Relaxed)
-    ));
-    let result = (|| -> io::Result<()> {
-        let file = std::fs::OpenOptions::new()
-            .write(true)
-            .create_new(true)
-            .open(&tmp)?;
-        let mut buf = io::BufWriter::new(file);
-        write(&mut buf)?;
-        let file = buf.into_inner().map_err(|e| e.into_error())?;
-        file.sync_all()?;
-        drop(file);
-        std::fs::rename(&tmp, path)?;
-        // Make the rename itself durable where the platform allows it.
-        if let Ok(d) = std::fs::File::open(&dir) {
-            let _ = d.sync_all();
-        }
-        Ok(())
-    })();
-    if let Err(e) = result {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(err(e));
-    }
-    Ok(())
 }
