@@ -82,7 +82,10 @@ fn bad_drive_flags_say_what_and_where() {
     let cases: [(&[&str], &str); 5] = [
         (&["--period", "0"], "--period: must be greater than 0"),
         (&["--period", "2*pi/q"], "--period: may use the parameters"),
-        (&["--period", "2*pi/W", "--damping", "-1"], "--damping: must be at least 0"),
+        (
+            &["--period", "2*pi/W", "--damping", "-1"],
+            "--damping: must be at least 0",
+        ),
         (&["--period", "2*pi/("], "--period:"),
         (&["--period", "6", "--amplitude", "G"], "--amplitude"),
     ];
@@ -102,7 +105,10 @@ fn bad_drive_flags_say_what_and_where() {
     // where none can says so
     for (formula, want) in [
         ("p^2/2 + q^2/2 - A*B*q*cos(t)", "several parameters"),
-        ("p^2/2 + q^2/2 - A*q*cos(t) - B*q*sin(t)", "no parameter switches"),
+        (
+            "p^2/2 + q^2/2 - A*q*cos(t) - B*q*sin(t)",
+            "no parameter switches",
+        ),
     ] {
         let o = run(&["melnikov", "--formula", formula, "--period", "2*pi"]);
         assert_eq!(o.status.code(), Some(2));

@@ -5,7 +5,6 @@ use super::*;
 use crate::core::melnikov::Melnikov;
 use crate::request::MelnikovRequest;
 
-
 /// Which drive: flags that replace the session's `drive` settings.
 #[derive(Debug, Clone, Default, Args)]
 pub struct DriveFlags {
@@ -115,7 +114,11 @@ pub(super) fn melnikov_text(r: &Resolved, m: &Melnikov) -> String {
         m.amplitude,
         num(m.amplitude_value)
     );
-    let _ = writeln!(out, "\nConnections of the undriven H ({})", m.connections.len());
+    let _ = writeln!(
+        out,
+        "\nConnections of the undriven H ({})",
+        m.connections.len()
+    );
     let rows: Vec<Vec<String>> = m
         .connections
         .iter()
@@ -139,7 +142,10 @@ pub(super) fn melnikov_text(r: &Resolved, m: &Melnikov) -> String {
         })
         .collect();
     if rows.is_empty() {
-        let _ = writeln!(out, "  none in view: the Melnikov function needs a separatrix");
+        let _ = writeln!(
+            out,
+            "  none in view: the Melnikov function needs a separatrix"
+        );
     } else {
         table(
             &mut out,
@@ -176,4 +182,3 @@ pub(super) fn melnikov_text(r: &Resolved, m: &Melnikov) -> String {
     );
     out
 }
-

@@ -133,7 +133,11 @@ pub fn drive_amplitude_parameter(sys: &System) -> Result<String, String> {
         });
         let affine = POINTS.iter().all(|&(q, p)| {
             TIMES.iter().all(|&t| {
-                let (h0, h1, h2) = (off.energy_t(q, p, t), one.energy_t(q, p, t), two.energy_t(q, p, t));
+                let (h0, h1, h2) = (
+                    off.energy_t(q, p, t),
+                    one.energy_t(q, p, t),
+                    two.energy_t(q, p, t),
+                );
                 close(h2 - h1, h1 - h0)
             })
         });

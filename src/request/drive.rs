@@ -29,13 +29,10 @@ impl MelnikovRequest {
     /// The request `session` describes for `sys` (its compiled system); an
     /// error says what is missing (no drive section, no amplitude).
     pub fn from_session(session: &Session, sys: &System) -> Result<MelnikovRequest, String> {
-        let drive = session
-            .drive()
-            .map_err(|e| e.to_string())?
-            .ok_or_else(|| {
-                "the session has no drive (a \"drive\" section with the period, or --period)"
-                    .to_string()
-            })?;
+        let drive = session.drive().map_err(|e| e.to_string())?.ok_or_else(|| {
+            "the session has no drive (a \"drive\" section with the period, or --period)"
+                .to_string()
+        })?;
         let amplitude = match drive.amplitude {
             Some(a) => a,
             None => drive_amplitude_parameter(sys)?,

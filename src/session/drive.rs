@@ -12,6 +12,7 @@
 
 use super::{Session, SessionError};
 use crate::core::formula::Formula;
+use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 /// The warning for a formula in t without a drive: it is analysed at a frozen time.
@@ -28,10 +29,11 @@ pub const DEFAULT_SECTION_LATTICE: usize = 10;
 pub const MAX_SECTION_LATTICE: usize = 100;
 
 /// A periodic drive with light damping, as saved.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, Default)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, Default, JsonSchema)]
 pub struct DriveSettings {
     /// The drive period as an expression over the parameters, e.g.
     /// `"2*pi/W"`; its value must be greater than 0.
+    #[schemars(regex(pattern = super::schema::NOT_BLANK))]
     pub period: String,
     /// The linear damping rate δ as an expression over the parameters
     /// (value ≥ 0); none means no damping.
@@ -43,10 +45,12 @@ pub struct DriveSettings {
     /// removes t).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub amplitude: Option<String>,
-    /// Drive periods iterated per start of the section (default 300).
+    /// Drive periods iterated per start of the section (default 300; more
+    /// than 100000 are clamped with a warning).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub periods: Option<usize>,
-    /// Starts per side of the section's lattice over the view (default 10).
+    /// Starts per side of the section's lattice over the view (default 10;
+    /// more than 100 are clamped with a warning).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub lattice: Option<usize>,
     /// False keeps the settings but analyses the system undriven.
