@@ -340,7 +340,7 @@ impl fmt::Display for IntegratorError {
         match self {
             IntegratorError::NotSeparable(m) => write!(
                 f,
-                "method '{m}' needs H = T(p) + V(q, t); this formula mixes q and p — use 'gauss6', 'gauss4', 'midpoint' or 'auto'"
+                "method '{m}' needs H = T(p) + V(q), where V may depend on t; this formula mixes q and p — use 'gauss6', 'gauss4', 'midpoint' or 'auto'"
             ),
             IntegratorError::KineticDependsOnTime(m) => write!(
                 f,
