@@ -477,6 +477,20 @@ fn a_damped_orbit_follows_the_closed_form_and_reports_the_change_of_h() {
         [q, p]
     };
     assert_eq!(orbit.strobe_points.len(), 5);
+    // A damped orbit does not close: no period, even for a slow spiral that
+    // passes near its start after one turn (δ = 0.01: the amplitude falls by
+    // e^(−0.01·π) ≈ 3% per turn).
+    let mut slow = OrbitRequest::new(1.0, 0.0, 20.0, &view());
+    slow.damping = 0.01;
+    slow.stop_when_closed = true;
+    let spiral = integrate_orbit(&sys, &slow, &Cancel::never());
+    assert_eq!(spiral.stop, StopReason::Finished);
+    assert!(
+        spiral.period.is_none() && !spiral.closed,
+        "{:?}",
+        spiral.period
+    );
+    assert_eq!(spiral.motion, Motion::Undetermined);
     for (k, pt) in orbit.strobe_points.iter().enumerate() {
         let x = exact(2.0 * (k + 1) as f64);
         assert!(

@@ -78,7 +78,9 @@ pub struct OrbitRequest {
     pub strobe: Option<f64>,
     /// Linear damping rate δ ≥ 0: q' = ∂H/∂p, p' = −∂H/∂q − δ ∂H/∂p (see
     /// [`Integrator::with_damping`]). With δ > 0, H is not conserved and
-    /// [`Orbit::energy_error`] is the largest change of H, not an error.
+    /// [`Orbit::energy_error`] is the largest change of H, not an error; a
+    /// damped orbit does not close, so no first return (period, action) is
+    /// sought and `stop_when_closed` has no effect.
     pub damping: f64,
 }
 
