@@ -453,3 +453,94 @@ fn a_moving_start_in_a_very_wide_view_is_not_taken_for_an_equilibrium() {
     );
     assert_eq!(at.stop, StopReason::AtEquilibrium);
 }
+
+#[test]
+fn a_damped_orbit_follows_the_closed_form_and_reports_the_change_of_h() {
+    // q'' + δ q' + q = 0 from (1, 0): q = e^(−δt/2)(cos ωt + δ/(2ω) sin ωt),
+    // ω = √(1 − δ²/4) (the damped linear oscillator; any ODE textbook, e.g.
+    // Boyce & DiPrima, Elementary Differential Equations, ch. 3 — recalled
+    // from memory; common practice).
+    let sys = system("p^2/2 + q^2/2", &[]);
+    let delta = 0.2;
+    let mut req = OrbitRequest::new(1.0, 0.0, 10.0, &view());
+    req.damping = delta;
+    req.strobe = Some(2.0);
+    let orbit = integrate_orbit(&sys, &req, &Cancel::never());
+    assert_eq!(orbit.stop, StopReason::Finished);
+    assert_eq!(orbit.method, Method::Nystrom6);
+    let om = (1.0 - delta * delta / 4.0).sqrt();
+    let exact = |t: f64| {
+        let e = (-delta * t / 2.0).exp();
+        let (c, s) = ((om * t).cos(), (om * t).sin());
+        let q = e * (c + delta / (2.0 * om) * s);
+        let p = -e * (1.0 + delta * delta / (4.0 * om * om)) * om * s;
+        [q, p]
+    };
+    assert_eq!(orbit.strobe_points.len(), 5);
+    // A damped orbit does not close: no period, even for a slow spiral that
+    // passes near its start after one turn (δ = 0.01: the amplitude falls by
+    // e^(−0.01·π) ≈ 3% per turn).
+    let mut slow = OrbitRequest::new(1.0, 0.0, 20.0, &view());
+    slow.damping = 0.01;
+    slow.stop_when_closed = true;
+    let spiral = integrate_orbit(&sys, &slow, &Cancel::never());
+    assert_eq!(spiral.stop, StopReason::Finished);
+    assert!(
+        spiral.period.is_none() && !spiral.closed,
+        "{:?}",
+        spiral.period
+    );
+    assert_eq!(spiral.motion, Motion::Undetermined);
+    for (k, pt) in orbit.strobe_points.iter().enumerate() {
+        let x = exact(2.0 * (k + 1) as f64);
+        assert!(
+            (pt[0] - x[0]).abs() < 1e-9 && (pt[1] - x[1]).abs() < 1e-9,
+            "t = {}: {pt:?} vs {x:?}",
+            2 * (k + 1)
+        );
+    }
+    // dH/dt = −δ p² ≤ 0: H falls monotonically, so the largest change of H
+    // is H(0) − H(10).
+    let end = exact(10.0);
+    let fall = 0.5 - 0.5 * (end[0] * end[0] + end[1] * end[1]);
+    assert!(
+        (orbit.energy_error - fall).abs() < 1e-9,
+        "{} vs {fall}",
+        orbit.energy_error
+    );
+    assert!(
+        orbit
+            .diagnostics
+            .iter()
+            .any(|d| d.message.contains("not conserved")),
+        "{:?}",
+        orbit.diagnostics
+    );
+    // A negative or undefined damping rate is refused with the field named.
+    for bad in [-0.5, f64::NAN] {
+        req.damping = bad;
+        let o = integrate_orbit(&sys, &req, &Cancel::never());
+        match &o.stop {
+            StopReason::InvalidRequest { problem } => {
+                assert!(problem.contains("damping"), "{problem}")
+            }
+            other => panic!("damping {bad}: {other:?}"),
+        }
+    }
+    // Damping with a kinetic part not quadratic in p: auto takes Gauss–Legendre,
+    // an explicit splitting is refused with its reason.
+    let quartic = system("p^4/4 + q^2/2", &[]);
+    let mut req = OrbitRequest::new(1.0, 0.0, 5.0, &view());
+    req.damping = delta;
+    assert_eq!(
+        integrate_orbit(&quartic, &req, &Cancel::never()).method,
+        Method::Gauss6
+    );
+    req.method = Method::Split6;
+    match integrate_orbit(&quartic, &req, &Cancel::never()).stop {
+        StopReason::InvalidRequest { problem } => {
+            assert!(problem.contains("quadratic"), "{problem}")
+        }
+        other => panic!("{other:?}"),
+    }
+}

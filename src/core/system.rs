@@ -35,6 +35,32 @@ impl Jet {
         [self.hp, -self.hq]
     }
 
+    /// The damped field (q', p') = (H_p, −H_q − δ H_p) for a linear damping
+    /// rate `damping` = δ; exactly [`Jet::field`] when δ = 0.
+    pub fn damped_field(&self, damping: f64) -> [f64; 2] {
+        if damping == 0.0 {
+            self.field()
+        } else {
+            [self.hp, -self.hq - damping * self.hp]
+        }
+    }
+
+    /// The Jacobian of the damped field: the second row of [`Jet::jacobian`]
+    /// minus δ × its first row; exactly [`Jet::jacobian`] when δ = 0.
+    pub fn damped_jacobian(&self, damping: f64) -> [[f64; 2]; 2] {
+        if damping == 0.0 {
+            self.jacobian()
+        } else {
+            [
+                [self.hqp, self.hpp],
+                [
+                    -self.hqq - damping * self.hqp,
+                    -self.hqp - damping * self.hpp,
+                ],
+            ]
+        }
+    }
+
     pub fn is_finite(&self) -> bool {
         [self.h, self.hq, self.hp, self.hqq, self.hqp, self.hpp]
             .iter()
@@ -256,6 +282,17 @@ impl System {
     /// The vector field (q', p') = (∂H/∂p, −∂H/∂q) at (q, p, t).
     pub fn field_t(&self, q: f64, p: f64, t: f64) -> [f64; 2] {
         [self.dh_dp(q, p, t).1, -self.dh_dq(q, p, t).1]
+    }
+
+    /// The damped field (q', p') = (∂H/∂p, −∂H/∂q − δ ∂H/∂p) at (q, p, t) for
+    /// a linear damping rate `damping` = δ; exactly [`System::field_t`] when δ = 0.
+    pub fn damped_field_t(&self, q: f64, p: f64, t: f64, damping: f64) -> [f64; 2] {
+        if damping == 0.0 {
+            self.field_t(q, p, t)
+        } else {
+            let hp = self.dh_dp(q, p, t).1;
+            [hp, -self.dh_dq(q, p, t).1 - damping * hp]
+        }
     }
 
     /// The vector field at the frozen time.

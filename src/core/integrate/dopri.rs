@@ -101,6 +101,8 @@ pub struct Dopri5 {
     fsal: Option<([f64; 3], [f64; 2])>,
     /// Continuous extension of the last step: rcont[k] for q and p.
     dense: Option<[[f64; 2]; 5]>,
+    /// Linear damping rate δ of the field (q', p') = (H_p, −H_q − δ H_p).
+    damping: f64,
 }
 
 impl Dopri5 {
@@ -109,9 +111,18 @@ impl Dopri5 {
             tolerance: DEFAULT_TOLERANCE,
             fsal: None,
             dense: None,
+            damping: 0.0,
         };
         d.set_tolerance(tolerance);
         d
+    }
+
+    /// The same pair on the damped field with rate `damping` (≥ 0, checked
+    /// by the caller). The damped flow is not conformally symplectic here.
+    pub fn with_damping(mut self, damping: f64) -> Dopri5 {
+        self.damping = damping;
+        self.fsal = None;
+        self
     }
 
     /// Set the tolerance; values that are not finite and positive are ignored.
@@ -121,9 +132,9 @@ impl Dopri5 {
         }
     }
 
-    fn field(sys: &System, q: f64, p: f64, t: f64, counters: &mut Counters) -> [f64; 2] {
+    fn field(&self, sys: &System, q: f64, p: f64, t: f64, counters: &mut Counters) -> [f64; 2] {
         counters.field_evaluations += 1;
-        sys.field_t(q, p, t)
+        sys.damped_field_t(q, p, t, self.damping)
     }
 
     /// One step of exactly `h`; returns the step and the scaled error estimate
@@ -144,7 +155,7 @@ impl Dopri5 {
             {
                 f
             }
-            _ => Self::field(sys, y.q, y.p, y.t, counters),
+            _ => self.field(sys, y.q, y.p, y.t, counters),
         };
         let mut a_dot = [0.0; 7];
         a_dot[0] = y.p * k[0][0];
@@ -158,7 +169,7 @@ impl Dopri5 {
                 p += h * A[i][j] * k[j][1];
             }
             stage[i] = [q, p];
-            k[i] = Self::field(sys, q, p, y.t + C[i] * h, counters);
+            k[i] = self.field(sys, q, p, y.t + C[i] * h, counters);
             a_dot[i] = p * k[i][0];
         }
         if !k.iter().flatten().all(|v| v.is_finite()) {

@@ -1,4 +1,10 @@
-//! Gauss–Legendre collocation (implicit Runge–Kutta) for any H(q, p, t).
+//! Gauss–Legendre collocation (implicit Runge–Kutta) for any H(q, p, t),
+//! with an optional linear damping rate δ: the field is
+//! (q', p') = (H_p, −H_q − δ H_p), each stage evaluated at its own time
+//! tₙ + cᵢh (so the order 2s holds for H in t too), and Newton uses that
+//! field's Jacobian. With δ > 0 the method is not conformally symplectic
+//! (the area contracts by e^(−δh/m) only up to the method's error); the
+//! splittings are, for T quadratic in p.
 //!
 //! # Gauss–Legendre collocation with s = 1, 2, 3 stages
 //!
@@ -47,6 +53,8 @@ pub struct Collocation {
     a_inv: [[f64; MAX_STAGES]; MAX_STAGES],
     /// The last step: its start, size, stage values and end, for starting values.
     last: Option<LastStep>,
+    /// Linear damping rate δ of the field (q', p') = (H_p, −H_q − δ H_p).
+    damping: f64,
 }
 
 #[derive(Clone, Debug)]
@@ -111,7 +119,17 @@ impl Collocation {
             c,
             a_inv,
             last: None,
+            damping: 0.0,
         }
+    }
+
+    /// The same method on the damped field with rate `damping` (≥ 0, checked
+    /// by the caller): the stages solve Yᵢ' = (H_p, −H_q − δ H_p) at the
+    /// stage times, with the Jacobian of that field in Newton.
+    pub fn with_damping(mut self, damping: f64) -> Collocation {
+        self.damping = damping;
+        self.last = None;
+        self
     }
 
     pub fn stages(&self) -> usize {
@@ -180,7 +198,7 @@ impl Collocation {
             self.last = None;
             return Err(StepError::NonFinite { t: y.t });
         }
-        let jac = jet.jacobian();
+        let jac = jet.damped_jacobian(self.damping);
         // M = I − h (A ⊗ J), padded with the identity to 6 × 6.
         let mut m = Mat::identity();
         for i in 0..s {
@@ -201,7 +219,12 @@ impl Collocation {
             iterations += 1;
             counters.newton_iterations += 1;
             for i in 0..s {
-                f[i] = sys.field_t(y.q + z[i][0], y.p + z[i][1], y.t + self.c[i] * h);
+                f[i] = sys.damped_field_t(
+                    y.q + z[i][0],
+                    y.p + z[i][1],
+                    y.t + self.c[i] * h,
+                    self.damping,
+                );
                 counters.field_evaluations += 1;
                 if !(f[i][0].is_finite() && f[i][1].is_finite()) {
                     self.last = None;

@@ -1,12 +1,17 @@
-//! Time steppers for Hamilton's equations q' = ∂H/∂p, p' = −∂H/∂q.
+//! Time steppers for Hamilton's equations with an optional linear damping
+//! rate δ ≥ 0: q' = ∂H/∂p, p' = −∂H/∂q − δ ∂H/∂p, for H(q, p, t).
 //!
 //! One file per method family: [`splitting`] (explicit splitting methods for
-//! separable H: Störmer–Verlet, Yoshida's compositions, the optimised
-//! partitioned and Nyström splittings), [`gauss`] (implicit Gauss–Legendre collocation for any H) and
-//! [`dopri`] (an adaptive embedded Runge–Kutta pair with dense output). The
-//! [`Integrator`] holds the chosen method and its work counters; each step also
-//! returns ∫ p dq over the step, integrated with the same method, so the orbit
-//! code gets the action without a second pass.
+//! separable H = T(p) + V(q, t): Störmer–Verlet, Yoshida's compositions, the
+//! optimised partitioned and Nyström splittings; time advanced with the
+//! drifts, damping solved exactly in the drifts, so they stay conformally
+//! symplectic), [`gauss`] (implicit Gauss–Legendre collocation for any
+//! H(q, p, t), stages at their own times, on the damped field) and [`dopri`]
+//! (an adaptive embedded Runge–Kutta pair with dense output, damped field,
+//! not symplectic). The [`Integrator`] holds the chosen method, the damping
+//! ([`Integrator::with_damping`]; [`Integrator::new`] is δ = 0) and its work
+//! counters; each step also returns ∫ p dq over the step, integrated with the
+//! same method, so the orbit code gets the action without a second pass.
 
 pub mod dopri;
 pub mod gauss;
@@ -34,25 +39,28 @@ impl State {
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Method {
-    /// For H = T(p) + V(q) without t: the 6th-order Nyström splitting when T
-    /// is quadratic in p, else the 6th-order partitioned splitting;
-    /// Gauss–Legendre with 3 stages for any other H.
+    /// For H = T(p) + V(q, t) with T free of t: the 6th-order Nyström
+    /// splitting when T is quadratic in p, else the 6th-order partitioned
+    /// splitting (Gauss–Legendre with damping); Gauss–Legendre with 3 stages
+    /// for any other H. See [`Method::resolve_damped`].
     Auto,
-    /// Störmer–Verlet, order 2, explicit, separable H only.
+    /// Störmer–Verlet, order 2, explicit, H = T(p) + V(q, t) only.
     Verlet,
-    /// Yoshida's 4th-order composition of Störmer–Verlet, separable H only.
+    /// Yoshida's 4th-order composition of Störmer–Verlet, H = T(p) + V(q, t) only.
     Yoshida4,
-    /// Yoshida's 6th-order composition (solution A), separable H only.
+    /// Yoshida's 6th-order composition (solution A), H = T(p) + V(q, t) only.
     Yoshida6,
-    /// Optimised Runge–Kutta–Nyström splitting, order 4, 6 stages; separable H
-    /// with T quadratic in p.
+    /// Optimised Runge–Kutta–Nyström splitting, order 4, 6 stages;
+    /// H = T(p) + V(q, t) with T quadratic in p.
     Nystrom4,
-    /// Optimised Runge–Kutta–Nyström splitting, order 6, 11 stages; separable
-    /// H with T quadratic in p.
+    /// Optimised Runge–Kutta–Nyström splitting, order 6, 11 stages;
+    /// H = T(p) + V(q, t) with T quadratic in p.
     Nystrom6,
-    /// Optimised partitioned splitting, order 4, 6 stages; separable H.
+    /// Optimised partitioned splitting, order 4, 6 stages; H = T(p) + V(q, t)
+    /// (with damping: T quadratic in p).
     Split4,
-    /// Optimised partitioned splitting, order 6, 10 stages; separable H.
+    /// Optimised partitioned splitting, order 6, 10 stages; H = T(p) + V(q, t)
+    /// (with damping: T quadratic in p).
     Split6,
     /// Implicit midpoint rule (Gauss–Legendre, 1 stage), order 2, any H.
     Midpoint,
@@ -151,15 +159,27 @@ impl Method {
             .ok_or_else(|| UnknownMethod(name.to_string()))
     }
 
-    /// The concrete method `Auto` stands for with this system; other methods
-    /// are returned unchanged.
+    /// The concrete method `Auto` stands for with this system and no damping;
+    /// other methods are returned unchanged. See [`Method::resolve_damped`].
     pub fn resolve(self, sys: &System) -> Method {
+        self.resolve_damped(sys, 0.0)
+    }
+
+    /// The concrete method `Auto` stands for with this system and linear
+    /// damping rate `damping`: for H = T(p) + V(q, t) with T free of t, the
+    /// 6th-order Nyström splitting when T is quadratic in p, else (undamped
+    /// only) the 6th-order partitioned splitting; Gauss–Legendre with 3
+    /// stages for every other H, and for damping with T not quadratic in p.
+    /// Other methods are returned unchanged.
+    pub fn resolve_damped(self, sys: &System, damping: f64) -> Method {
         match self {
-            Method::Auto if sys.is_separable() && !sys.depends_on_time() => {
+            Method::Auto if splits(sys) => {
                 if kinetic_is_quadratic(sys) {
                     Method::Nystrom6
-                } else {
+                } else if damping == 0.0 {
                     Method::Split6
+                } else {
+                    Method::Gauss6
                 }
             }
             Method::Auto => Method::Gauss6,
@@ -186,7 +206,8 @@ impl Method {
         !matches!(self, Method::Dopri5)
     }
 
-    /// True for the explicit splitting methods, which need H = T(p) + V(q).
+    /// True for the explicit splitting methods, which need H = T(p) + V(q, t)
+    /// with T free of t (and, with damping, T quadratic in p).
     pub fn needs_separable(self) -> bool {
         matches!(
             self,
@@ -232,6 +253,21 @@ impl fmt::Display for Method {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(self.name())
     }
+}
+
+/// True when H = T(p) + V(q, t) with T free of t: the explicit splittings
+/// apply (in extended phase space when V depends on t).
+pub fn splits(sys: &System) -> bool {
+    sys.is_separable() && !kinetic_depends_on_time(sys)
+}
+
+/// True when ∂H/∂p reads t (a kinetic part that changes with time).
+fn kinetic_depends_on_time(sys: &System) -> bool {
+    sys.depends_on_time()
+        && sys
+            .formula()
+            .derivative_program(crate::core::formula::SLOT_P, sys.params())
+            .reads(crate::core::formula::SLOT_T)
 }
 
 /// True when ∂H/∂p is affine in p (T quadratic in p), read from the
@@ -286,10 +322,17 @@ impl std::error::Error for StepError {}
 /// Why an integrator could not be set up.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub enum IntegratorError {
-    /// An explicit composition was asked for a formula that mixes q and p (or depends on t).
+    /// An explicit composition was asked for a formula that mixes q and p.
     NotSeparable(Method),
+    /// An explicit composition was asked for a kinetic part that depends on t.
+    KineticDependsOnTime(Method),
     /// A Nyström splitting was asked for a kinetic part that is not quadratic in p.
     KineticNotQuadratic(Method),
+    /// Damping with an explicit composition and a kinetic part not quadratic
+    /// in p (its damped drift has no exact solution then).
+    DampingNeedsQuadraticKinetic(Method),
+    /// The damping rate is negative or not finite (the value as written).
+    InvalidDamping(String),
 }
 
 impl fmt::Display for IntegratorError {
@@ -297,8 +340,19 @@ impl fmt::Display for IntegratorError {
         match self {
             IntegratorError::NotSeparable(m) => write!(
                 f,
-                "method '{m}' needs H = T(p) + V(q) without t; this formula mixes q and p or depends on t — use 'gauss6', 'gauss4', 'midpoint' or 'auto'"
+                "method '{m}' needs H = T(p) + V(q), where V may depend on t; this formula mixes q and p — use 'gauss6', 'gauss4', 'midpoint' or 'auto'"
             ),
+            IntegratorError::KineticDependsOnTime(m) => write!(
+                f,
+                "method '{m}' needs a kinetic part T(p) without t (t may appear in V(q, t) only); use 'gauss6', 'gauss4', 'midpoint' or 'auto'"
+            ),
+            IntegratorError::DampingNeedsQuadraticKinetic(m) => write!(
+                f,
+                "method '{m}' with damping needs a kinetic part quadratic in p (such as p^2/2); use 'gauss6', 'gauss4', 'midpoint' or 'auto' (which takes 'gauss6' here)"
+            ),
+            IntegratorError::InvalidDamping(v) => {
+                write!(f, "the damping rate must be a finite number ≥ 0 (got {v})")
+            }
             IntegratorError::KineticNotQuadratic(m) => write!(
                 f,
                 "method '{m}' needs a kinetic part quadratic in p (such as p^2/2); use 'split6', 'split4', 'yoshida4' or 'auto'"
@@ -338,6 +392,7 @@ pub struct Step {
 #[derive(Clone, Debug)]
 pub struct Integrator {
     method: Method,
+    damping: f64,
     kind: Kind,
     pub counters: Counters,
 }
@@ -350,29 +405,56 @@ enum Kind {
 }
 
 impl Integrator {
-    /// Set up `method` (after resolving `Auto`) for `sys`.
+    /// Set up `method` (after resolving `Auto`) for `sys` without damping.
     pub fn new(sys: &System, method: Method) -> Result<Integrator, IntegratorError> {
-        let method = method.resolve(sys);
+        Integrator::with_damping(sys, method, 0.0)
+    }
+
+    /// Set up `method` (after [`Method::resolve_damped`]) for `sys` with the
+    /// linear damping rate `damping` = δ ≥ 0: the equations of motion are
+    /// q' = ∂H/∂p, p' = −∂H/∂q − δ ∂H/∂p. The splittings then use the exact
+    /// damped drift (conformally symplectic; T must be quadratic in p), the
+    /// Gauss–Legendre and Dormand–Prince methods the damped field. δ = 0 is
+    /// exactly [`Integrator::new`].
+    pub fn with_damping(
+        sys: &System,
+        method: Method,
+        damping: f64,
+    ) -> Result<Integrator, IntegratorError> {
+        if !(damping.is_finite() && damping >= 0.0) {
+            return Err(IntegratorError::InvalidDamping(damping.to_string()));
+        }
+        let method = method.resolve_damped(sys, damping);
         let kind = match method {
             m if m.needs_separable() => {
-                if !sys.is_separable() || sys.depends_on_time() {
+                if !sys.is_separable() {
                     return Err(IntegratorError::NotSeparable(method));
                 }
-                if m.needs_quadratic_kinetic() && !kinetic_is_quadratic(sys) {
+                if kinetic_depends_on_time(sys) {
+                    return Err(IntegratorError::KineticDependsOnTime(method));
+                }
+                let quadratic = kinetic_is_quadratic(sys);
+                if m.needs_quadratic_kinetic() && !quadratic {
                     return Err(IntegratorError::KineticNotQuadratic(method));
                 }
+                if damping != 0.0 && !quadratic {
+                    return Err(IntegratorError::DampingNeedsQuadraticKinetic(method));
+                }
                 match splitting::Scheme::for_method(m) {
-                    Some(s) => Kind::Splitting(splitting::Splitting::new(s)),
-                    None => Kind::Gauss(gauss::Collocation::new(3)),
+                    Some(s) => Kind::Splitting(splitting::Splitting::new(s).with_damping(damping)),
+                    None => Kind::Gauss(gauss::Collocation::new(3).with_damping(damping)),
                 }
             }
-            Method::Midpoint => Kind::Gauss(gauss::Collocation::new(1)),
-            Method::Gauss4 => Kind::Gauss(gauss::Collocation::new(2)),
-            Method::Dopri5 => Kind::Dopri(dopri::Dopri5::new(dopri::DEFAULT_TOLERANCE)),
-            _ => Kind::Gauss(gauss::Collocation::new(3)),
+            Method::Midpoint => Kind::Gauss(gauss::Collocation::new(1).with_damping(damping)),
+            Method::Gauss4 => Kind::Gauss(gauss::Collocation::new(2).with_damping(damping)),
+            Method::Dopri5 => {
+                Kind::Dopri(dopri::Dopri5::new(dopri::DEFAULT_TOLERANCE).with_damping(damping))
+            }
+            _ => Kind::Gauss(gauss::Collocation::new(3).with_damping(damping)),
         };
         Ok(Integrator {
             method,
+            damping,
             kind,
             counters: Counters::default(),
         })
@@ -381,6 +463,11 @@ impl Integrator {
     /// The concrete method in use.
     pub fn method(&self) -> Method {
         self.method
+    }
+
+    /// The linear damping rate δ (0 for a Hamiltonian flow).
+    pub fn damping(&self) -> f64 {
+        self.damping
     }
 
     /// For the adaptive method: set the relative tolerance (ignored by the others).

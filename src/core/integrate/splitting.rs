@@ -1,7 +1,7 @@
-//! Explicit symmetric splitting methods for separable H = T(p) + V(q). A kick
-//! p ← p − τ ∂H/∂q(q) and a drift q ← q + τ ∂H/∂p(p) are each the exact flow
-//! of one part of H, so every method here is symplectic and, its coefficients
-//! being palindromic, time-reversible.
+//! Explicit symmetric splitting methods for separable H = T(p) + V(q, t). A
+//! kick p ← p − τ ∂H/∂q(q, t) and a drift q ← q + τ ∂H/∂p(p) are each the
+//! exact flow of one part of H, so every method here is symplectic and, its
+//! coefficients being palindromic, time-reversible.
 //!
 //! Every method is a [`Scheme`]: a palindromic sequence of drift and kick
 //! coefficients, run by one stepper. Kicks and drifts evaluate ∂H/∂q and
@@ -11,15 +11,51 @@
 //! derivative is kept and each step costs one evaluation fewer than it has
 //! flows of that kind.
 //!
+//! # Time (extended phase space)
+//!
+//! For V depending on t, time is a coordinate that the drifts advance: the
+//! flows split K = T(p) + E + V(q, t) (E conjugate to t) into the drift of
+//! T + E (q and t move) and the kick of V (p and E move). A kick after drifts
+//! of total fraction a of the step evaluates ∂V/∂q at t + a·h (after the
+//! last drift exactly t + h), and its cached force is keyed on that time
+//! too, so every method keeps its order in t. The splitting order
+//! conditions do not depend on what the two flows are, and the Nyström
+//! conditions still hold ([B, [B, [B, A]]] = 0 for A quadratic in the momenta
+//! (p, E) and B of the positions (q, t) alone), so the Nyström methods keep
+//! their order too when T is quadratic in p. T must not depend on t. For an
+//! autonomous H nothing reads t and the arithmetic is that of the plain
+//! methods. (Extended phase space for a time-dependent H is common practice;
+//! the order conditions of splittings: Hairer, Lubich & Wanner, *Geometric
+//! Numerical Integration*, 2nd ed., Springer 2006, ch. III.)
+//!
+//! # Damping (conformally symplectic)
+//!
+//! With a linear damping rate δ > 0 (q' = T'(p), p' = −V_q − δ T'(p)) the
+//! drift becomes the exact flow of A: q' = T'(p), p' = −δ T'(p), and the kick
+//! stays the flow of B: p' = −V_q(q, t). For T = T_c + (p − p_c)²/(2m),
+//! u = p − p_c decays as u·e^(−δτ/m) over a drift of τ = c·h, so with
+//! v = T'(p) and x = δτ/m
+//!
+//!   Δq = τ·v·(1 − e^(−x))/x (written with `exp_m1`, exact as δ → 0), p ← p − δ·Δq,
+//!
+//! and ∫ p dq over the drift is p·Δq − δ·Δq²/2 (p − δq is constant along A).
+//! Each drift contracts area by e^(−x), the kicks keep it, so a step
+//! contracts by exactly e^(−δh/m) and the same coefficients keep the same
+//! order. T must be quadratic in p; other kinetic parts are refused
+//! (`IntegratorError::DampingNeedsQuadraticKinetic`; `auto` then takes
+//! Gauss–Legendre on the damped field). 1/m is T'' from the jet at the first
+//! step. Reference: R. I. McLachlan, M. Perlmutter, "Conformal Hamiltonian
+//! systems", J. Nonlinear Sci. 11 (2001) 283–313.
+//!
 //! ∫ p dq along a step is exact for the composed map: kicks do not move q and
-//! a drift moves q at constant p, so each drift adds p·Δq.
+//! a plain drift moves q at constant p, so each drift adds p·Δq.
 //!
 //! To add a method: write its coefficient table as a function returning a
 //! [`Scheme`] (doc comment: published source, order, evaluations per step),
 //! give it a `Method` variant, and add it to `Scheme::for_method`.
 
 use super::{Counters, Method, State, Step, StepError};
-use crate::core::formula::{DerivativeProgram, Formula, SLOT_P, SLOT_Q};
+use crate::core::formula::{DerivativeProgram, Formula, SLOT_P, SLOT_Q, SLOT_T};
 use crate::core::system::System;
 use std::sync::Arc;
 
@@ -289,11 +325,18 @@ pub fn split6() -> Scheme {
 #[derive(Clone, Debug)]
 pub struct Splitting {
     scheme: Scheme,
+    /// For each flow, the fraction of the step the drifts before it have
+    /// covered (exactly 1 after the last drift): a kick of a formula in t
+    /// is evaluated at t + fraction × h.
+    fractions: Vec<f64>,
+    /// Linear damping rate δ (0: the plain drifts).
+    damping: f64,
     programs: Option<Programs>,
     /// ∂H/∂p at the p where it was last evaluated.
     velocity: Option<(u64, f64)>,
-    /// ∂H/∂q at the q where it was last evaluated.
-    force: Option<(u64, f64)>,
+    /// ∂H/∂q at the q (and, for a formula in t, the t) where it was last
+    /// evaluated.
+    force: Option<(u64, u64, f64)>,
 }
 
 #[derive(Clone, Debug)]
@@ -302,16 +345,50 @@ struct Programs {
     params: Vec<f64>,
     dq: DerivativeProgram,
     dp: DerivativeProgram,
+    /// The kicks read t.
+    timed: bool,
+    /// ∂²T/∂p² = 1/m for the damped drift (T quadratic in p), once known.
+    curvature: Option<f64>,
 }
 
 impl Splitting {
     pub fn new(scheme: Scheme) -> Splitting {
+        let last_drift = scheme.flows.iter().rposition(|(k, _)| *k == Flow::Drift);
+        let mut covered = 0.0;
+        let fractions = scheme
+            .flows
+            .iter()
+            .enumerate()
+            .map(|(i, &(kind, c))| {
+                let at = if last_drift.is_some_and(|l| i > l) {
+                    1.0
+                } else {
+                    covered
+                };
+                if kind == Flow::Drift {
+                    covered += c;
+                }
+                at
+            })
+            .collect();
         Splitting {
             scheme,
+            fractions,
+            damping: 0.0,
             programs: None,
             velocity: None,
             force: None,
         }
+    }
+
+    /// The same method for the damped system with rate `damping` (≥ 0 and
+    /// T quadratic in p, checked by the caller): each drift becomes the exact
+    /// flow of q' = T'(p), p' = −δ T'(p), the conformally symplectic
+    /// splitting (see the module comment).
+    pub fn with_damping(mut self, damping: f64) -> Splitting {
+        self.damping = damping;
+        self.velocity = None;
+        self
     }
 
     pub fn scheme(&self) -> &Scheme {
@@ -327,11 +404,14 @@ impl Splitting {
             self.velocity = None;
             self.force = None;
             let f = sys.formula_arc();
+            let dq = f.derivative_program(SLOT_Q, sys.params());
             self.programs = Some(Programs {
                 formula: f.clone(),
                 params: sys.params().to_vec(),
-                dq: f.derivative_program(SLOT_Q, sys.params()),
+                timed: dq.reads(SLOT_T),
+                dq,
                 dp: f.derivative_program(SLOT_P, sys.params()),
+                curvature: None,
             });
         }
     }
@@ -346,19 +426,36 @@ impl Splitting {
     ) -> Result<Step, StepError> {
         let (mut q, mut p, t) = (s.q, s.p, s.t);
         self.programs_for(sys);
+        let damping = self.damping;
+        if damping != 0.0 {
+            let Some(programs) = self.programs.as_mut() else {
+                return Err(StepError::NonFinite { t: s.t });
+            };
+            if programs.curvature.is_none() {
+                counters.jet_evaluations += 1;
+                let b = sys.jet_t(q, p, t).hpp;
+                if !b.is_finite() {
+                    return Err(StepError::NonFinite { t: s.t });
+                }
+                programs.curvature = Some(b);
+            }
+        }
         let Splitting {
             scheme,
+            fractions,
             programs: Some(programs),
             velocity: velocity_slot,
             force: force_slot,
+            ..
         } = self
         else {
             return Err(StepError::NonFinite { t: s.t });
         };
+        let curvature = programs.curvature.unwrap_or(0.0);
         let (mut velocity, mut force) = (*velocity_slot, *force_slot);
         let mut p_dq = 0.0;
         let mut evaluations = 0u64;
-        for &(kind, c) in &scheme.flows {
+        for (&(kind, c), &fraction) in scheme.flows.iter().zip(fractions.iter()) {
             match kind {
                 Flow::Drift => {
                     let v = match velocity {
@@ -370,17 +467,37 @@ impl Splitting {
                             v
                         }
                     };
-                    let dq = c * h * v;
-                    q += dq;
-                    p_dq += p * dq;
+                    if damping == 0.0 {
+                        let dq = c * h * v;
+                        q += dq;
+                        p_dq += p * dq;
+                    } else {
+                        // The exact flow of q' = v, p' = −δ v with v = T'(p)
+                        // = (p − p_c)/m over τ: v decays as e^(−δτ/m), so
+                        // Δq = τ v (1 − e^(−x))/x with x = δτ/m, and p − δq
+                        // is constant along it.
+                        let tau = c * h;
+                        let x = damping * tau * curvature;
+                        let phi = if x == 0.0 { 1.0 } else { -(-x).exp_m1() / x };
+                        let dq = tau * v * phi;
+                        q += dq;
+                        p_dq += p * dq - 0.5 * damping * dq * dq;
+                        p -= damping * dq;
+                    }
                 }
                 Flow::Kick => {
+                    let (tk, tkey) = if programs.timed {
+                        let tk = t + fraction * h;
+                        (tk, tk.to_bits())
+                    } else {
+                        (t, 0)
+                    };
                     let f = match force {
-                        Some((bits, f)) if bits == q.to_bits() => f,
+                        Some((bits, tb, f)) if bits == q.to_bits() && tb == tkey => f,
                         _ => {
                             evaluations += 1;
-                            let f = programs.dq.eval(q, p, t);
-                            force = Some((q.to_bits(), f));
+                            let f = programs.dq.eval(q, p, tk);
+                            force = Some((q.to_bits(), tkey, f));
                             f
                         }
                     };

@@ -76,6 +76,12 @@ pub struct OrbitRequest {
     /// drive of this period): at t0 + kτ, k = 1, 2, …, landed on exactly with
     /// a shortened step; see [`Orbit::strobe_points`]. `None` records nothing.
     pub strobe: Option<f64>,
+    /// Linear damping rate δ ≥ 0: q' = ∂H/∂p, p' = −∂H/∂q − δ ∂H/∂p (see
+    /// [`Integrator::with_damping`]). With δ > 0, H is not conserved and
+    /// [`Orbit::energy_error`] is the largest change of H, not an error; a
+    /// damped orbit does not close, so no first return (period, action) is
+    /// sought and `stop_when_closed` has no effect.
+    pub damping: f64,
 }
 
 impl OrbitRequest {
@@ -95,6 +101,7 @@ impl OrbitRequest {
             max_samples: DEFAULT_MAX_SAMPLES,
             tolerance: super::integrate::dopri::DEFAULT_TOLERANCE,
             strobe: None,
+            damping: 0.0,
         }
     }
 
@@ -165,6 +172,12 @@ impl OrbitRequest {
                     format!("must be a finite positive period (got {tau})"),
                 );
             }
+        }
+        if !(self.damping.is_finite() && self.damping >= 0.0) {
+            return bad(
+                "damping",
+                format!("must be a finite number ≥ 0 (got {})", self.damping),
+            );
         }
         if !(self.tolerance.is_finite() && self.tolerance > 0.0 && self.tolerance < 1.0) {
             return bad(
@@ -309,11 +322,13 @@ pub struct Orbit {
     pub p_range: [f64; 2],
     /// H at the start.
     pub energy: f64,
-    /// max |H − H₀| over every step.
+    /// max |H − H₀| over every step: the integration error of a conserved H.
+    /// With damping (`OrbitRequest::damping` > 0) H is not conserved and this
+    /// is the largest change of H along the orbit (a diagnostic says so).
     pub energy_error: f64,
     /// The energy scale: max(|H₀|, ½ max|∇H| × the diagonal of the orbit's extent).
     pub energy_scale: f64,
-    /// `energy_error / energy_scale`.
+    /// `energy_error / energy_scale` (with damping: the relative change of H).
     pub energy_drift: f64,
     /// The method actually used (`auto` resolved).
     pub method: Method,
@@ -434,7 +449,7 @@ pub fn integrate_with(
         energy_error: 0.0,
         energy_scale: 0.0,
         energy_drift: 0.0,
-        method: req.method.resolve(sys),
+        method: req.method.resolve_damped(sys, req.damping),
         step: 0.0,
         stop: StopReason::Finished,
         steps: 0,
@@ -449,7 +464,7 @@ pub fn integrate_with(
         };
         return orbit;
     }
-    let mut integrator = match Integrator::new(sys, req.method) {
+    let mut integrator = match Integrator::with_damping(sys, req.method, req.damping) {
         Ok(i) => i,
         Err(e) => {
             orbit.stop = StopReason::InvalidRequest {
@@ -649,6 +664,12 @@ pub fn integrate_with(
     } else {
         0.0
     };
+    if req.damping > 0.0 {
+        orbit.diagnostics.push(Diagnostic::info(format!(
+            "with damping {} H is not conserved: the energy error is the largest change of H along the orbit, not an integration error",
+            req.damping
+        )));
+    }
     orbit
 }
 

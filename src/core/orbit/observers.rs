@@ -286,7 +286,9 @@ impl Observer for FirstReturn {
     fn observe(&mut self, step: &AcceptedStep) -> Verdict {
         let (y, next) = (step.before, step.after);
         let mut verdict = Verdict::Continue;
-        if self.found.is_none() {
+        // A damped orbit does not close: no return is sought (a near miss of
+        // a slow spiral would otherwise pass for a period).
+        if self.found.is_none() && step.integrator.damping() == 0.0 {
             let start = self.start;
             let dir = self.dir;
             let shift = if self.periodic {
@@ -303,7 +305,8 @@ impl Observer for FirstReturn {
                 <= RETURN_RADIUS_FRACTION * self.extent.diagonal();
             if g_prev < 0.0 && g_next >= 0.0 && near {
                 let method = step.integrator.method();
-                let mut finder = match Integrator::new(step.sys, method) {
+                let damping = step.integrator.damping();
+                let mut finder = match Integrator::with_damping(step.sys, method, damping) {
                     Ok(f) => f,
                     Err(e) => {
                         return Verdict::Stop(StopReason::InvalidRequest {
@@ -385,7 +388,7 @@ pub(super) fn locate_crossing(
             (s.state, s.p_dq)
         };
         let gv = g(state.q, state.p);
-        let f = sys.field_t(state.q, state.p, state.t);
+        let f = sys.damped_field_t(state.q, state.p, state.t, finder.damping());
         finder.counters.field_evaluations += 1;
         let slope = dir[0] * f[0] + dir[1] * f[1];
         if gv < 0.0 {
