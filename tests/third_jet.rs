@@ -37,14 +37,23 @@ fn formula() -> impl Strategy<Value = String> {
 }
 
 /// H at x = (q, p, a, b) in plain f64.
-fn h_at(sys: &System, ia: usize, ib: usize, x: [f64; 4]) -> f64 {
-    sys.with_param(ia, x[2])
-        .with_param(ib, x[3])
-        .energy(x[0], x[1])
+fn h_at(sys: &System, ia: usize, ib: Option<usize>, x: [f64; 4]) -> f64 {
+    let s = sys.with_param(ia, x[2]);
+    match ib {
+        Some(ib) => s.with_param(ib, x[3]),
+        None => s,
+    }
+    .energy(x[0], x[1])
 }
 
 /// ∂³H/∂x_i∂x_j∂x_k by the product of three central differences.
-fn third_by_differences(sys: &System, ia: usize, ib: usize, x: [f64; 4], ijk: [usize; 3]) -> f64 {
+fn third_by_differences(
+    sys: &System,
+    ia: usize,
+    ib: Option<usize>,
+    x: [f64; 4],
+    ijk: [usize; 3],
+) -> f64 {
     let h = 1e-2;
     let mut sum = 0.0;
     for s0 in [-1.0, 1.0] {
@@ -62,7 +71,13 @@ fn third_by_differences(sys: &System, ia: usize, ib: usize, x: [f64; 4], ijk: [u
 }
 
 /// ∂²H/∂x_i∂x_j by central differences.
-fn second_by_differences(sys: &System, ia: usize, ib: usize, x: [f64; 4], ij: [usize; 2]) -> f64 {
+fn second_by_differences(
+    sys: &System,
+    ia: usize,
+    ib: Option<usize>,
+    x: [f64; 4],
+    ij: [usize; 2],
+) -> f64 {
     let h = 1e-4;
     let mut sum = 0.0;
     for s0 in [-1.0, 1.0] {
@@ -96,7 +111,6 @@ proptest! {
             Some(ib) => (vec![ia, ib], 4),
             None => (vec![ia], 3),
         };
-        let ib = ib.unwrap_or(ia);
         let jet = sys.third_jet(q, p, &params);
         prop_assert_eq!(jet.n, nvars);
         let x = [q, p, a, b];
@@ -108,7 +122,10 @@ proptest! {
                     (jet.hess[i][j] - fd2).abs() <= 1e-5 * (1.0 + fd2.abs()),
                     "{}: H_{}{} = {} but differences give {}", text, i, j, jet.hess[i][j], fd2
                 );
-                prop_assert_eq!(jet.hess[i][j], jet.hess[j][i]);
+                prop_assert!(
+                    (jet.hess[i][j] - jet.hess[j][i]).abs()
+                        <= 1e-13 * (1.0 + jet.hess[i][j].abs())
+                );
                 for k in 0..nvars {
                     let fd3 = third_by_differences(&sys, ia, ib, x, [i, j, k]);
                     prop_assert!(

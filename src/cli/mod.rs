@@ -13,6 +13,7 @@ mod diagrams;
 mod drive;
 mod figure;
 mod orbit;
+mod section;
 mod system;
 mod text;
 
@@ -21,6 +22,7 @@ pub use diagrams::*;
 pub use drive::*;
 pub use figure::*;
 pub use orbit::*;
+pub use section::*;
 pub use system::*;
 use text::*;
 
@@ -81,6 +83,8 @@ pub enum Command {
     /// The Melnikov function of a driven, damped H along each separatrix of the undriven H:
     /// its zeros and the drive amplitude above which a chaotic layer is expected.
     Melnikov(MelnikovArgs),
+    /// The stroboscopic section of a driven H: the state every drive period from each start.
+    Section(SectionArgs),
     /// Draw a figure (SVG or PNG by the output's extension).
     Render(RenderArgs),
 }
@@ -118,6 +122,7 @@ pub fn run(command: &Command) -> Result<String, CliError> {
         Command::Folds(args) => run_folds(args),
         Command::Backbone(args) => run_backbone(args),
         Command::Melnikov(args) => run_melnikov(args),
+        Command::Section(args) => run_section(args),
         Command::Render(args) => run_render(args),
         Command::Open { .. } => Err(CliError(
             "`open` starts the desktop explorer; it has no text output".to_string(),

@@ -10,6 +10,7 @@ pub mod formula;
 pub mod integrate;
 pub mod melnikov;
 pub mod orbit;
+pub mod section;
 pub mod system;
 pub mod wells;
 pub mod window;

@@ -10,6 +10,7 @@ use crate::core::equilibria::{DegenerateShape, Equilibrium};
 use crate::core::folds::FoldCurves;
 use crate::core::melnikov::Melnikov;
 use crate::core::orbit::Orbit;
+use crate::core::section::Section;
 use crate::core::wells::ConnectionKind;
 use crate::core::wells::Well;
 use crate::core::window::Window;
@@ -416,6 +417,27 @@ pub fn melnikov_table(m: &Melnikov) -> Table {
                 t0.into(),
                 mv.into(),
                 (m.amplitude_value * mv - m.damping * c.damping_integral).into(),
+            ]);
+        }
+    }
+    t
+}
+
+/// The section's points: one row per start and drive period (k = 0 is the start).
+pub fn section_table(s: &Section) -> Table {
+    let mut t = Table::new(vec![
+        Column::new("orbit", "orbit"),
+        Column::new("k", "drive periods"),
+        Column::plain("q"),
+        Column::plain("p"),
+    ]);
+    for (i, o) in s.orbits.iter().enumerate() {
+        for (k, pt) in std::iter::once(&o.start).chain(&o.points).enumerate() {
+            t.push(vec![
+                Cell::Integer(i as i64 + 1),
+                Cell::Integer(k as i64),
+                pt[0].into(),
+                pt[1].into(),
             ]);
         }
     }

@@ -1,5 +1,10 @@
 //! The requests of the driven views, from the session's `drive` section:
 //!
+//! - **section**: the drive's period, damping and periods from the section;
+//!   starts on a lattice of `lattice` × `lattice` points over the view
+//!   (cell centres), then the session's seeded orbits' starts, then the
+//!   points the user clicked; the method of the first seeded orbit, else
+//!   automatic; orbits stop when they leave the usual bounds around the view;
 //! - **Melnikov function**: the drive period and damping from the section;
 //!   the amplitude parameter it names, else the one parameter that switches
 //!   the drive off ([`drive_amplitude_parameter`]); the connections of H₀
@@ -8,7 +13,10 @@
 
 use crate::core::Cancel;
 use crate::core::analysis::{AnalysisConfig, analyze};
+use crate::core::integrate::Method;
 use crate::core::melnikov::{Melnikov, drive_amplitude_parameter, melnikov};
+use crate::core::orbit::BOUNDS_FACTOR;
+use crate::core::section::{Section, SectionConfig, section};
 use crate::core::system::System;
 use crate::core::window::Window;
 use crate::session::Session;
@@ -71,5 +79,71 @@ impl MelnikovRequest {
             self.damping,
             connections,
         ))
+    }
+}
+
+/// The stroboscopic section of the session's driven system.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SectionRequest {
+    pub starts: Vec<[f64; 2]>,
+    pub bounds: Window,
+    pub cfg: SectionConfig,
+}
+
+impl SectionRequest {
+    /// The section `session` describes, with `extra` starts (clicked points)
+    /// after the lattice and the seeded orbits; an error says what is
+    /// missing (no drive section) or wrong.
+    pub fn from_session(session: &Session, extra: &[[f64; 2]]) -> Result<SectionRequest, String> {
+        let drive = session.drive().map_err(|e| e.to_string())?.ok_or_else(|| {
+            "the session has no drive (a \"drive\" section with the period, or --period)"
+                .to_string()
+        })?;
+        let w = &session.view;
+        let n = drive.lattice;
+        let mut starts = Vec::with_capacity(n * n + session.orbits.len() + extra.len());
+        for j in 0..n {
+            for i in 0..n {
+                starts.push([
+                    w.qmin + (i as f64 + 0.5) * w.width() / n as f64,
+                    w.pmin + (j as f64 + 0.5) * w.height() / n as f64,
+                ]);
+            }
+        }
+        starts.extend(session.orbits.iter().map(|o| [o.q0, o.p0]));
+        starts.extend_from_slice(extra);
+        let method = match session.orbits.first() {
+            Some(o) => Method::from_name(&o.method).map_err(|e| e.to_string())?,
+            None => Method::Auto,
+        };
+        Ok(SectionRequest {
+            starts,
+            bounds: w.scaled(BOUNDS_FACTOR),
+            cfg: SectionConfig {
+                period: drive.period,
+                damping: drive.damping,
+                periods: drive.periods,
+                method,
+                steps_per_period: None,
+                t0: 0.0,
+            },
+        })
+    }
+
+    /// The request with every count divided for a quick first look (while a
+    /// slider is dragged): a quarter of the periods.
+    pub fn coarse(&self) -> SectionRequest {
+        let mut r = self.clone();
+        r.cfg.periods = (r.cfg.periods / 4).max(1);
+        r
+    }
+
+    pub fn run(
+        &self,
+        sys: &System,
+        cancel: &Cancel,
+        progress: &(dyn Fn(usize, usize) + Sync),
+    ) -> Result<Section, String> {
+        section(sys, &self.starts, &self.bounds, &self.cfg, cancel, progress)
     }
 }

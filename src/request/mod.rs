@@ -26,7 +26,7 @@
 
 mod drive;
 
-pub use drive::MelnikovRequest;
+pub use drive::{MelnikovRequest, SectionRequest};
 
 use crate::core::Cancel;
 use crate::core::backbone::{Backbone, BackboneConfig, BackboneError, backbone};

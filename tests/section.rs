@@ -1,0 +1,182 @@
+//! The stroboscopic section against closed forms of linear oscillators and
+//! the invariants of the undriven system.
+
+use phasewright::core::Cancel;
+use phasewright::core::integrate::Method;
+use phasewright::core::section::{SectionConfig, SectionEnd, section};
+use phasewright::core::system::System;
+use phasewright::core::window::Window;
+use std::f64::consts::PI;
+
+fn cfg(period: f64, damping: f64, periods: usize, method: Method) -> SectionConfig {
+    SectionConfig {
+        period,
+        damping,
+        periods,
+        method,
+        steps_per_period: Some(200),
+        t0: 0.0,
+    }
+}
+
+fn bounds() -> Window {
+    Window::new(-10.0, 10.0, -10.0, 10.0).unwrap()
+}
+
+/// H = (p² + q²)/2 sampled every 2π: the map is the identity (its flow is a
+/// rotation of period 2π; closed form).
+#[test]
+fn harmonic_oscillator_returns_to_its_start_every_period() {
+    let sys = System::from_source("p^2/2 + q^2/2", &[]).unwrap();
+    let starts = [[1.0, 0.0], [0.3, -0.7], [-2.0, 1.5]];
+    for method in [Method::Yoshida6, Method::Split6, Method::Gauss6] {
+        let mut c = cfg(2.0 * PI, 0.0, 50, method);
+        c.steps_per_period = Some(1000);
+        let s = section(
+            &sys,
+            &starts,
+            &bounds(),
+            &c,
+            &Cancel::never(),
+            &|_, _| {},
+        )
+        .unwrap();
+        for o in &s.orbits {
+            assert_eq!(o.end, SectionEnd::Completed);
+            assert_eq!(o.points.len(), 50);
+            for pt in &o.points {
+                let d = (pt[0] - o.start[0]).hypot(pt[1] - o.start[1]);
+                assert!(d < 1e-11, "{method:?}: {pt:?} vs {:?}", o.start);
+            }
+        }
+    }
+}
+
+/// q'' + δq' + q = 0 (H = p²/2 + q²/2 with damping δ): q(t) =
+/// e^(−δt/2)(q₀ cos ωt + ((p₀ + δq₀/2)/ω) sin ωt), ω = √(1 − δ²/4), the
+/// underdamped solution of any ODE textbook (common practice).
+#[test]
+fn damped_oscillator_matches_its_closed_form() {
+    let sys = System::from_source("p^2/2 + q^2/2", &[]).unwrap();
+    let (q0, p0, d) = (1.2, -0.4, 0.3);
+    let w = (1.0 - d * d / 4.0_f64).sqrt();
+    let tau = 1.7;
+    for method in [Method::Yoshida6, Method::Gauss6] {
+        let s = section(
+            &sys,
+            &[[q0, p0]],
+            &bounds(),
+            &cfg(tau, d, 20, method),
+            &Cancel::never(),
+            &|_, _| {},
+        )
+        .unwrap();
+        for (k, pt) in s.orbits[0].points.iter().enumerate() {
+            let t = tau * (k + 1) as f64;
+            let b = (p0 + d * q0 / 2.0) / w;
+            let e = (-d * t / 2.0).exp();
+            let q = e * (q0 * (w * t).cos() + b * (w * t).sin());
+            let p = -d / 2.0 * q + e * (-q0 * w * (w * t).sin() + b * w * (w * t).cos());
+            assert!(
+                (pt[0] - q).abs() < 1e-9 && (pt[1] - p).abs() < 1e-9,
+                "{method:?} k={k}: {pt:?} vs ({q}, {p})"
+            );
+        }
+    }
+}
+
+/// q'' + q = F cos(Wt), W = 2 (away from resonance): q(t) = A cos t + B sin t
+/// + F cos(Wt)/(1 − W²) with A = q₀ − F/(1 − W²), B = p₀ (common practice).
+#[test]
+fn forced_oscillator_matches_its_closed_form() {
+    let (f, w) = (0.4, 2.0);
+    let sys = System::from_source("p^2/2 + q^2/2 - F*q*cos(W*t)", &[("F", f), ("W", w)]).unwrap();
+    let (q0, p0) = (0.5, 0.25);
+    let tau = 2.0 * PI / w;
+    let c = f / (1.0 - w * w);
+    for method in [Method::Yoshida6, Method::Split6, Method::Gauss6] {
+        let s = section(
+            &sys,
+            &[[q0, p0]],
+            &bounds(),
+            &cfg(tau, 0.0, 30, method),
+            &Cancel::never(),
+            &|_, _| {},
+        )
+        .unwrap();
+        for (k, pt) in s.orbits[0].points.iter().enumerate() {
+            let t = tau * (k + 1) as f64;
+            let (a, b) = (q0 - c, p0);
+            let q = a * t.cos() + b * t.sin() + c * (w * t).cos();
+            let p = -a * t.sin() + b * t.cos() - c * w * (w * t).sin();
+            assert!(
+                (pt[0] - q).abs() < 1e-9 && (pt[1] - p).abs() < 1e-9,
+                "{method:?} k={k}: {pt:?} vs ({q}, {p})"
+            );
+        }
+    }
+}
+
+/// Without drive and damping every point keeps the start's energy (H is
+/// conserved; the symplectic method's error stays bounded).
+#[test]
+fn undriven_double_well_points_stay_on_their_level() {
+    let sys = System::from_source("p^2/2 - q^2/2 + q^4/4", &[]).unwrap();
+    let starts: Vec<[f64; 2]> = (0..12).map(|k| [0.2 + 0.12 * k as f64, 0.1]).collect();
+    let mut c = cfg(2.0 * PI, 0.0, 200, Method::Auto);
+    c.steps_per_period = None;
+    let s = section(&sys, &starts, &bounds(), &c, &Cancel::never(), &|_, _| {}).unwrap();
+    for o in &s.orbits {
+        let h0 = sys.energy(o.start[0], o.start[1]);
+        for pt in &o.points {
+            assert!((sys.energy(pt[0], pt[1]) - h0).abs() < 1e-7, "{pt:?}");
+        }
+    }
+}
+
+/// The same section on one thread and on several, bit for bit.
+#[test]
+fn the_section_does_not_depend_on_the_thread_count() {
+    let sys = System::from_source("p^2/2 - q^2/2 + q^4/4 - F*q*cos(t)", &[("F", 0.3)]).unwrap();
+    let starts: Vec<[f64; 2]> = (0..40)
+        .map(|k| [-1.5 + 0.075 * k as f64, 0.05 * (k % 7) as f64])
+        .collect();
+    let c = cfg(2.0 * PI, 0.25, 60, Method::Auto);
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| {
+                section(&sys, &starts, &bounds(), &c, &Cancel::never(), &|_, _| {}).unwrap()
+            })
+    };
+    let one = run(1);
+    let many = run(4);
+    assert_eq!(one, many);
+}
+
+#[test]
+fn bad_requests_are_refused_with_a_message() {
+    let sys = System::from_source("p^2/2 + q^2/2", &[]).unwrap();
+    let e = section(
+        &sys,
+        &[[0.0, 1.0]],
+        &bounds(),
+        &cfg(0.0, 0.0, 5, Method::Auto),
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .unwrap_err();
+    assert!(e.contains("period"), "{e}");
+    let e = section(
+        &sys,
+        &[[0.0, 1.0]],
+        &bounds(),
+        &cfg(1.0, -1.0, 5, Method::Auto),
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .unwrap_err();
+    assert!(e.contains("damping"), "{e}");
+}
