@@ -213,3 +213,36 @@ fn imperfect_strut_keeps_three_equilibria_shifted_by_the_bow() {
         &[(r[0], Center), (r[1], Saddle), (r[2], Center)],
     );
 }
+
+/// The driven resonator's Melnikov threshold is the double well's closed
+/// form F/δ = 4 cosh(πω/2)/(3√2 πω) at its ω = W (Guckenheimer & Holmes,
+/// 1983, §4.5), and its notes quote the value.
+#[test]
+fn driven_resonator_threshold_is_the_closed_form_at_its_frequency() {
+    let (s, _) = load("driven-resonator.json");
+    let sys = s.system().unwrap();
+    let req = phasewright::request::MelnikovRequest::from_session(&s, &sys).unwrap();
+    let m = req.run(&sys, &s.view, &Cancel::never()).unwrap();
+    let w = param(&s, "W");
+    let want = 4.0 * (PI * w / 2.0).cosh() / (3.0 * 2f64.sqrt() * PI * w);
+    let ratio = m.threshold_ratio.expect("a threshold");
+    assert!((ratio - want).abs() < 1e-8 * want, "{ratio} vs {want}");
+    let f = m.threshold_amplitude.unwrap();
+    assert!(s.notes.contains(&format!("{f:.3}")), "notes quote {f:.3}");
+    assert!(s.notes.contains("licensed engineering practice"));
+}
+
+/// Without damping the shaken lattice's threshold is 0: any shake opens a
+/// layer (the Melnikov function always has simple zeros; G&H §4.5).
+#[test]
+fn shaken_lattice_has_no_threshold_without_damping() {
+    let (s, _) = load("shaken-lattice.json");
+    let sys = s.system().unwrap();
+    let req = phasewright::request::MelnikovRequest::from_session(&s, &sys).unwrap();
+    let m = req.run(&sys, &s.view, &Cancel::never()).unwrap();
+    assert!(!m.connections.is_empty());
+    assert_eq!(m.threshold_amplitude, Some(0.0));
+    for c in &m.connections {
+        assert_eq!(c.zeros.len(), 2, "two simple zeros per period");
+    }
+}

@@ -32,15 +32,7 @@ fn harmonic_oscillator_returns_to_its_start_every_period() {
     for method in [Method::Yoshida6, Method::Split6, Method::Gauss6] {
         let mut c = cfg(2.0 * PI, 0.0, 50, method);
         c.steps_per_period = Some(1000);
-        let s = section(
-            &sys,
-            &starts,
-            &bounds(),
-            &c,
-            &Cancel::never(),
-            &|_, _| {},
-        )
-        .unwrap();
+        let s = section(&sys, &starts, &bounds(), &c, &Cancel::never(), &|_, _| {}).unwrap();
         for o in &s.orbits {
             assert_eq!(o.end, SectionEnd::Completed);
             assert_eq!(o.points.len(), 50);

@@ -366,11 +366,19 @@ impl Explorer {
         let Some(f) = &self.jobs.compiled else {
             return Vec::new();
         };
+        // the drive's expressions may name parameters H does not
+        let drive = self
+            .doc
+            .session
+            .drive
+            .as_ref()
+            .map(crate::session::drive::expression_parameters)
+            .unwrap_or_default();
         self.doc
             .session
             .parameters
             .iter()
-            .filter(|p| !f.params().contains(&p.name))
+            .filter(|p| !f.params().contains(&p.name) && !drive.contains(&p.name))
             .map(|p| p.name.clone())
             .collect()
     }

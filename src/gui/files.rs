@@ -42,6 +42,14 @@ pub const EXAMPLES: &[(&str, &str)] = &[
         "tilted-lattice.json",
         include_str!("../../sessions/tilted-lattice.json"),
     ),
+    (
+        "driven-resonator.json",
+        include_str!("../../sessions/driven-resonator.json"),
+    ),
+    (
+        "shaken-lattice.json",
+        include_str!("../../sessions/shaken-lattice.json"),
+    ),
 ];
 
 /// The session shown when nothing else is given and no example loads.
