@@ -468,6 +468,7 @@ fn session_strategy() -> impl Strategy<Value = Session> {
                 sweep: None,
                 folds: None,
                 backbone: None,
+                quantum: None,
             },
         )
 }
