@@ -18,6 +18,9 @@ use crate::render::{self, View, ViewError, table::Table};
 use crate::scene::BackbonePlot;
 use crate::session::{self, BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
 use clap::{Args, Parser, Subcommand};
+
+mod levels;
+pub use levels::{LevelsArgs, run_levels};
 use std::fmt::{self, Write as _};
 use std::path::PathBuf;
 
@@ -57,6 +60,8 @@ pub enum Command {
     Folds(FoldsArgs),
     /// Period, frequency, action and amplitude against energy in the well of a center.
     Backbone(BackboneArgs),
+    /// Semiclassical (Bohr–Sommerfeld) energy levels in each well, for a given ħ.
+    Levels(LevelsArgs),
     /// Draw a figure (SVG or PNG by the output's extension).
     Render(RenderArgs),
 }
@@ -439,6 +444,7 @@ pub fn run(command: &Command) -> Result<String, CliError> {
         Command::Sweep(args) => run_sweep(args),
         Command::Folds(args) => run_folds(args),
         Command::Backbone(args) => run_backbone(args),
+        Command::Levels(args) => run_levels(args),
         Command::Render(args) => run_render(args),
         Command::Open { .. } => Err(CliError(
             "`open` starts the desktop explorer; it has no text output".to_string(),
