@@ -2,12 +2,12 @@
 //! and spacings, and the tunnelling splitting where it applies.
 
 use super::{
-    CliError, OutputArgs, Resolved, SystemArgs, diagnostics_text, emit, num, print_warnings, table,
+    CliError, OutputArgs, Resolved, SystemArgs, compute, diagnostics_text, emit, num,
+    print_warnings, table,
 };
-use crate::core::Cancel;
 use crate::render;
-use crate::request::{LevelsRequest, LevelsResult, centers_in_view};
-use crate::session::QuantumSettings;
+use crate::request::LevelsResult;
+use crate::session::{QuantumSettings, Session};
 use clap::Args;
 use std::fmt::Write as _;
 
@@ -33,49 +33,9 @@ pub struct LevelsArgs {
 /// splitting of the lowest pair of a symmetric double well.
 pub fn run_levels(args: &LevelsArgs) -> Result<String, CliError> {
     let mut r = args.system.resolve()?;
-    if let Some(h) = &args.hbar {
-        r.session.quantum = Some(QuantumSettings { hbar: h.clone() });
-    }
+    let command = apply_hbar(&mut r.session, args.hbar.as_deref(), "levels");
     print_warnings(&r.warnings);
-    let cancel = Cancel::never();
-    let in_view = centers_in_view(&r.session, &r.system, &r.window, &cancel);
-    let request = LevelsRequest::from_session(&r.session, &in_view)
-        .map_err(|e| match &args.hbar {
-            Some(h) => CliError(format!("--hbar {h}: {}", e.problem)),
-            None => CliError(format!("levels: {e}")),
-        })?
-        .ok_or_else(|| {
-            CliError(
-                "levels: no ħ; give --hbar EXPR (e.g. --hbar 0.1) or add \
-                 \"quantum\": { \"hbar\": \"0.1\" } to the session"
-                    .to_string(),
-            )
-        })?;
-    if in_view.is_empty() {
-        return Err(CliError(
-            "levels: there is no center in view, so no well to quantize; widen --window"
-                .to_string(),
-        ));
-    }
-    let result = request.run(&r.system, &r.window, &cancel);
-    if result.wells.is_empty() {
-        let problems: Vec<String> = result
-            .refused
-            .iter()
-            .map(|w| {
-                format!(
-                    "center q = {}, p = {}: {}",
-                    num(w.center[0]),
-                    num(w.center[1]),
-                    w.problem
-                )
-            })
-            .collect();
-        return Err(CliError(format!(
-            "levels: no well gave levels; {}",
-            problems.join("; ")
-        )));
-    }
+    let result = compute(&r, &command, render::levels_of)?;
     Ok(emit(
         &r,
         &args.output,
@@ -83,6 +43,20 @@ pub fn run_levels(args: &LevelsArgs) -> Result<String, CliError> {
         || render::table::levels_table(&result),
         || levels_text(&r, &result),
     ))
+}
+
+/// Replace the session's ħ with the `--hbar` flag, if given; returns how a
+/// refusal is introduced (the flag, else `otherwise`).
+pub(super) fn apply_hbar(session: &mut Session, hbar: Option<&str>, otherwise: &str) -> String {
+    match hbar {
+        Some(h) => {
+            session.quantum = Some(QuantumSettings {
+                hbar: h.to_string(),
+            });
+            format!("--hbar {h}")
+        }
+        None => otherwise.to_string(),
+    }
 }
 
 /// The levels as readable tables, one per well.

@@ -136,6 +136,8 @@ pub struct Level {
     pub period: f64,
     /// Eₙ₊₁ − Eₙ (none for the highest level listed).
     pub spacing: Option<f64>,
+    /// Where the orbit crosses p = p_c, [q₋, q₊] (quadrature path only).
+    pub turning_points: Option<[f64; 2]>,
 }
 
 /// The tunnelling splitting of the lowest pair (an estimate; see the module).
@@ -289,6 +291,8 @@ pub fn levels(
                     action: target,
                     period,
                     spacing: None,
+                    turning_points: (well.method() == BackboneMethod::Quadrature)
+                        .then_some([ends.0, ends.1]),
                 });
                 last = (d, period, ends);
             }

@@ -17,9 +17,10 @@ use crate::core::orbit::{Orbit, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
 use crate::request::{
-    BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_in_view, seeded_orbit_request,
+    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
+    centers_in_view, seeded_orbit_request,
 };
-use crate::scene::{BackbonePlot, Rgb, Scene};
+use crate::scene::{BackbonePlot, Rgb, Scene, short_number};
 use crate::session::Session;
 use std::fmt;
 use table::Table;
@@ -125,6 +126,9 @@ pub enum View {
     Backbone(BackbonePlot),
     /// Saddle-node curves in the plane of two parameters (the session's `folds`).
     Folds,
+    /// The Bohr–Sommerfeld levels of every well in view over H along the
+    /// center's line p = p_c (the session's `quantum.hbar`).
+    Levels,
 }
 
 impl View {
@@ -135,6 +139,7 @@ impl View {
             View::Diagram => "diagram",
             View::Backbone(_) => "backbone",
             View::Folds => "folds",
+            View::Levels => "levels",
         }
     }
 }
@@ -146,6 +151,7 @@ pub enum ViewData {
     Diagram(Sweep),
     Backbone(Backbone),
     Folds(FoldCurves),
+    Levels(LevelsResult),
 }
 
 /// Why a view could not be made.
@@ -169,6 +175,9 @@ impl fmt::Display for ViewError {
             ViewError::MissingSettings(View::Folds) => f.write_str(
                 "the formula has fewer than two parameters with slider ranges for a fold plane",
             ),
+            ViewError::MissingSettings(View::Levels) => {
+                f.write_str("the session sets no ħ for the levels (quantum.hbar)")
+            }
             ViewError::MissingSettings(v) => write!(f, "the session has no {} settings", v.name()),
             ViewError::Refused { view, message } => write!(f, "{}: {message}", view.name()),
             ViewError::Figure(e) => write!(f, "{e}"),
@@ -193,6 +202,7 @@ pub fn view_data(
         View::Diagram => ViewData::Diagram(sweep_of(session, sys, window, cancel)?),
         View::Folds => ViewData::Folds(folds_of(session, sys, window, cancel)?),
         View::Backbone(_) => ViewData::Backbone(backbone_of(session, sys, window, cancel)?),
+        View::Levels => ViewData::Levels(levels_of(session, sys, window, cancel)?),
     })
 }
 
@@ -258,6 +268,46 @@ pub fn backbone_of(
         .map_err(|e| refused(View::Backbone(BackbonePlot::default()))(e.to_string()))
 }
 
+/// The levels of every well in `window` for the session's ħ; refused when
+/// its expression is bad, when no center is in view, or when no well gives
+/// levels.
+pub fn levels_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<LevelsResult, ViewError> {
+    let in_view = centers_in_view(session, sys, window, cancel);
+    let request = LevelsRequest::from_session(session, &in_view)
+        .map_err(|e| refused(View::Levels)(e.to_string()))?
+        .ok_or(ViewError::MissingSettings(View::Levels))?;
+    if in_view.is_empty() {
+        return Err(refused(View::Levels)(
+            "there is no center in view, so no well to quantize; widen the view".to_string(),
+        ));
+    }
+    let result = request.run(sys, window, cancel);
+    if result.wells.is_empty() {
+        let problems: Vec<String> = result
+            .refused
+            .iter()
+            .map(|w| {
+                format!(
+                    "center q = {}, p = {}: {}",
+                    short_number(w.center[0]),
+                    short_number(w.center[1]),
+                    w.problem
+                )
+            })
+            .collect();
+        return Err(refused(View::Levels)(format!(
+            "no well gave levels; {}",
+            problems.join("; ")
+        )));
+    }
+    Ok(result)
+}
+
 /// The scene of computed view data, with the session's current parameter
 /// values as guides (diagram, folds) and its title (portrait).
 pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) -> Scene {
@@ -276,6 +326,12 @@ pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) 
             };
             Scene::backbone(sys, b, plot)
         }
+        ViewData::Levels(l) => Scene::levels(
+            sys,
+            &l.wells,
+            l.hbar,
+            [session.view.qmin, session.view.qmax],
+        ),
     }
 }
 
@@ -310,6 +366,7 @@ pub fn view_table(sys: &System, data: &ViewData, which: PortraitTable) -> Table 
             table::folds_table(f).with_parameters(&others(&params, &[&f.params[0], &f.params[1]]))
         }
         ViewData::Backbone(b) => table::backbone_table(b).with_parameters(&params),
+        ViewData::Levels(l) => table::levels_table(l).with_parameters(&params),
     }
 }
 
