@@ -333,6 +333,12 @@ fn bad_hbar_and_bad_wells_are_refused_with_a_message() {
     )
     .expect_err("time");
     assert_eq!(e, LevelsError::Well(BackboneError::TimeDependent));
+    // A ħ so small that ~10³⁰⁰ levels would be bound (I = E/ω = 1.125 at the
+    // edge q = 1.5; closed form).
+    let e =
+        try_run("p^2/2 + q^2/2", [0.0, 0.0], [-1.5, 1.5, -2.0, 2.0], 1e-300).expect_err("tiny ħ");
+    assert!(matches!(e, LevelsError::HbarTooSmall { .. }), "{e}");
+    assert!(e.to_string().contains("too small for this well"), "{e}");
     // A saddle is not a well.
     let e = try_run("p^2/2 - q^2/2", [0.0, 0.0], [-2.0, 2.0, -2.0, 2.0], 0.1).expect_err("saddle");
     assert!(e.to_string().contains("not a center"), "{e}");

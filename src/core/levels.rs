@@ -71,6 +71,8 @@ use std::fmt;
 pub const MIN_BARRIER_EXPONENT: f64 = 2.0 * PI;
 /// Most levels listed per well (the count is still given in full).
 pub const MAX_LEVELS: usize = 10_000;
+/// Most bound levels counted; a smaller ħ is refused.
+pub const MAX_COUNT: f64 = 1e9;
 /// The top action is taken this fraction of the depth below the top energy.
 const TOP_MARGINS: [f64; 3] = [1e-12, 1e-9, 1e-6];
 /// Looser quadrature tolerances tried in turn where the configured one does
@@ -191,6 +193,9 @@ pub enum LevelsError {
     Well(BackboneError),
     /// The action at the top energy could not be computed.
     NoTopAction,
+    /// ħ is so small against the well's action that more than
+    /// [`MAX_COUNT`] levels would be bound.
+    HbarTooSmall { hbar: f64, levels: f64 },
 }
 
 impl fmt::Display for LevelsError {
@@ -202,6 +207,11 @@ impl fmt::Display for LevelsError {
             LevelsError::Well(e) => e.fmt(f),
             LevelsError::NoTopAction => f.write_str(
                 "the action of the highest closed orbit of this well could not be computed",
+            ),
+            LevelsError::HbarTooSmall { hbar, levels } => write!(
+                f,
+                "ħ = {hbar:e} is too small for this well: about {levels:.2e} levels would be \
+                 bound (at most {MAX_COUNT:e} are counted); give a larger ħ"
             ),
         }
     }
@@ -255,6 +265,9 @@ pub fn levels(
         .ok_or(LevelsError::NoTopAction)?;
     let top_action = top_row.action;
     let x = top_action / hbar - 0.5;
+    if !(x <= MAX_COUNT) {
+        return Err(LevelsError::HbarTooSmall { hbar, levels: x });
+    }
     let count = if x > 0.0 { x.ceil() as usize } else { 0 };
     let mut diagnostics = Vec::new();
     let wanted = count.min(cfg.max_levels.min(MAX_LEVELS));
