@@ -26,7 +26,7 @@
 //! energy, or the level whose curve reaches the window's edge when no saddle
 //! bounds the well in view), taken a relative 1e-12 of the depth below the
 //! top where the period is still finite (1e-9 or 1e-6 if the quadrature
-//! fails there); so the count is the number of n ≥ 0 with
+//! fails there) with the quadrature tolerance 1e-11 (else 1e-9); so the count is the number of n ≥ 0 with
 //! ħ(n + ½) < I(E_top), exact unless ħ(n + ½) falls within that sliver.
 //!
 //! The rule is exact for the harmonic oscillator and the Morse potential and
@@ -253,16 +253,23 @@ pub fn levels(
         tolerances,
         at: std::cell::Cell::new(0),
     };
+    // The count needs the top action to far fewer digits than the levels,
+    // and right under a flat top the configured tolerance is out of reach:
+    // the top starts from the first looser tolerance.
+    let top_start = orbits
+        .tolerances
+        .len()
+        .saturating_sub(LOOSER_TOLERANCES.len());
     let (top_depth, top_row) = TOP_MARGINS
         .iter()
         .find_map(|m| {
             let d = top * (1.0 - m);
-            let r = orbits.at_depth(d, (qc, qc)).map(|(r, _)| (d, r));
-            // The levels below start again from the configured tolerance.
-            orbits.at.set(0);
-            r
+            orbits.at.set(top_start);
+            orbits.at_depth(d, (qc, qc)).map(|(r, _)| (d, r))
         })
         .ok_or(LevelsError::NoTopAction)?;
+    // The levels start again from the configured tolerance.
+    orbits.at.set(0);
     let top_action = top_row.action;
     let x = top_action / hbar - 0.5;
     if !(x <= MAX_COUNT) {
