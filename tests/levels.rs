@@ -357,3 +357,72 @@ fn a_large_hbar_binds_no_level() {
     assert!(l.levels.is_empty());
     assert!(rel(l.top_action, 0.5) < 1e-9);
 }
+
+/// The number of eigenvalues below `x` of the symmetric tridiagonal matrix
+/// with diagonal `a` and off-diagonal `b` (Sturm sequence of the LDLᵀ
+/// pivots; J. H. Wilkinson, The Algebraic Eigenvalue Problem, 1965, §5.37).
+fn eigenvalues_below(a: &[f64], b: f64, x: f64) -> usize {
+    let mut count = 0;
+    let mut d = 1.0;
+    for (i, &ai) in a.iter().enumerate() {
+        d = ai - x - if i == 0 { 0.0 } else { b * b / d };
+        if d == 0.0 {
+            d = -1e-300;
+        }
+        if d < 0.0 {
+            count += 1;
+        }
+    }
+    count
+}
+
+#[test]
+fn the_splitting_estimate_is_low_by_the_known_factor_against_the_quantum_splitting() {
+    // The Schrödinger equation −(ħ²/2)ψ'' + Vψ = Eψ, V = 4(q² − 1)², by
+    // second-order finite differences on [−2.4, 2.4] (ψ = 0 at the ends,
+    // where V = 92 ≫ E₀), its two lowest eigenvalues by Sturm bisection: the
+    // exact splitting of the model to a few digits (common practice). The
+    // semiclassical formula is an estimate; for a ground pair it is known to
+    // be off by a factor of order one (recalled from memory: near √(π/e)).
+    let hbar = 0.2;
+    let n = 6000;
+    let (lo, hi) = (-2.4, 2.4);
+    let h = (hi - lo) / (n + 1) as f64;
+    let v = |q: f64| 4.0 * (q * q - 1.0).powi(2);
+    let a: Vec<f64> = (1..=n)
+        .map(|i| hbar * hbar / (h * h) + v(lo + i as f64 * h))
+        .collect();
+    let b = -hbar * hbar / (2.0 * h * h);
+    let eigen = |k: usize| {
+        bisect(
+            |x| {
+                if eigenvalues_below(&a, b, x) > k {
+                    1.0
+                } else {
+                    -1.0
+                }
+            },
+            0.0,
+            4.0,
+        )
+    };
+    let (e0, e1) = (eigen(0), eigen(1));
+    let exact = e1 - e0;
+    let l = run(
+        "p^2/2 + 4*(q^2 - 1)^2",
+        [1.0, 0.0],
+        [-2.0, 2.0, -4.0, 4.0],
+        hbar,
+    );
+    let sp = l.splitting.expect("splitting");
+    // The pair straddles the semiclassical ground level.
+    assert!((0.5 * (e0 + e1) - sp.energy).abs() < 0.01 * sp.energy);
+    // Measured here: the estimate is 0.938 of the exact splitting, near √(e/π) = 0.930.
+    let ratio = sp.splitting / exact;
+    let known = (std::f64::consts::E / PI).sqrt();
+    assert!(
+        (ratio - known).abs() < 0.03,
+        "estimate {} vs {exact}: ratio {ratio}",
+        sp.splitting
+    );
+}
