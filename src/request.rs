@@ -18,7 +18,8 @@
 //!
 //! - **levels**: ħ from the session's `quantum.hbar` at the current parameter
 //!   values (no `quantum` section, no levels); every center in view, in the
-//!   table's order, each with its own well; the core's level cap.
+//!   table's order, each with its own well, then every degenerate equilibrium
+//!   that is a minimum or maximum of H (the bottom of q⁴/4); the core's level cap.
 //!
 //! - **seeded orbits**: start, method and duration from the session; the
 //!   duration is the longest an orbit runs, and it stops once it has closed
@@ -34,7 +35,7 @@ use crate::core::continuation::{ContinuationError, Sweep, SweepConfig, SweepProg
 use crate::core::equilibria::{Equilibrium, EquilibriumKind, find_equilibria};
 use crate::core::folds::{FoldConfig, FoldCurves, FoldProgress, fold_curves};
 use crate::core::integrate::Method;
-use crate::core::levels::{LevelsConfig, WellLevels, levels};
+use crate::core::levels::{LevelsConfig, LevelsError, WellLevels, levels};
 use crate::core::orbit::OrbitRequest;
 use crate::core::system::System;
 use crate::core::window::Window;
@@ -79,6 +80,9 @@ pub struct LevelsRequest {
     pub hbar: f64,
     /// The centers of the wells, in the equilibria table's order.
     pub centers: Vec<[f64; 2]>,
+    /// Degenerate equilibria in view: each is a well when it is a minimum
+    /// or maximum of H (V = q⁴/4), and is left out silently otherwise.
+    pub degenerate: Vec<[f64; 2]>,
     pub cfg: LevelsConfig,
 }
 
@@ -182,6 +186,24 @@ pub fn centers_of(equilibria: &[Equilibrium]) -> Vec<[f64; 2]> {
         .collect()
 }
 
+/// The centers and the degenerate equilibria in `window`, as the portrait's
+/// analysis finds them (the same search with the session's analysis settings).
+pub fn centers_and_degenerate_in_view(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> (Vec<[f64; 2]>, Vec<[f64; 2]>) {
+    let cfg = session.analysis_config();
+    let found = find_equilibria(sys, window, &cfg.equilibria, cancel).0;
+    let degenerate = found
+        .iter()
+        .filter(|e| e.kind == EquilibriumKind::Degenerate)
+        .map(|e| [e.q, e.p])
+        .collect();
+    (centers_of(&found), degenerate)
+}
+
 /// The centers in `window` as the portrait's analysis finds them (the same
 /// equilibrium search with the session's analysis settings).
 pub fn centers_in_view(
@@ -190,8 +212,7 @@ pub fn centers_in_view(
     window: &Window,
     cancel: &Cancel,
 ) -> Vec<[f64; 2]> {
-    let cfg = session.analysis_config();
-    centers_of(&find_equilibria(sys, window, &cfg.equilibria, cancel).0)
+    centers_and_degenerate_in_view(session, sys, window, cancel).0
 }
 
 impl BackboneRequest {
@@ -251,8 +272,16 @@ impl LevelsRequest {
         Ok(session.hbar()?.map(|hbar| LevelsRequest {
             hbar,
             centers: in_view.to_vec(),
+            degenerate: Vec::new(),
             cfg: LevelsConfig::default(),
         }))
+    }
+
+    /// The same request with the degenerate equilibria in view added as
+    /// candidate wells.
+    pub fn with_degenerate(mut self, degenerate: &[[f64; 2]]) -> LevelsRequest {
+        self.degenerate = degenerate.to_vec();
+        self
     }
 
     /// The levels of each well, in the order of `centers`; a well the core
@@ -266,6 +295,16 @@ impl LevelsRequest {
         for &c in &self.centers {
             match levels(sys, c, window, self.hbar, &self.cfg, cancel) {
                 Ok(w) => out.wells.push(w),
+                Err(e) => out.refused.push(RefusedWell {
+                    center: c,
+                    problem: e.to_string(),
+                }),
+            }
+        }
+        for &c in &self.degenerate {
+            match levels(sys, c, window, self.hbar, &self.cfg, cancel) {
+                Ok(w) => out.wells.push(w),
+                Err(LevelsError::Well(BackboneError::NotACenter { .. })) => {}
                 Err(e) => out.refused.push(RefusedWell {
                     center: c,
                     problem: e.to_string(),

@@ -124,3 +124,34 @@ fn bad_hbar_and_missing_hbar_exit_2_with_a_message() {
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("no center in view"), "{}", stderr(&o));
 }
+
+#[test]
+fn a_degenerate_minimum_is_a_well_and_an_inflection_is_not() {
+    // H = p²/2 + q⁴/4: the bottom q = 0 is degenerate (V'' = 0) but a well;
+    // its levels follow Eₙ = [ħ(n + ½)/c]^(4/3), c = 4J/π with J = √2·K(½)/3
+    // (the closed form worked out in tests/levels.rs), K from the ellip crate.
+    let o = run(&[
+        "levels",
+        "--formula",
+        "p^2/2 + q^4/4",
+        "--hbar",
+        "0.5",
+        "--window",
+        "-3,3,-5,5",
+        "--json",
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON");
+    let levels = v["wells"][0]["levels"].as_array().expect("levels");
+    let c = 4.0 * 2.0_f64.sqrt() * ellip::ellipk(0.5).expect("K") / (3.0 * std::f64::consts::PI);
+    assert!(levels.len() > 10);
+    for (n, l) in levels.iter().enumerate() {
+        let exact = (0.5 * (n as f64 + 0.5) / c).powf(4.0 / 3.0);
+        let e = l["energy"].as_f64().expect("energy");
+        assert!((e - exact).abs() < 1e-10 * exact, "n = {n}: {e} vs {exact}");
+    }
+    // V = q³ has a degenerate point that is no well: nothing to quantize.
+    let o = run(&["levels", "--formula", "p^2/2 + q^3", "--hbar", "0.1"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("no center in view"), "{}", stderr(&o));
+}

@@ -18,7 +18,7 @@ use crate::core::system::System;
 use crate::core::window::Window;
 use crate::request::{
     BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
-    centers_in_view, seeded_orbit_request,
+    centers_and_degenerate_in_view, centers_in_view, seeded_orbit_request,
 };
 use crate::scene::{BackbonePlot, Rgb, Scene, short_number};
 use crate::session::Session;
@@ -277,16 +277,17 @@ pub fn levels_of(
     window: &Window,
     cancel: &Cancel,
 ) -> Result<LevelsResult, ViewError> {
-    let in_view = centers_in_view(session, sys, window, cancel);
-    let request = LevelsRequest::from_session(session, &in_view)
+    let (centers, degenerate) = centers_and_degenerate_in_view(session, sys, window, cancel);
+    let request = LevelsRequest::from_session(session, &centers)
         .map_err(|e| refused(View::Levels)(e.to_string()))?
-        .ok_or(ViewError::MissingSettings(View::Levels))?;
-    if in_view.is_empty() {
+        .ok_or(ViewError::MissingSettings(View::Levels))?
+        .with_degenerate(&degenerate);
+    let result = request.run(sys, window, cancel);
+    if result.wells.is_empty() && result.refused.is_empty() {
         return Err(refused(View::Levels)(
             "there is no center in view, so no well to quantize; widen the view".to_string(),
         ));
     }
-    let result = request.run(sys, window, cancel);
     if result.wells.is_empty() {
         let problems: Vec<String> = result
             .refused
