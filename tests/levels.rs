@@ -426,3 +426,32 @@ fn the_splitting_estimate_is_low_by_the_known_factor_against_the_quantum_splitti
         sp.splitting
     );
 }
+
+#[test]
+fn a_sheared_oscillator_takes_the_orbit_path_and_keeps_the_harmonic_levels() {
+    // H = ((p + q/2)² + q²)/2 is the oscillator p'²/2 + q²/2 after the
+    // canonical shear p' = p + q/2 (closed form), so Eₙ = ħ(n + ½); it is not
+    // separable, so the levels come from one period of the orbit on each
+    // level. The window's edge q = ±2 on p = 0 sets the top H = 2.5, so
+    // ⌈2.5/ħ − ½⌉ = 12 levels for ħ = 0.2 (I = E there).
+    let hbar = 0.2;
+    let l = run(
+        "((p + q/2)^2 + q^2)/2",
+        [0.0, 0.0],
+        [-2.0, 2.0, -3.0, 3.0],
+        hbar,
+    );
+    assert_eq!(l.method, BackboneMethod::Orbit);
+    assert_eq!(l.count, 12);
+    assert_eq!(l.levels.len(), 12, "{:?}", l.diagnostics);
+    for lv in &l.levels {
+        let exact = hbar * (lv.n as f64 + 0.5);
+        assert!(
+            rel(lv.energy, exact) < 1e-9,
+            "n = {}: {} vs {exact}",
+            lv.n,
+            lv.energy
+        );
+        assert_eq!(lv.turning_points, None);
+    }
+}

@@ -80,6 +80,11 @@ const TOP_MARGINS: [f64; 3] = [1e-12, 1e-9, 1e-6];
 /// not converge: close to a flat top, E − H(q) has lost digits to rounding.
 const LOOSER_TOLERANCES: [f64; 2] = [1e-11, 1e-9];
 
+/// Mirror symmetry about the barrier top holds to this fraction of its height.
+const MIRROR_TOL: f64 = 1e-9;
+/// Sample points of the mirror-symmetry check.
+const MIRROR_SAMPLES: usize = 24;
+
 /// The well's orbits at the configured quadrature tolerance, loosened once
 /// and for good (the rounding only grows towards the top) where it fails.
 struct Orbits<'w, 'a> {
@@ -102,10 +107,6 @@ impl Orbits<'_, '_> {
         None
     }
 }
-/// Mirror symmetry about the barrier top holds to this fraction of its height.
-const MIRROR_TOL: f64 = 1e-9;
-/// Sample points of the mirror-symmetry check.
-const MIRROR_SAMPLES: usize = 24;
 
 /// Settings of the level search.
 #[derive(Clone, Debug, PartialEq)]
@@ -244,11 +245,15 @@ pub fn levels(
     let [qc, _] = well.center();
     let top = well.top_depth();
     let mut tolerances = vec![cfg.well.tolerance];
-    tolerances.extend(
-        LOOSER_TOLERANCES
-            .iter()
-            .filter(|&&t| t > cfg.well.tolerance),
-    );
+    // Only the quadrature has a tolerance to loosen; an orbit that fails
+    // would fail again.
+    if well.method() == BackboneMethod::Quadrature {
+        tolerances.extend(
+            LOOSER_TOLERANCES
+                .iter()
+                .filter(|&&t| t > cfg.well.tolerance),
+        );
+    }
     let orbits = Orbits {
         well: &well,
         tolerances,
