@@ -18,44 +18,15 @@ use std::hint::black_box;
 
 #[path = "common/peers.rs"]
 mod peers;
-use std::time::Instant;
+#[path = "common/timing.rs"]
+mod timing;
+use timing::time_ms;
 
 const N: usize = 512;
 const LEVELS: usize = 24;
 const REPEAT: usize = 21;
 const MU: f64 = 1.0;
 const EPS: f64 = 0.05;
-
-/// Median and minimum wall time in ms over `repeat` runs after one warm-up.
-/// On a shared machine the median includes time-slicing by other processes;
-/// the minimum is closer to the cost of the work itself.
-fn time_ms(repeat: usize, mut f: impl FnMut()) -> Timing {
-    f();
-    let mut t: Vec<f64> = (0..repeat)
-        .map(|_| {
-            let s = Instant::now();
-            f();
-            s.elapsed().as_secs_f64() * 1e3
-        })
-        .collect();
-    t.sort_by(f64::total_cmp);
-    Timing {
-        median: t[t.len() / 2],
-        min: t[0],
-    }
-}
-
-#[derive(Clone, Copy)]
-struct Timing {
-    median: f64,
-    min: f64,
-}
-
-impl std::fmt::Display for Timing {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        write!(f, "{:8.3} ms (min {:7.3})", self.median, self.min)
-    }
-}
 
 fn main() {
     let sys = match System::from_source(

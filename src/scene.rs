@@ -9,6 +9,7 @@ use crate::core::backbone::Backbone;
 use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
+use crate::core::levels::WellLevels;
 use crate::core::system::System;
 use crate::numbers;
 
@@ -179,6 +180,13 @@ pub const GUIDE_WIDTH: f64 = 1.2;
 pub const BACKBONE_COLOUR: Rgb = Rgb(0x1f, 0x4f, 0x8c);
 /// Colour of a fold curve in the parameter plane.
 pub const FOLD_COLOUR: Rgb = Rgb(0x16, 0x7f, 0x8f);
+/// Colour of the potential curve under the levels.
+pub const POTENTIAL_COLOUR: Rgb = Rgb(0x2b, 0x2d, 0x42);
+/// Colour of a Bohr–Sommerfeld level.
+pub const QUANTUM_COLOUR: Rgb = Rgb(0xb0, 0x4a, 0x1e);
+pub const QUANTUM_WIDTH: f64 = 1.3;
+/// Samples of the potential curve across the window.
+const POTENTIAL_SAMPLES: usize = 600;
 /// Colour of guide lines (current parameter value, escape energy).
 pub const GUIDE_COLOUR: Rgb = MUTED;
 
@@ -216,6 +224,10 @@ pub enum CurveRole {
     Fold,
     /// A reference line (an escape energy, the current parameter value).
     Guide,
+    /// H along the line p = p_c through a well's center (the potential of a separable H).
+    Potential,
+    /// A Bohr–Sommerfeld level n, drawn between its turning points.
+    QuantumLevel { n: usize },
 }
 
 impl CurveRole {
@@ -234,6 +246,8 @@ impl CurveRole {
             CurveRole::Backbone => "backbone",
             CurveRole::Fold => "fold",
             CurveRole::Guide => "guide",
+            CurveRole::Potential => "potential",
+            CurveRole::QuantumLevel { .. } => "quantum-level",
         }
     }
 }
@@ -672,6 +686,11 @@ fn guide(points: Vec<[f64; 2]>) -> Curve {
     }
 }
 
+/// The legend entry of the dashed escape-energy guide.
+fn escape_entry() -> LegendEntry {
+    line_entry("escape energy".to_string(), GUIDE_COLOUR, GUIDE_WIDTH, true)
+}
+
 fn line_entry(label: String, colour: Rgb, width: f64, dashed: bool) -> LegendEntry {
     LegendEntry {
         label,
@@ -825,12 +844,7 @@ impl Scene {
             && let Some(e) = backbone.escape_energy.filter(|e| e.is_finite())
         {
             curves.push(guide(vec![[e, y.min], [e, y.max]]));
-            legend.push(line_entry(
-                "escape energy".to_string(),
-                GUIDE_COLOUR,
-                GUIDE_WIDTH,
-                true,
-            ));
+            legend.push(escape_entry());
         }
         // the well's size is the scale against which the center's
         // coordinates are rounding noise
@@ -844,6 +858,88 @@ impl Scene {
             title: title.to_string(),
             caption: caption_without(sys, &[], &tail),
             x,
+            y,
+            curves,
+            marks: Vec::new(),
+            colour_scale: None,
+            legend,
+        }
+    }
+
+    /// The ladder of Bohr–Sommerfeld levels: H(q, p_c) along the line through
+    /// the first well's center across the window's q range, each level of
+    /// every well as a horizontal segment between its turning points (across
+    /// the well's extent when they are not known), the escape energies as
+    /// dashed guides; energies up to a little above the highest top.
+    pub fn levels(sys: &System, wells: &[WellLevels], hbar: f64, q_range: [f64; 2]) -> Scene {
+        let pc = wells.first().map_or(0.0, |w| w.center[1]);
+        let [q0, q1] = q_range;
+        let potential: Vec<[f64; 2]> = (0..=POTENTIAL_SAMPLES)
+            .map(|i| {
+                let q = q0 + (q1 - q0) * i as f64 / POTENTIAL_SAMPLES as f64;
+                [q, sys.energy(q, pc)]
+            })
+            .filter(|p| p[1].is_finite())
+            .collect();
+        let energies = wells
+            .iter()
+            .flat_map(|w| [w.center_energy, w.top_energy])
+            .filter(|e| e.is_finite());
+        let mut y = fitted_axis("energy E", energies, (0.0, 1.0));
+        y.max += 0.1 * (y.max - y.min);
+        let mut curves = vec![Curve {
+            role: CurveRole::Potential,
+            points: potential,
+            closed: false,
+            colour: POTENTIAL_COLOUR,
+            width: BACKBONE_WIDTH,
+            dashed: false,
+            arrows: Vec::new(),
+        }];
+        let mut legend = vec![line_entry(
+            "H(q, p_c)".to_string(),
+            POTENTIAL_COLOUR,
+            BACKBONE_WIDTH,
+            false,
+        )];
+        let mut any_escape = false;
+        for w in wells {
+            let span = w.levels.last().and_then(|l| l.turning_points);
+            for l in &w.levels {
+                let [a, b] = l.turning_points.or(span).unwrap_or(q_range);
+                curves.push(Curve {
+                    role: CurveRole::QuantumLevel { n: l.n },
+                    points: vec![[a, l.energy], [b, l.energy]],
+                    closed: false,
+                    colour: QUANTUM_COLOUR,
+                    width: QUANTUM_WIDTH,
+                    dashed: false,
+                    arrows: Vec::new(),
+                });
+            }
+            if let Some(e) = w.escape_energy.filter(|e| e.is_finite()) {
+                curves.push(guide(vec![[q0, e], [q1, e]]));
+                any_escape = true;
+            }
+        }
+        let count: usize = wells.iter().map(|w| w.levels.len()).sum();
+        legend.push(line_entry(
+            format!("levels ({count})"),
+            QUANTUM_COLOUR,
+            QUANTUM_WIDTH,
+            false,
+        ));
+        if any_escape {
+            legend.push(escape_entry());
+        }
+        let tail = format!(
+            "\u{127} = {}; semiclassical estimates, not spectroscopic values",
+            numbers::caption(hbar)
+        );
+        Scene {
+            title: "Semiclassical levels in each well".to_string(),
+            caption: caption_without(sys, &[], &tail),
+            x: range_axis("q", q0, q1),
             y,
             curves,
             marks: Vec::new(),

@@ -246,3 +246,40 @@ fn shaken_lattice_has_no_threshold_without_damping() {
         assert_eq!(c.zeros.len(), 2, "two simple zeros per period");
     }
 }
+
+#[test]
+fn bond_ladder_binds_the_morse_count_of_levels() {
+    // Morse V = D(1 − e^(−a(q − r0)))², mass μ: E_n = ħω(n + ½) − [ħω(n + ½)]²/(4D),
+    // ω = a√(2D/μ), and ⌊√(2μD)/(aħ) + ½⌋ bound levels (P. M. Morse, Phys. Rev.
+    // 34 (1929) 57). The view reaches far enough right that all of them lie
+    // below the level where the well opens at its edge.
+    use phasewright::request::{LevelsRequest, centers_in_view};
+    let (s, _) = load("bond-ladder.json");
+    let (d, a, mu) = (param(&s, "D"), param(&s, "a"), param(&s, "mu"));
+    let hbar = s.hbar().expect("ħ").expect("a quantum section");
+    assert_eq!(hbar, param(&s, "h"));
+    let count = ((2.0 * mu * d).sqrt() / (a * hbar) + 0.5).floor() as usize;
+    assert_eq!(count, 12, "a dozen levels");
+    let sys = s.system().expect("system");
+    let centers = centers_in_view(&s, &sys, &s.view, &Cancel::never());
+    let req = LevelsRequest::from_session(&s, &centers)
+        .expect("ħ")
+        .expect("levels");
+    let out = req.run(&sys, &s.view, &Cancel::never());
+    assert!(out.refused.is_empty(), "{:?}", out.refused);
+    assert_eq!(out.wells.len(), 1);
+    let w = &out.wells[0];
+    assert_eq!(w.count, count);
+    assert_eq!(w.levels.len(), count);
+    let omega = a * (2.0 * d / mu).sqrt();
+    for l in &w.levels {
+        let x = hbar * omega * (l.n as f64 + 0.5);
+        assert!(
+            (l.energy - (x - x * x / (4.0 * d))).abs() < 1e-10,
+            "n = {}",
+            l.n
+        );
+    }
+    assert!(s.notes.contains("estimates"));
+    assert!(s.notes.contains("not spectroscopic values"));
+}

@@ -19,9 +19,10 @@ use proptest::prelude::*;
 use proptest::test_runner::{Config, FileFailurePersistence};
 use serde_json::Value;
 
-const EXAMPLES: [&str; 6] = [
+const EXAMPLES: [&str; 7] = [
     include_str!("../sessions/barrier-crossing.json"),
     include_str!("../sessions/biased-resonator.json"),
+    include_str!("../sessions/bond-ladder.json"),
     include_str!("../sessions/diatomic-bond.json"),
     include_str!("../sessions/imperfect-strut.json"),
     include_str!("../sessions/loaded-strut.json"),

@@ -701,6 +701,9 @@ fn views_of(session: &phasewright::session::Session) -> Vec<&'static str> {
     if session.folds.is_some() {
         views.push("folds");
     }
+    if session.quantum.is_some() {
+        views.push("levels");
+    }
     views
 }
 
@@ -732,6 +735,7 @@ fn render_command_draws_every_session_in_every_view_its_settings_allow() {
                 "portrait" => "level",
                 "diagram" => "branch",
                 "folds" => "fold",
+                "levels" => "quantum-level",
                 other => other,
             };
             let curves = doc
@@ -1005,4 +1009,51 @@ fn explorer_export_writes_the_same_bytes_as_the_render_command() {
     .unwrap_err();
     assert!(e.contains("no parameter"), "{e}");
     assert!(!target.exists());
+}
+
+#[test]
+fn levels_figure_draws_each_level_between_its_turning_points() {
+    // Harmonic oscillator H = p²/2 + q²/2, ħ = 0.25: Eₙ = ħ(n + ½) with
+    // turning points ±√(2Eₙ) (closed form); the window edge q = ±2 bounds
+    // the well at E = 2, so ⌈2/0.25 − ½⌉ = 8 levels.
+    use phasewright::render::{View, ViewData, view_data, view_scene};
+    use phasewright::scene::CurveRole;
+    let (mut s, _) = phasewright::session::Session::from_formula("p^2/2 + q^2/2").unwrap();
+    s.view = phasewright::core::window::Window::new(-2.0, 2.0, -3.0, 3.0).unwrap();
+    s.quantum = Some(phasewright::session::QuantumSettings {
+        hbar: "0.25".into(),
+    });
+    let sys = s.system().unwrap();
+    let cancel = phasewright::core::Cancel::never();
+    let data = view_data(
+        &s,
+        &sys,
+        &s.view,
+        View::Levels,
+        &Overrides::default(),
+        &cancel,
+    )
+    .unwrap();
+    assert!(matches!(data, ViewData::Levels(_)));
+    let scene = view_scene(&s, &sys, &data, View::Levels);
+    let levels: Vec<_> = scene
+        .curves
+        .iter()
+        .filter_map(|c| match c.role {
+            CurveRole::QuantumLevel { n } => Some((n, &c.points)),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(levels.len(), 8);
+    for (n, pts) in levels {
+        let e = 0.25 * (n as f64 + 0.5);
+        let q = (2.0 * e).sqrt();
+        assert!((pts[0][1] - e).abs() < 1e-12 && (pts[1][1] - e).abs() < 1e-12);
+        assert!(
+            (pts[0][0] + q).abs() < 1e-9 && (pts[1][0] - q).abs() < 1e-9,
+            "{pts:?}"
+        );
+    }
+    assert!(scene.caption.contains("not spectroscopic values"));
+    assert!(scene.curves.iter().any(|c| c.role == CurveRole::Potential));
 }

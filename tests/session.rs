@@ -469,6 +469,7 @@ fn session_strategy() -> impl Strategy<Value = Session> {
                 folds: None,
                 backbone: None,
                 drive: None,
+                quantum: None,
             },
         )
 }
@@ -768,4 +769,60 @@ fn unknown_fields_inside_analysis_settings_are_named() {
         w,
         vec!["backbone.centre: unknown field, ignored (check the spelling)"]
     );
+}
+
+/// GOOD with a `quantum` section whose ħ is `hbar`.
+fn with_hbar(hbar: &str) -> String {
+    bad(
+        r#""levels": { "count": 30"#,
+        &format!(r#""quantum": {{ "hbar": {hbar} }}, "levels": {{ "count": 30"#),
+    )
+}
+
+#[test]
+fn hbar_is_an_expression_over_the_parameters() {
+    // a = 1.0 and b = 0.1 in GOOD: 0.5*a + b = 0.6 (arithmetic).
+    let (s, w) = load(&with_hbar(r#""0.5*a + b""#)).expect("loads");
+    assert!(w.is_empty(), "{w:?}");
+    assert_eq!(s.hbar().expect("ħ"), Some(0.5 * 1.0 + 0.1));
+    let back = Session::from_json(&s.to_json_pretty()).expect("round trip");
+    assert_eq!(back, s);
+    // Without the section there is no ħ, and none is written.
+    let plain = Session::from_json(GOOD).expect("loads");
+    assert_eq!(plain.hbar().expect("no error"), None);
+    assert!(!plain.to_json_pretty().contains("quantum"));
+}
+
+#[test]
+fn a_parameter_used_only_by_hbar_is_not_unused() {
+    let text = with_hbar(r#""h""#).replace(
+        r#"{ "name": "b", "value": 0.1, "min": -1.0, "max": 1.0 }"#,
+        r#"{ "name": "b", "value": 0.1, "min": -1.0, "max": 1.0 },
+    { "name": "h", "value": 0.05, "min": 0.01, "max": 0.2 }"#,
+    );
+    let (s, w) = load(&text).expect("loads");
+    assert!(w.is_empty(), "{w:?}");
+    assert_eq!(s.hbar().expect("ħ"), Some(0.05));
+}
+
+#[test]
+fn bad_hbar_is_refused_with_its_field() {
+    for (hbar, problem) in [
+        (r#""0""#, "must be a positive number"),
+        (r#""-0.1""#, "must be a positive number"),
+        (r#""b - 1""#, "comes out as -0.9"),
+        (r#""ln(0)""#, "must be a positive number"),
+        (r#""0.1*q""#, "not q, p or t"),
+        (r#""0.1*t""#, "not q, p or t"),
+        (r#""0.1*k""#, "`k`, which is not a parameter"),
+        (r#""0.1 +""#, ""),
+        (r#""""#, "is empty"),
+    ] {
+        let e = error_of(&with_hbar(hbar));
+        assert_eq!(e.field, "quantum.hbar", "{hbar}: {e}");
+        assert!(e.problem.contains(problem), "{hbar}: {e}");
+    }
+    // A number where an expression in quotes is expected: named by its path.
+    let e = error_of(&with_hbar("0.1"));
+    assert_eq!(e.field, "quantum.hbar", "{e}");
 }

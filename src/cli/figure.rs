@@ -13,6 +13,8 @@ pub enum FigureView {
     Backbone,
     /// Saddle-node curves in the plane of two parameters (the session's folds, or --params/--box).
     Folds,
+    /// Bohr–Sommerfeld levels over H along the center's line (the session's quantum.hbar, or --hbar).
+    Levels,
 }
 
 /// Which relation a backbone figure plots.
@@ -47,6 +49,10 @@ pub struct RenderArgs {
     pub folds: FoldFlags,
     #[command(flatten)]
     pub backbone: BackboneFlags,
+    /// Levels: Planck's constant ħ, a number or an expression over the
+    /// parameters (default: the session's quantum.hbar).
+    #[arg(long, value_name = "EXPR", allow_hyphen_values = true)]
+    pub hbar: Option<String>,
     /// Portrait with -o FILE.csv or FILE.json: which table to write.
     #[arg(long, value_enum)]
     pub table: Option<PortraitTable>,
@@ -80,6 +86,7 @@ impl FigureView {
             FigureView::Portrait => View::Portrait,
             FigureView::Diagram => View::Diagram,
             FigureView::Folds => View::Folds,
+            FigureView::Levels => View::Levels,
             FigureView::Backbone => View::Backbone(match plot {
                 PlotArg::PeriodEnergy => BackbonePlot::PeriodEnergy,
                 PlotArg::FrequencyAmplitude => BackbonePlot::FrequencyAmplitude,
@@ -121,6 +128,7 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
             args.backbone.apply(&mut r.session)?;
             args.backbone.command()
         }
+        View::Levels => levels::apply_hbar(&mut r.session, args.hbar.as_deref(), "--view levels"),
         View::Portrait => "--view portrait".to_string(),
     };
     print_warnings(&r.warnings);

@@ -12,6 +12,7 @@ mod analyze;
 mod diagrams;
 mod drive;
 mod figure;
+mod levels;
 mod orbit;
 mod section;
 mod system;
@@ -21,6 +22,7 @@ pub use analyze::*;
 pub use diagrams::*;
 pub use drive::*;
 pub use figure::*;
+pub use levels::{LevelsArgs, run_levels};
 pub use orbit::*;
 pub use section::*;
 pub use system::*;
@@ -80,6 +82,8 @@ pub enum Command {
     Folds(FoldsArgs),
     /// Period, frequency, action and amplitude against energy in the well of a center.
     Backbone(BackboneArgs),
+    /// Semiclassical (Bohr–Sommerfeld) energy levels in each well, for a given ħ.
+    Levels(LevelsArgs),
     /// The Melnikov function of a driven, damped H along each separatrix of the undriven H:
     /// its zeros and the drive amplitude above which a chaotic layer is expected.
     Melnikov(MelnikovArgs),
@@ -121,6 +125,7 @@ pub fn run(command: &Command) -> Result<String, CliError> {
         Command::Sweep(args) => run_sweep(args),
         Command::Folds(args) => run_folds(args),
         Command::Backbone(args) => run_backbone(args),
+        Command::Levels(args) => run_levels(args),
         Command::Melnikov(args) => run_melnikov(args),
         Command::Section(args) => run_section(args),
         Command::Render(args) => run_render(args),
@@ -178,6 +183,9 @@ fn view_error(e: &ViewError, command: &str) -> CliError {
         ViewError::MissingSettings(View::Folds) => format!(
             "{command}: {e}; give --params NAME1,NAME2 --box A1,B1,A2,B2 or add the section to the session"
         ),
+        ViewError::MissingSettings(View::Levels) => {
+            format!("{command}: {e}; give --hbar EXPR or add the section to the session")
+        }
         ViewError::Refused { message, .. } => format!("{command}: {message}"),
         other => format!("{command}: {other}"),
     })

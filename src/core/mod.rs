@@ -8,6 +8,7 @@ pub mod equilibria;
 pub mod folds;
 pub mod formula;
 pub mod integrate;
+pub mod levels;
 pub mod melnikov;
 pub mod orbit;
 pub mod section;

@@ -16,8 +16,10 @@ use crate::core::folds::FoldCurves;
 use crate::core::orbit::{Orbit, integrate_orbit};
 use crate::core::system::System;
 use crate::core::window::Window;
+use crate::numbers;
 use crate::request::{
-    BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_in_view, seeded_orbit_request,
+    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
+    centers_and_degenerate_in_view, centers_in_view, seeded_orbit_request,
 };
 use crate::scene::{BackbonePlot, Rgb, Scene};
 use crate::session::Session;
@@ -125,6 +127,9 @@ pub enum View {
     Backbone(BackbonePlot),
     /// Saddle-node curves in the plane of two parameters (the session's `folds`).
     Folds,
+    /// The Bohr–Sommerfeld levels of every well in view over H along the
+    /// center's line p = p_c (the session's `quantum.hbar`).
+    Levels,
 }
 
 impl View {
@@ -135,6 +140,7 @@ impl View {
             View::Diagram => "diagram",
             View::Backbone(_) => "backbone",
             View::Folds => "folds",
+            View::Levels => "levels",
         }
     }
 }
@@ -146,6 +152,7 @@ pub enum ViewData {
     Diagram(Sweep),
     Backbone(Backbone),
     Folds(FoldCurves),
+    Levels(LevelsResult),
 }
 
 /// Why a view could not be made.
@@ -169,6 +176,9 @@ impl fmt::Display for ViewError {
             ViewError::MissingSettings(View::Folds) => f.write_str(
                 "the formula has fewer than two parameters with slider ranges for a fold plane",
             ),
+            ViewError::MissingSettings(View::Levels) => {
+                f.write_str("the session sets no ħ for the levels (quantum.hbar)")
+            }
             ViewError::MissingSettings(v) => write!(f, "the session has no {} settings", v.name()),
             ViewError::Refused { view, message } => write!(f, "{}: {message}", view.name()),
             ViewError::Figure(e) => write!(f, "{e}"),
@@ -198,6 +208,7 @@ pub fn view_data(
         View::Backbone(_) => {
             ViewData::Backbone(backbone_of(session, sys, window, overrides, cancel)?)
         }
+        View::Levels => ViewData::Levels(levels_of(session, sys, window, cancel)?),
     })
 }
 
@@ -266,6 +277,47 @@ pub fn backbone_of(
         .map_err(|e| refused(View::Backbone(BackbonePlot::default()))(e.to_string()))
 }
 
+/// The levels of every well in `window` for the session's ħ; refused when
+/// its expression is bad, when no center is in view, or when no well gives
+/// levels.
+pub fn levels_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<LevelsResult, ViewError> {
+    let (centers, degenerate) = centers_and_degenerate_in_view(session, sys, window, cancel);
+    let request = LevelsRequest::from_session(session, &centers)
+        .map_err(|e| refused(View::Levels)(e.to_string()))?
+        .ok_or(ViewError::MissingSettings(View::Levels))?
+        .with_degenerate(&degenerate);
+    let result = request.run(sys, window, cancel);
+    if result.wells.is_empty() && result.refused.is_empty() {
+        return Err(refused(View::Levels)(
+            "there is no center in view, so no well to quantize; widen the view".to_string(),
+        ));
+    }
+    if result.wells.is_empty() {
+        let problems: Vec<String> = result
+            .refused
+            .iter()
+            .map(|w| {
+                format!(
+                    "center q = {}, p = {}: {}",
+                    numbers::caption(w.center[0]),
+                    numbers::caption(w.center[1]),
+                    w.problem
+                )
+            })
+            .collect();
+        return Err(refused(View::Levels)(format!(
+            "no well gave levels; {}",
+            problems.join("; ")
+        )));
+    }
+    Ok(result)
+}
+
 /// The scene of computed view data, with the session's current parameter
 /// values as guides (diagram, folds) and its title (portrait).
 pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) -> Scene {
@@ -284,6 +336,12 @@ pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) 
             };
             Scene::backbone(sys, b, plot)
         }
+        ViewData::Levels(l) => Scene::levels(
+            sys,
+            &l.wells,
+            l.hbar,
+            [session.view.qmin, session.view.qmax],
+        ),
     }
 }
 
@@ -318,6 +376,7 @@ pub fn view_table(sys: &System, data: &ViewData, which: PortraitTable) -> Table 
             table::folds_table(f).with_parameters(&others(&params, &[&f.params[0], &f.params[1]]))
         }
         ViewData::Backbone(b) => table::backbone_table(b).with_parameters(&params),
+        ViewData::Levels(l) => table::levels_table(l).with_parameters(&params),
     }
 }
 

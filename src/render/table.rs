@@ -15,6 +15,7 @@ use crate::core::wells::ConnectionKind;
 use crate::core::wells::Well;
 use crate::core::window::Window;
 use crate::numbers;
+use crate::request::LevelsResult;
 use crate::scene::kind_name;
 use serde_json::{Map, Value};
 
@@ -417,6 +418,43 @@ pub fn melnikov_table(m: &Melnikov) -> Table {
                 t0.into(),
                 mv.into(),
                 (m.amplitude_value * mv - m.damping * c.damping_integral).into(),
+            ]);
+        }
+    }
+    t
+}
+
+/// One row per level of every well: the well's number and center, n, Eₙ,
+/// Eₙ − E₀, the spacing Eₙ₊₁ − Eₙ, the period, and on the n = 0 row the
+/// tunnelling splitting when it applies.
+pub fn levels_table(result: &LevelsResult) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("well"),
+        Column::plain("center_q"),
+        Column::plain("center_p"),
+        Column::plain("n"),
+        Column::plain("energy"),
+        Column::new("above_lowest", "energy - E0"),
+        Column::plain("spacing"),
+        Column::plain("period"),
+        Column::plain("splitting"),
+    ]);
+    for (i, w) in result.wells.iter().enumerate() {
+        let e0 = w.levels.first().map_or(0.0, |l| l.energy);
+        for l in &w.levels {
+            let split = (l.n == 0)
+                .then(|| w.splitting.map(|s| s.splitting))
+                .flatten();
+            t.push(vec![
+                i.into(),
+                w.center[0].into(),
+                w.center[1].into(),
+                l.n.into(),
+                l.energy.into(),
+                (l.energy - e0).into(),
+                l.spacing.into(),
+                l.period.into(),
+                split.into(),
             ]);
         }
     }

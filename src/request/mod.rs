@@ -16,6 +16,11 @@
 //!   no saved center, the center the user selected, else the first center in
 //!   view (equilibria in the table's order).
 //!
+//! - **levels**: ħ from the session's `quantum.hbar` at the current parameter
+//!   values (no `quantum` section, no levels); every center in view, in the
+//!   table's order, each with its own well, then every degenerate equilibrium
+//!   that is a minimum or maximum of H (the bottom of q⁴/4); the core's level cap.
+//!
 //! - **seeded orbits**: start, method and duration from the session; the
 //!   duration is the longest an orbit runs, and it stops once it has closed
 //!   (one period is the whole closed curve), in the explorer and in figures;
@@ -34,10 +39,11 @@ use crate::core::continuation::{ContinuationError, Sweep, SweepConfig, SweepProg
 use crate::core::equilibria::{Equilibrium, EquilibriumKind, find_equilibria};
 use crate::core::folds::{FoldConfig, FoldCurves, FoldProgress, fold_curves};
 use crate::core::integrate::Method;
+use crate::core::levels::{LevelsConfig, LevelsError, WellLevels, levels};
 use crate::core::orbit::OrbitRequest;
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::session::{Parameter, SeededOrbit, Session};
+use crate::session::{Parameter, SeededOrbit, Session, SessionError};
 
 /// What a front end knows beyond the saved session: things the user pointed
 /// at that are not saved.
@@ -70,6 +76,18 @@ pub struct FoldsRequest {
 pub struct BackboneRequest {
     pub center: [f64; 2],
     pub cfg: BackboneConfig,
+}
+
+/// The Bohr–Sommerfeld levels of every well in view.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LevelsRequest {
+    pub hbar: f64,
+    /// The centers of the wells, in the equilibria table's order.
+    pub centers: Vec<[f64; 2]>,
+    /// Degenerate equilibria in view: each is a well when it is a minimum
+    /// or maximum of H (V = q⁴/4), and is left out silently otherwise.
+    pub degenerate: Vec<[f64; 2]>,
+    pub cfg: LevelsConfig,
 }
 
 /// The slider range of parameter `name`, if listed.
@@ -172,6 +190,24 @@ pub fn centers_of(equilibria: &[Equilibrium]) -> Vec<[f64; 2]> {
         .collect()
 }
 
+/// The centers and the degenerate equilibria in `window`, as the portrait's
+/// analysis finds them (the same search with the session's analysis settings).
+pub fn centers_and_degenerate_in_view(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> (Vec<[f64; 2]>, Vec<[f64; 2]>) {
+    let cfg = session.analysis_config();
+    let found = find_equilibria(sys, window, &cfg.equilibria, cancel).0;
+    let degenerate = found
+        .iter()
+        .filter(|e| e.kind == EquilibriumKind::Degenerate)
+        .map(|e| [e.q, e.p])
+        .collect();
+    (centers_of(&found), degenerate)
+}
+
 /// The centers in `window` as the portrait's analysis finds them (the same
 /// equilibrium search with the session's analysis settings).
 pub fn centers_in_view(
@@ -180,8 +216,7 @@ pub fn centers_in_view(
     window: &Window,
     cancel: &Cancel,
 ) -> Vec<[f64; 2]> {
-    let cfg = session.analysis_config();
-    centers_of(&find_equilibria(sys, window, &cfg.equilibria, cancel).0)
+    centers_and_degenerate_in_view(session, sys, window, cancel).0
 }
 
 impl BackboneRequest {
@@ -227,6 +262,77 @@ impl BackboneRequest {
     ) -> Result<Backbone, BackboneError> {
         backbone(sys, self.center, window, &self.cfg, cancel, progress)
     }
+}
+
+impl LevelsRequest {
+    /// The levels `session` describes, given the centers in view (in the
+    /// table's order): `Ok(None)` when the session sets no ħ, an error
+    /// naming `quantum.hbar` when its expression is bad at the current
+    /// parameter values.
+    pub fn from_session(
+        session: &Session,
+        in_view: &[[f64; 2]],
+    ) -> Result<Option<LevelsRequest>, SessionError> {
+        Ok(session.hbar()?.map(|hbar| LevelsRequest {
+            hbar,
+            centers: in_view.to_vec(),
+            degenerate: Vec::new(),
+            cfg: LevelsConfig::default(),
+        }))
+    }
+
+    /// The same request with the degenerate equilibria in view added as
+    /// candidate wells.
+    pub fn with_degenerate(mut self, degenerate: &[[f64; 2]]) -> LevelsRequest {
+        self.degenerate = degenerate.to_vec();
+        self
+    }
+
+    /// The levels of each well, in the order of `centers`; a well the core
+    /// refuses is listed with its reason.
+    pub fn run(&self, sys: &System, window: &Window, cancel: &Cancel) -> LevelsResult {
+        let mut out = LevelsResult {
+            hbar: self.hbar,
+            wells: Vec::new(),
+            refused: Vec::new(),
+        };
+        for &c in &self.centers {
+            match levels(sys, c, window, self.hbar, &self.cfg, cancel) {
+                Ok(w) => out.wells.push(w),
+                Err(e) => out.refused.push(RefusedWell {
+                    center: c,
+                    problem: e.to_string(),
+                }),
+            }
+        }
+        for &c in &self.degenerate {
+            match levels(sys, c, window, self.hbar, &self.cfg, cancel) {
+                Ok(w) => out.wells.push(w),
+                Err(LevelsError::Well(BackboneError::NotACenter { .. })) => {}
+                Err(e) => out.refused.push(RefusedWell {
+                    center: c,
+                    problem: e.to_string(),
+                }),
+            }
+        }
+        out
+    }
+}
+
+/// The levels of every well in view.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct LevelsResult {
+    pub hbar: f64,
+    pub wells: Vec<WellLevels>,
+    /// Centers whose well gave no levels, with the reason.
+    pub refused: Vec<RefusedWell>,
+}
+
+/// A center whose levels could not be computed.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct RefusedWell {
+    pub center: [f64; 2],
+    pub problem: String,
 }
 
 /// The core's request for a seeded orbit drawn over `view` (see the module's

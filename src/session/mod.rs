@@ -98,6 +98,17 @@ pub struct Session {
     /// A periodic drive with light damping, if set (see [`drive`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub drive: Option<DriveSettings>,
+    /// Planck's constant for the semiclassical levels of each well, if set.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub quantum: Option<QuantumSettings>,
+}
+
+/// The semiclassical (Bohr–Sommerfeld) levels of the wells.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct QuantumSettings {
+    /// ħ as an expression over the parameters ("0.1", "h", "0.05*sqrt(k)"),
+    /// without q, p or t; it must come out as a positive number.
+    pub hbar: String,
 }
 
 /// The sweep of one parameter: which, over what range, how finely.
@@ -303,6 +314,9 @@ fn field_template() -> serde_json::Value {
         periods: Some(1),
         lattice: Some(1),
         enabled: false,
+    });
+    s.quantum = Some(QuantumSettings {
+        hbar: String::new(),
     });
     serde_json::to_value(&s).unwrap_or(serde_json::Value::Null)
 }
@@ -564,6 +578,7 @@ impl Session {
             folds: None,
             backbone: None,
             drive: None,
+            quantum: None,
         }
     }
 
@@ -625,6 +640,7 @@ impl Session {
         self.validate_folds(&formula, &mut warnings)?;
         self.validate_backbone(&mut warnings)?;
         self.validate_drive(&formula, &mut warnings)?;
+        self.hbar()?;
         Ok(warnings)
     }
 
@@ -677,7 +693,10 @@ impl Session {
                      parameter has no effect; rename it in the formula and here",
                     p.name
                 ));
-            } else if formula.param_index(&p.name).is_none() && !drive_names.contains(&p.name) {
+            } else if formula.param_index(&p.name).is_none()
+                && !drive_names.contains(&p.name)
+                && !self.hbar_uses(&p.name)
+            {
                 warnings.push(format!(
                     "parameters[{i}]: `{}` does not appear in the formula and has no effect",
                     p.name
@@ -900,6 +919,64 @@ impl Session {
             }
         }
         Ok(())
+    }
+
+    /// Whether the ħ expression names parameter `name` (a parameter may exist
+    /// for ħ alone).
+    fn hbar_uses(&self, name: &str) -> bool {
+        self.quantum
+            .as_ref()
+            .and_then(|q| Formula::compile(&q.hbar).ok())
+            .is_some_and(|f| f.param_index(name).is_some())
+    }
+
+    /// ħ for the semiclassical levels: the `quantum.hbar` expression at this
+    /// session's parameter values; `None` without a `quantum` section. An
+    /// expression that does not compile, names q, p, t or a parameter the
+    /// session does not list, or is not a positive number is refused.
+    pub fn hbar(&self) -> Result<Option<f64>, SessionError> {
+        let Some(qs) = &self.quantum else {
+            return Ok(None);
+        };
+        let field = "quantum.hbar";
+        if qs.hbar.trim().is_empty() {
+            return Err(SessionError::new(
+                field,
+                "is empty; give Planck's constant, e.g. \"0.1\", or an expression over the parameters",
+            ));
+        }
+        let f = Formula::compile(&qs.hbar).map_err(|e| SessionError::new(field, e.to_string()))?;
+        if f.uses_q() || f.uses_p() || f.uses_t() {
+            return Err(SessionError::new(
+                field,
+                "may use the parameters but not q, p or t",
+            ));
+        }
+        let mut slots = vec![0.0; 3];
+        for name in f.params() {
+            match self.parameter(name) {
+                Some(p) => slots.push(p.value),
+                None => {
+                    return Err(SessionError::new(
+                        field,
+                        format!(
+                            "uses `{name}`, which is not a parameter of this session (list it under parameters)"
+                        ),
+                    ));
+                }
+            }
+        }
+        let h = f.eval_f64(&slots);
+        if !(h.is_finite() && h > 0.0) {
+            return Err(SessionError::new(
+                field,
+                format!(
+                    "`{}` comes out as {h} with the current parameter values; ħ must be a positive number",
+                    qs.hbar
+                ),
+            ));
+        }
+        Ok(Some(h))
     }
 
     /// Sweep settings for the core: the defaults with this session's longest step.

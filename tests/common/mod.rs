@@ -19,3 +19,19 @@ pub fn window(qmin: f64, qmax: f64, pmin: f64, pmax: f64) -> Window {
         Err(e) => panic!("test window: {e}"),
     }
 }
+
+/// The built binary run with `args`.
+pub fn run_binary(args: &[&str]) -> std::process::Output {
+    match std::process::Command::new(env!("CARGO_BIN_EXE_phasewright"))
+        .args(args)
+        .output()
+    {
+        Ok(o) => o,
+        Err(e) => panic!("the binary does not run: {e}"),
+    }
+}
+
+/// What a run printed on stderr.
+pub fn stderr_of(o: &std::process::Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
