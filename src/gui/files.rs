@@ -43,6 +43,10 @@ pub const EXAMPLES: &[(&str, &str)] = &[
         include_str!("../../sessions/tilted-lattice.json"),
     ),
     (
+        "bond-ladder.json",
+        include_str!("../../sessions/bond-ladder.json"),
+    ),
+    (
         "driven-resonator.json",
         include_str!("../../sessions/driven-resonator.json"),
     ),
