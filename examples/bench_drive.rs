@@ -147,7 +147,7 @@ fn main() {
         return;
     }
     let out = Command::new("python3").arg(&peer).output();
-    let Ok(out) = out.filter(|o| o.status.success()) else {
+    let Some(out) = out.ok().filter(|o| o.status.success()) else {
         println!(
             "peer: python3 {} did not run (numpy installed?)",
             peer.display()

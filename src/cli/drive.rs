@@ -59,6 +59,21 @@ impl DriveFlags {
     }
 }
 
+/// The system with the drive flags put into its session; the warning that
+/// a formula in t is frozen is dropped once a drive is given.
+pub(super) fn resolve_driven(
+    system: &SystemArgs,
+    drive: &DriveFlags,
+) -> Result<Resolved, CliError> {
+    let mut r = system.resolve()?;
+    drive.apply(&mut r.session)?;
+    if r.session.drive.is_some() {
+        r.warnings
+            .retain(|w| w != crate::session::drive::FROZEN_TIME_WARNING);
+    }
+    Ok(r)
+}
+
 /// Arguments of `melnikov`.
 #[derive(Debug, Clone, Args)]
 pub struct MelnikovArgs {
@@ -74,12 +89,7 @@ pub struct MelnikovArgs {
 /// `melnikov`: M(t₀) along every separatrix connection of the undriven H,
 /// its zeros and the threshold drive amplitude.
 pub fn run_melnikov(args: &MelnikovArgs) -> Result<String, CliError> {
-    let mut r = args.system.resolve()?;
-    args.drive.apply(&mut r.session)?;
-    if r.session.drive.is_some() {
-        r.warnings
-            .retain(|w| w != crate::session::drive::FROZEN_TIME_WARNING);
-    }
+    let r = resolve_driven(&args.system, &args.drive)?;
     print_warnings(&r.warnings);
     let m = melnikov_of(&r.session, &r.system, &r.window, &Cancel::never())
         .map_err(|e| CliError(format!("melnikov: {e}")))?;

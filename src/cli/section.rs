@@ -68,12 +68,7 @@ pub fn parse_starts(text: &str, view: &Window) -> Result<Vec<[f64; 2]>, CliError
 
 /// `section`: the drive-period map iterated from every start.
 pub fn run_section(args: &SectionArgs) -> Result<String, CliError> {
-    let mut r = args.system.resolve()?;
-    args.drive.apply(&mut r.session)?;
-    if r.session.drive.is_some() {
-        r.warnings
-            .retain(|w| w != crate::session::drive::FROZEN_TIME_WARNING);
-    }
+    let mut r = resolve_driven(&args.system, &args.drive)?;
     if let (Some(n), Some(d)) = (args.periods, r.session.drive.as_mut()) {
         if !(1..=crate::session::drive::MAX_SECTION_PERIODS).contains(&n) {
             return Err(CliError(format!(

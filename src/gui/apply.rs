@@ -366,19 +366,12 @@ impl Explorer {
         let Some(f) = &self.jobs.compiled else {
             return Vec::new();
         };
-        // the drive's expressions may name parameters H does not
-        let drive = self
-            .doc
-            .session
-            .drive
-            .as_ref()
-            .map(crate::session::drive::expression_parameters)
-            .unwrap_or_default();
-        self.doc
-            .session
+        // the drive's expressions and ħ may name parameters H does not
+        let session = &self.doc.session;
+        session
             .parameters
             .iter()
-            .filter(|p| !f.params().contains(&p.name) && !drive.contains(&p.name))
+            .filter(|p| !f.params().contains(&p.name) && !session.expressions_use(&p.name))
             .map(|p| p.name.clone())
             .collect()
     }

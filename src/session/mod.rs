@@ -649,11 +649,6 @@ impl Session {
         formula: &Formula,
         warnings: &mut Vec<String>,
     ) -> Result<(), SessionError> {
-        let drive_names = self
-            .drive
-            .as_ref()
-            .map(drive::expression_parameters)
-            .unwrap_or_default();
         for (i, p) in self.parameters.iter().enumerate() {
             let at = |f: &str| format!("parameters[{i}].{f}");
             if p.name.trim().is_empty() {
@@ -693,10 +688,7 @@ impl Session {
                      parameter has no effect; rename it in the formula and here",
                     p.name
                 ));
-            } else if formula.param_index(&p.name).is_none()
-                && !drive_names.contains(&p.name)
-                && !self.hbar_uses(&p.name)
-            {
+            } else if formula.param_index(&p.name).is_none() && !self.expressions_use(&p.name) {
                 warnings.push(format!(
                     "parameters[{i}]: `{}` does not appear in the formula and has no effect",
                     p.name
@@ -923,6 +915,17 @@ impl Session {
 
     /// Whether the ħ expression names parameter `name` (a parameter may exist
     /// for ħ alone).
+    /// True when a parameter is named by one of the session's expressions
+    /// other than H (the drive's period, damping and amplitude, ħ): it
+    /// counts as used even when H does not name it.
+    pub fn expressions_use(&self, name: &str) -> bool {
+        self.hbar_uses(name)
+            || self
+                .drive
+                .as_ref()
+                .is_some_and(|d| drive::expression_parameters(d).iter().any(|n| n == name))
+    }
+
     fn hbar_uses(&self, name: &str) -> bool {
         self.quantum
             .as_ref()
