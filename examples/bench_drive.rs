@@ -5,7 +5,8 @@
 //!
 //!   cargo run --release --example bench_drive
 //!
-//! `PHASEWRIGHT_BENCH_NO_PYTHON=1` skips the peer.
+//! `PHASEWRIGHT_BENCH_NO_PYTHON=1` skips the peer; `PHASEWRIGHT_DRIVE_PEER`
+//! names another path for it. The peer needs NumPy (`python3 -m pip install numpy`).
 
 use phasewright::core::Cancel;
 use phasewright::core::integrate::Method;
@@ -141,7 +142,11 @@ fn main() {
     if std::env::var_os("PHASEWRIGHT_BENCH_NO_PYTHON").is_some() {
         return;
     }
-    let peer = Path::new(env!("CARGO_MANIFEST_DIR")).join("../shared/bench/drive_peer.py");
+    let peer = std::env::var_os("PHASEWRIGHT_DRIVE_PEER")
+        .map(std::path::PathBuf::from)
+        .unwrap_or_else(|| {
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("../shared/bench/drive_peer.py")
+        });
     if !peer.exists() {
         println!("peer: {} not found; skipped", peer.display());
         return;
