@@ -21,12 +21,13 @@
 
 use super::Cancel;
 use super::equilibria::{Equilibrium, saddle_directions};
+use super::formula::{SLOT_P, SLOT_Q};
 use super::integrate::{Integrator, Method, State};
 use super::system::System;
 use super::wells::{Connection, ConnectionKind};
 
 /// Time step as a fraction of 1/λ (λ the saddle's eigenvalue).
-const STEP_PER_LAMBDA: f64 = 0.01;
+const STEP_PER_LAMBDA: f64 = 0.02;
 /// The nonlinear flow stops this close to the saddle (relative to the scale).
 const STOP_REL: f64 = 1e-5;
 /// The linearised tail stops at this relative distance.
@@ -109,6 +110,27 @@ impl Melnikov {
     }
 }
 
+/// True when H is affine in parameter `k` (checked at a few points and times).
+fn is_affine_in(sys: &System, k: usize) -> bool {
+    const POINTS: [(f64, f64); 3] = [(0.3, 0.7), (-1.1, 0.4), (0.9, -1.3)];
+    const TIMES: [f64; 3] = [0.37, 1.9, 5.3];
+    let (off, one, two) = (
+        sys.with_param(k, 0.0),
+        sys.with_param(k, 1.0),
+        sys.with_param(k, 2.0),
+    );
+    POINTS.iter().all(|&(q, p)| {
+        TIMES.iter().all(|&t| {
+            let (h0, h1, h2) = (
+                off.energy_t(q, p, t),
+                one.energy_t(q, p, t),
+                two.energy_t(q, p, t),
+            );
+            (h2 - 2.0 * h1 + h0).abs() <= 1e-12 * (1.0 + h0.abs().max(h1.abs()).max(h2.abs()))
+        })
+    })
+}
+
 /// The parameter that switches the drive off: the only one in which H is
 /// affine and whose value 0 leaves H independent of t (for
 /// `… − F*q*cos(W*t)` that is F, not W: W = 0 also removes t, but H is not
@@ -125,23 +147,11 @@ pub fn drive_amplitude_parameter(sys: &System) -> Result<String, String> {
     let mut found = Vec::new();
     for (k, name) in names.iter().enumerate() {
         let off = sys.with_param(k, 0.0);
-        let one = sys.with_param(k, 1.0);
-        let two = sys.with_param(k, 2.0);
         let autonomous = POINTS.iter().all(|&(q, p)| {
             let a = off.energy_t(q, p, 0.0);
             TIMES.iter().all(|&t| close(a, off.energy_t(q, p, t)))
         });
-        let affine = POINTS.iter().all(|&(q, p)| {
-            TIMES.iter().all(|&t| {
-                let (h0, h1, h2) = (
-                    off.energy_t(q, p, t),
-                    one.energy_t(q, p, t),
-                    two.energy_t(q, p, t),
-                );
-                close(h2 - h1, h1 - h0)
-            })
-        });
-        if autonomous && affine {
+        if autonomous && is_affine_in(sys, k) {
             found.push(name.clone());
         }
     }
@@ -201,6 +211,14 @@ pub fn melnikov(
             }
         }
     }
+    let sys1 = sys.with_param(idx, 1.0);
+    let affine = is_affine_in(sys, idx).then(|| {
+        let f = sys1.formula();
+        (
+            f.derivative_program(SLOT_Q, sys1.params()),
+            f.derivative_program(SLOT_P, sys1.params()),
+        )
+    });
     let mut out = Vec::new();
     for c in connections {
         if cancel.is_cancelled() {
@@ -214,15 +232,40 @@ pub fn melnikov(
             .iter()
             .map(|&(q, p, _, w)| w * sys0.dh_dp(q, p, 0.0).1.powi(2))
             .sum();
-        let m = |t0: f64| -> f64 {
-            orbit
+        // {H₀, H₁} at (x₀(s), s + t₀). When H is affine in the amplitude,
+        // H₁'s gradient is that of H at amplitude 1 less that of H₀, so the
+        // straight-line derivative programs serve, with H₀'s gradient (free
+        // of t) taken once per point; otherwise the parameter jets give ∂/∂F.
+        let fast = affine.as_ref().map(|(dq1, dp1)| {
+            let g0: Vec<[f64; 2]> = orbit
                 .pts
                 .iter()
-                .map(|&(q, p, s, w)| {
-                    let j = sys0.frozen_at(s + t0).param_jet(q, p, idx);
-                    w * (j.grad[0] * j.hess[1][2] - j.grad[1] * j.hess[0][2])
-                })
-                .sum()
+                .map(|&(q, p, _, _)| sys0.gradient(q, p))
+                .collect();
+            (dq1, dp1, g0)
+        });
+        let m = |t0: f64| -> f64 {
+            match &fast {
+                Some((dq1, dp1, g0)) => orbit
+                    .pts
+                    .iter()
+                    .zip(g0)
+                    .map(|(&(q, p, s, w), g)| {
+                        let t = s + t0;
+                        let h1q = dq1.eval(q, p, t) - g[0];
+                        let h1p = dp1.eval(q, p, t) - g[1];
+                        w * (g[0] * h1p - g[1] * h1q)
+                    })
+                    .sum(),
+                None => orbit
+                    .pts
+                    .iter()
+                    .map(|&(q, p, s, w)| {
+                        let j = sys0.frozen_at(s + t0).param_jet(q, p, idx);
+                        w * (j.grad[0] * j.hess[1][2] - j.grad[1] * j.hess[0][2])
+                    })
+                    .sum(),
+            }
         };
         let samples: Vec<[f64; 2]> = (0..SAMPLES)
             .map(|k| {
