@@ -172,3 +172,39 @@ fn bad_requests_are_refused_with_a_message() {
     .unwrap_err();
     assert!(e.contains("damping"), "{e}");
 }
+
+/// A seeded orbit of a session with a damped drive section feels the
+/// damping, in figures as in the explorer (both build it through
+/// `seeded_orbit_request`): the orbit of q'' + δq' + q = 0 ends on the
+/// underdamped closed form (common practice).
+#[test]
+fn seeded_orbits_feel_the_sessions_damping() {
+    use phasewright::session::{DriveSettings, SeededOrbit, Session};
+    let mut s = Session::blank("p^2/2 + q^2/2");
+    s.view = Window::new(-2.0, 2.0, -2.0, 2.0).unwrap();
+    s.orbits.push(SeededOrbit {
+        q0: 1.2,
+        p0: -0.4,
+        duration: 15.0,
+        method: "gauss6".into(),
+        colour: None,
+    });
+    s.drive = Some(DriveSettings {
+        period: "1".into(),
+        damping: Some("0.3".into()),
+        enabled: true,
+        ..DriveSettings::default()
+    });
+    s.validate().unwrap();
+    assert_eq!(s.damping(), 0.3);
+    let sys = s.system().unwrap();
+    let data = phasewright::render::portrait_data(&s, &sys, &s.view, &Cancel::never());
+    let last = data.orbits[0].samples.last().copied().unwrap();
+    let (q0, p0, d) = (1.2, -0.4, 0.3);
+    let w = (1.0 - d * d / 4.0_f64).sqrt();
+    let t = last.t;
+    let b = (p0 + d * q0 / 2.0) / w;
+    let q = (-d * t / 2.0).exp() * (q0 * (w * t).cos() + b * (w * t).sin());
+    assert!(t > 14.0, "ran its duration: {t}");
+    assert!((last.q - q).abs() < 1e-6, "q({t}) = {} vs {q}", last.q);
+}

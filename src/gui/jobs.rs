@@ -95,6 +95,7 @@ impl Jobs {
             levels: session.levels.count,
             refine: session.levels.refine && !coarse,
             orbits: session.orbits.clone(),
+            damping: session.damping(),
         };
         if self
             .last_spec

@@ -38,9 +38,10 @@ pub fn integrate(
     sys: &System,
     seeded: &SeededOrbit,
     window: &Window,
+    damping: f64,
     cancel: &Cancel,
 ) -> OrbitOutcome {
-    let req = match crate::request::seeded_orbit_request(seeded, window) {
+    let req = match crate::request::seeded_orbit_request(seeded, window, damping) {
         Ok(r) => r,
         Err(why) => return refused(sys, seeded, why),
     };

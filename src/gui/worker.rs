@@ -31,6 +31,8 @@ pub struct JobSpec {
     pub levels: usize,
     pub refine: bool,
     pub orbits: Vec<SeededOrbit>,
+    /// The damping rate the orbits feel (the session's drive).
+    pub damping: f64,
 }
 
 /// One unit of work for the worker.
@@ -196,8 +198,15 @@ fn worker_loop(
     repaint: Arc<Mutex<Option<egui::Context>>>,
 ) {
     let mut last_analysis: Option<(JobSpec, Arc<Analysis>)> = None;
-    let mut last_orbits: Vec<(String, Vec<f64>, SeededOrbit, Window, Arc<OrbitOutcome>)> =
-        Vec::new();
+    type Reuse = (
+        String,
+        Vec<f64>,
+        f64,
+        SeededOrbit,
+        Window,
+        Arc<OrbitOutcome>,
+    );
+    let mut last_orbits: Vec<Reuse> = Vec::new();
     while let Ok(mut job) = jobs.recv() {
         // Only the newest pending job matters.
         while let Ok(newer) = jobs.try_recv() {
@@ -233,25 +242,28 @@ fn worker_loop(
             // integrated again for this one (the bounds follow pan and zoom).
             let reused = last_orbits
                 .iter()
-                .find(|(src, params, s, window, o)| {
+                .find(|(src, params, damping, s, window, o)| {
                     src == &job.spec.source
                         && params == &job.spec.params
+                        && *damping == job.spec.damping
                         && s == seeded
                         && (!o.view_bound || *window == job.spec.window)
                 })
-                .map(|o| o.4.clone());
+                .map(|o| o.5.clone());
             let outcome = match reused {
                 Some(o) => o,
                 None => Arc::new(integrate(
                     &job.system,
                     seeded,
                     &job.spec.window,
+                    job.spec.damping,
                     &job.cancel,
                 )),
             };
             fresh.push((
                 job.spec.source.clone(),
                 job.spec.params.clone(),
+                job.spec.damping,
                 seeded.clone(),
                 job.spec.window,
                 outcome.clone(),

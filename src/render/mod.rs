@@ -47,7 +47,7 @@ pub fn portrait_data(
     let mut orbits = Vec::new();
     let mut colours = Vec::new();
     for seed in &session.orbits {
-        let Ok(req) = seeded_orbit_request(seed, window) else {
+        let Ok(req) = seeded_orbit_request(seed, window, session.damping()) else {
             continue;
         };
         orbits.push(integrate_orbit(sys, &req, cancel));

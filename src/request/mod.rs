@@ -21,7 +21,8 @@
 //!   table's order, each with its own well, then every degenerate equilibrium
 //!   that is a minimum or maximum of H (the bottom of q⁴/4); the core's level cap.
 //!
-//! - **seeded orbits**: start, method and duration from the session; the
+//! - **seeded orbits**: start, method and duration from the session, the
+//!   damping of its drive section (none without one); the
 //!   duration is the longest an orbit runs, and it stops once it has closed
 //!   (one period is the whole closed curve), in the explorer and in figures;
 //!   the bounds are the default ones around the view.
@@ -335,13 +336,18 @@ pub struct RefusedWell {
     pub problem: String,
 }
 
-/// The core's request for a seeded orbit drawn over `view` (see the module's
-/// defaults). An unknown method name or an invalid field is refused with a
-/// message naming it.
-pub fn seeded_orbit_request(seed: &SeededOrbit, view: &Window) -> Result<OrbitRequest, String> {
+/// The core's request for a seeded orbit drawn over `view` with the
+/// session's damping rate (0 without a drive; see the module's defaults). An
+/// unknown method name or an invalid field is refused with a message naming it.
+pub fn seeded_orbit_request(
+    seed: &SeededOrbit,
+    view: &Window,
+    damping: f64,
+) -> Result<OrbitRequest, String> {
     let method = Method::from_name(&seed.method).map_err(|e| e.to_string())?;
     let mut req = OrbitRequest::new(seed.q0, seed.p0, seed.duration, view);
     req.method = method;
+    req.damping = damping;
     req.stop_when_closed = true;
     req.validate()
         .map_err(|e| format!("{}: {}", e.field, e.problem))?;

@@ -132,6 +132,12 @@ pub fn expression_parameters(d: &DriveSettings) -> Vec<String> {
 }
 
 impl Session {
+    /// The damping rate the session's orbits feel: the drive's, or 0 without
+    /// a drive or with one whose expressions do not evaluate.
+    pub fn damping(&self) -> f64 {
+        self.drive().ok().flatten().map_or(0.0, |d| d.damping)
+    }
+
     /// The drive at the current parameter values; `None` without a drive
     /// section or with it switched off.
     pub fn drive(&self) -> Result<Option<Drive>, SessionError> {
