@@ -100,6 +100,13 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                     complex(e.eigenvalues[0][0], e.eigenvalues[0][1]),
                     complex(e.eigenvalues[1][0], e.eigenvalues[1][1])
                 ),
+                e.frequency_shift.map_or("-".to_string(), |k| {
+                    format!(
+                        "{} ({})",
+                        num(k),
+                        if k >= 0.0 { "hardening" } else { "softening" }
+                    )
+                }),
             ]
         })
         .collect();
@@ -108,7 +115,15 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
     } else {
         table(
             &mut out,
-            &["#", "q", "p", "H", "kind", "eigenvalues"],
+            &[
+                "#",
+                "q",
+                "p",
+                "H",
+                "kind",
+                "eigenvalues",
+                "κ in ω ≈ ω0 + κA²",
+            ],
             &rows,
         );
     }

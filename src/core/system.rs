@@ -4,7 +4,7 @@
 //! the formula's jet (exact forward-mode derivatives), never from differences.
 
 use super::formula::{FIRST_PARAM_SLOT, Formula, FormulaError, RowProgram, SLOT_P, SLOT_Q, SLOT_T};
-use num_dual::{Dual2SVec, Dual2SVec64, Dual64, DualNum};
+use num_dual::{Dual2, Dual2_64, Dual2SVec, Dual2SVec64, Dual64, DualNum};
 use std::fmt;
 use std::sync::Arc;
 
@@ -252,6 +252,22 @@ impl System {
             s[FIRST_PARAM_SLOT + i] = D::from(v);
         }
         buf
+    }
+
+    /// H(q, p) and its first four derivatives in q at fixed p, at the frozen
+    /// time: [H, H_q, H_qq, H_qqq, H_qqqq]. A second-order dual number over
+    /// a second-order dual number (the outer one's second derivative,
+    /// differentiated twice more by the inner one).
+    pub fn q_derivatives(&self, q: f64, p: f64) -> [f64; 5] {
+        type D = Dual2<Dual2_64>;
+        let x = D::new(
+            Dual2_64::new(q, 1.0, 0.0),
+            Dual2_64::new(1.0, 0.0, 0.0),
+            Dual2_64::new(0.0, 0.0, 0.0),
+        );
+        let buf = self.slots(x, D::from(p), D::from(self.time));
+        let r = self.formula.eval(buf.as_ref());
+        [r.re.re, r.re.v1, r.v2.re, r.v2.v1, r.v2.v2]
     }
 
     /// H(q, p) at the frozen time.

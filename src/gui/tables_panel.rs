@@ -30,7 +30,14 @@ pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
     eqs.iter()
         .map(|e| {
             let rate = match (e.omega, e.lambda) {
-                (Some(w), _) => format!("ω = {w:.5}"),
+                (Some(w), _) => match e.frequency_shift {
+                    Some(k) => format!(
+                        "ω = {w:.5}, κ = {} ({})",
+                        crate::numbers::caption(k),
+                        if k >= 0.0 { "hardening" } else { "softening" }
+                    ),
+                    None => format!("ω = {w:.5}"),
+                },
                 (None, Some(l)) => format!("λ = {l:.5}"),
                 _ => "—".into(),
             };

@@ -45,6 +45,27 @@ pub fn saddle_directions(jm: [[f64; 2]; 2]) -> Option<(f64, [f64; 2], [f64; 2])>
     (lam.is_finite() && u[0].is_finite() && s[0].is_finite()).then_some((lam, u, s))
 }
 
+/// The first correction of a center's frequency with amplitude, κ in
+/// ω ≈ ω₀ + κA² (A the amplitude in q), for H = T(p) + V(q) with T quadratic
+/// in p (mass m = 1/H_pp): with x'' + ω₀²x + α₂x² + α₃x³ = 0 about the
+/// center, ω₀² = V₂/m, α₂ = V₃/(2m), α₃ = V₄/(6m) (Vₖ the k-th derivative of
+/// V), the Lindstedt–Poincaré result κ = (9α₃ω₀² − 10α₂²)/(24ω₀³)
+/// (A. H. Nayfeh and D. T. Mook, *Nonlinear Oscillations*, Wiley 1979,
+/// §4.1). κ > 0 is a hardening well, κ < 0 a softening one. None for a
+/// kinetic part that is not quadratic in p or a formula that mixes q and p.
+pub fn frequency_shift(sys: &System, q: f64, p: f64) -> Option<f64> {
+    if !sys.is_separable() || !crate::core::integrate::kinetic_is_quadratic(sys) {
+        return None;
+    }
+    let j = sys.jet(q, p);
+    let m = 1.0 / j.hpp;
+    let [_, _, v2, v3, v4] = sys.q_derivatives(q, p);
+    let w0 = (v2 / m).sqrt();
+    let (a2, a3) = (v3 / (2.0 * m), v4 / (6.0 * m));
+    let k = (9.0 * a3 * w0 * w0 - 10.0 * a2 * a2) / (24.0 * w0.powi(3));
+    (k.is_finite() && m.is_finite() && m > 0.0).then_some(k)
+}
+
 /// Classify a point already known to be an equilibrium.
 pub fn classify(sys: &System, q: f64, p: f64, window: &Window) -> Equilibrium {
     let j = sys.jet(q, p);
@@ -70,6 +91,7 @@ pub fn classify(sys: &System, q: f64, p: f64, window: &Window) -> Equilibrium {
         stable_dir: None,
         unstable_dir: None,
         degenerate: None,
+        frequency_shift: None,
     };
     if !j.is_finite() || !det.is_finite() {
         return e;
@@ -78,6 +100,7 @@ pub fn classify(sys: &System, q: f64, p: f64, window: &Window) -> Equilibrium {
         e.kind = EquilibriumKind::Center;
         e.omega = Some(root);
         e.small_period = Some(std::f64::consts::TAU / root);
+        e.frequency_shift = frequency_shift(sys, q, p);
     } else if det < -tol {
         e.kind = EquilibriumKind::Saddle;
         e.lambda = Some(root);

@@ -45,7 +45,7 @@
 mod classify;
 mod search;
 
-pub use classify::{classify, saddle_directions};
+pub use classify::{classify, frequency_shift, saddle_directions};
 
 use super::system::System;
 use super::window::Window;
@@ -98,6 +98,9 @@ pub struct Equilibrium {
     pub unstable_dir: Option<[f64; 2]>,
     /// Degenerate ones: what higher order says.
     pub degenerate: Option<DegenerateShape>,
+    /// Centers of H = T(p) + V(q) with T quadratic: κ in ω ≈ ω₀ + κA²
+    /// (Lindstedt–Poincaré; positive hardening, negative softening).
+    pub frequency_shift: Option<f64>,
 }
 
 /// Settings for the search; tolerances are relative to the window and H's scale.
