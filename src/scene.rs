@@ -159,6 +159,15 @@ pub fn marker_for(kind: EquilibriumKind) -> MarkerStyle {
     }
 }
 
+/// How a center's frequency changes with amplitude, from κ in ω ≈ ω₀ + κA².
+pub fn shift_name(kappa: f64) -> &'static str {
+    if kappa >= 0.0 {
+        "hardening"
+    } else {
+        "softening"
+    }
+}
+
 /// The word shown for an equilibrium kind.
 pub fn kind_name(kind: EquilibriumKind) -> &'static str {
     match kind {

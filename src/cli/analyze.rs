@@ -101,11 +101,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                     complex(e.eigenvalues[1][0], e.eigenvalues[1][1])
                 ),
                 e.frequency_shift.map_or("-".to_string(), |k| {
-                    format!(
-                        "{} ({})",
-                        num(k),
-                        if k >= 0.0 { "hardening" } else { "softening" }
-                    )
+                    format!("{} ({})", num(k), crate::scene::shift_name(k))
                 }),
             ]
         })

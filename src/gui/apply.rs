@@ -367,11 +367,12 @@ impl Explorer {
             return Vec::new();
         };
         // the drive's expressions and ħ may name parameters H does not
-        let session = &self.doc.session;
-        session
+        let outside = self.doc.session.names_outside_formula();
+        self.doc
+            .session
             .parameters
             .iter()
-            .filter(|p| !f.params().contains(&p.name) && !session.expressions_use(&p.name))
+            .filter(|p| !f.params().contains(&p.name) && !outside.contains(&p.name))
             .map(|p| p.name.clone())
             .collect()
     }

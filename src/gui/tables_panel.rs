@@ -34,7 +34,7 @@ pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
                     Some(k) => format!(
                         "ω = {w:.5}, κ = {} ({})",
                         crate::numbers::caption(k),
-                        if k >= 0.0 { "hardening" } else { "softening" }
+                        crate::scene::shift_name(k)
                     ),
                     None => format!("ω = {w:.5}"),
                 },

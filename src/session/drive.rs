@@ -10,6 +10,7 @@
 //! The expressions use the formula language (our own compiler) with the
 //! session's parameters and constants, never q, p or t.
 
+use super::expression::evaluate;
 use super::{Session, SessionError};
 use crate::core::formula::Formula;
 use schemars::JsonSchema;
@@ -79,58 +80,6 @@ pub struct Drive {
     pub lattice: usize,
 }
 
-/// The value of `text` at the session's parameter values; `field` names it
-/// in messages.
-pub fn evaluate(session: &Session, field: &str, text: &str) -> Result<f64, SessionError> {
-    let f = Formula::compile(text).map_err(|e| SessionError::new(field, e.to_string()))?;
-    if f.uses_q() || f.uses_p() || f.uses_t() {
-        return Err(SessionError::new(
-            field,
-            "may use the parameters and constants only, not q, p or t",
-        ));
-    }
-    let mut slots = vec![0.0; f.slot_count()];
-    for (k, name) in f.params().iter().enumerate() {
-        let Some(p) = session.parameter(name) else {
-            return Err(SessionError::new(
-                field,
-                format!("uses `{name}`, which is not among the session's parameters"),
-            ));
-        };
-        slots[crate::core::formula::FIRST_PARAM_SLOT + k] = p.value;
-    }
-    let v = f.eval_f64(&slots);
-    if v.is_finite() {
-        Ok(v)
-    } else {
-        Err(SessionError::new(
-            field,
-            format!("`{text}` is {v} at the current parameter values"),
-        ))
-    }
-}
-
-/// The parameter names the drive's expressions use (they count as used even
-/// when H does not name them).
-pub fn expression_parameters(d: &DriveSettings) -> Vec<String> {
-    let mut out = Vec::new();
-    for text in std::iter::once(&d.period).chain(d.damping.as_ref()) {
-        if let Ok(f) = Formula::compile(text) {
-            for p in f.params() {
-                if !out.contains(p) {
-                    out.push(p.clone());
-                }
-            }
-        }
-    }
-    if let Some(a) = &d.amplitude
-        && !out.contains(a)
-    {
-        out.push(a.clone());
-    }
-    out
-}
-
 impl Session {
     /// The damping rate the session's orbits feel: the drive's, or 0 without
     /// a drive or with one whose expressions do not evaluate.
@@ -145,7 +94,7 @@ impl Session {
             return Ok(None);
         };
         let period = evaluate(self, "drive.period", &d.period)?;
-        if !(period > 0.0) {
+        if !(period.is_finite() && period > 0.0) {
             return Err(SessionError::new(
                 "drive.period",
                 format!("must be greater than 0 (`{}` is {period})", d.period),
@@ -155,7 +104,7 @@ impl Session {
             Some(text) => evaluate(self, "drive.damping", text)?,
             None => 0.0,
         };
-        if !(damping >= 0.0) {
+        if !(damping.is_finite() && damping >= 0.0) {
             return Err(SessionError::new(
                 "drive.damping",
                 format!(

@@ -4,6 +4,7 @@
 //! `save_atomic` replaces a file so that a failed save never destroys the old one.
 
 pub mod drive;
+mod expression;
 mod quantum;
 
 pub use drive::{Drive, DriveSettings};
@@ -643,6 +644,7 @@ impl Session {
         formula: &Formula,
         warnings: &mut Vec<String>,
     ) -> Result<(), SessionError> {
+        let outside = self.names_outside_formula();
         for (i, p) in self.parameters.iter().enumerate() {
             let at = |f: &str| format!("parameters[{i}].{f}");
             if p.name.trim().is_empty() {
@@ -682,7 +684,7 @@ impl Session {
                      parameter has no effect; rename it in the formula and here",
                     p.name
                 ));
-            } else if formula.param_index(&p.name).is_none() && !self.expressions_use(&p.name) {
+            } else if formula.param_index(&p.name).is_none() && !outside.contains(&p.name) {
                 warnings.push(format!(
                     "parameters[{i}]: `{}` does not appear in the formula and has no effect",
                     p.name
@@ -905,17 +907,6 @@ impl Session {
             }
         }
         Ok(())
-    }
-
-    /// True when a parameter is named by one of the session's expressions
-    /// other than H (the drive's period, damping and amplitude, ħ): it
-    /// counts as used even when H does not name it.
-    pub fn expressions_use(&self, name: &str) -> bool {
-        self.hbar_uses(name)
-            || self
-                .drive
-                .as_ref()
-                .is_some_and(|d| drive::expression_parameters(d).iter().any(|n| n == name))
     }
 
     /// Sweep settings for the core: the defaults with this session's longest step.
