@@ -53,7 +53,8 @@ pub struct SectionConfig {
 pub enum SectionEnd {
     /// All periods done.
     Completed,
-    /// It left the bounds (escaped from the region drawn).
+    /// A period's point left the region the run allows (the bounds around
+    /// the region drawn for a section; the well for a basin).
     LeftBounds,
     /// H or its derivatives stopped being finite.
     NonFinite,
@@ -65,9 +66,27 @@ pub enum SectionEnd {
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
 pub struct SectionOrbit {
     pub start: [f64; 2],
-    /// The state at t₀ + kτ, k = 1, 2, … (at most `periods` points).
+    /// The state at t₀ + kτ, k = 1, 2, … (at most `periods` points; empty
+    /// when the run records no points, see [`Strobe::record`]).
     pub points: Vec<[f64; 2]>,
+    /// Drive periods completed inside the allowed region.
+    #[serde(skip)]
+    pub periods_done: usize,
+    /// The last period's point inside the region (the start if none).
+    #[serde(skip)]
+    pub last: [f64; 2],
     pub end: SectionEnd,
+}
+
+/// What a stroboscopic run keeps of each start and where it may go: the
+/// one per-start loop behind the section and the safe basin.
+pub struct Strobe<'a> {
+    /// Checked on every period's point; the start's run ends with
+    /// [`SectionEnd::LeftBounds`] at the first point where it is false.
+    pub stays: &'a (dyn Fn([f64; 2]) -> bool + Sync),
+    /// Keep every period's point (a section), or none (a basin needs only
+    /// how long each start stayed).
+    pub record: bool,
 }
 
 /// A whole section.
@@ -93,10 +112,36 @@ pub fn section(
     cancel: &Cancel,
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<Section, String> {
+    bounds.validate().map_err(|e| format!("bounds: {e}"))?;
+    let inside = |x: [f64; 2]| bounds.contains(x[0], x[1]);
+    let strobe = Strobe {
+        stays: &inside,
+        record: true,
+    };
+    strobe_runs(sys, starts, cfg, &strobe, cancel, progress)
+}
+
+/// The drive-period map iterated from every start as `strobe` says: the
+/// checks of the settings, the step, and the orbits on all cores (each by
+/// itself, so the result does not depend on the thread count).
+pub fn strobe_runs(
+    sys: &System,
+    starts: &[[f64; 2]],
+    cfg: &SectionConfig,
+    strobe: &Strobe,
+    cancel: &Cancel,
+    progress: &(dyn Fn(usize, usize) + Sync),
+) -> Result<Section, String> {
     if !(cfg.period.is_finite() && cfg.period > 0.0) {
         return Err(format!(
             "the drive period must be a positive number (found {})",
             cfg.period
+        ));
+    }
+    if !(cfg.damping.is_finite() && cfg.damping >= 0.0) {
+        return Err(format!(
+            "the damping must be a number ≥ 0 (found {})",
+            cfg.damping
         ));
     }
     if starts.len() > MAX_STARTS {
@@ -105,7 +150,6 @@ pub fn section(
             starts.len()
         ));
     }
-    bounds.validate().map_err(|e| format!("bounds: {e}"))?;
     let method = cfg.method.resolve_damped(sys, cfg.damping);
     // the integrator is checked once here, so every orbit can build its own
     Integrator::with_damping(sys, method, cfg.damping).map_err(|e| e.to_string())?;
@@ -118,7 +162,7 @@ pub fn section(
     let orbits: Vec<SectionOrbit> = starts
         .par_iter()
         .map(|&start| {
-            let o = one_orbit(sys, method, start, bounds, cfg, n, h, cancel);
+            let o = one_orbit(sys, method, start, strobe, cfg, n, h, cancel);
             progress(done.fetch_add(1, Ordering::Relaxed) + 1, starts.len());
             o
         })
@@ -160,7 +204,7 @@ fn one_orbit(
     sys: &System,
     method: Method,
     start: [f64; 2],
-    bounds: &Window,
+    strobe: &Strobe,
     cfg: &SectionConfig,
     n: usize,
     h: f64,
@@ -168,7 +212,9 @@ fn one_orbit(
 ) -> SectionOrbit {
     let mut out = SectionOrbit {
         start,
-        points: Vec::with_capacity(cfg.periods),
+        points: Vec::with_capacity(if strobe.record { cfg.periods } else { 0 }),
+        periods_done: 0,
+        last: start,
         end: SectionEnd::Completed,
     };
     let Ok(mut integ) = Integrator::with_damping(sys, method, cfg.damping) else {
@@ -199,11 +245,15 @@ fn one_orbit(
             }
         }
         s.t = cfg.t0 + k as f64 * cfg.period;
-        if !bounds.contains(s.q, s.p) {
+        if !(strobe.stays)([s.q, s.p]) {
             out.end = SectionEnd::LeftBounds;
             return out;
         }
-        out.points.push([s.q, s.p]);
+        out.periods_done = k;
+        out.last = [s.q, s.p];
+        if strobe.record {
+            out.points.push([s.q, s.p]);
+        }
     }
     out
 }
