@@ -114,6 +114,8 @@ pub enum MarkerShape {
     Diamond,
     /// A filled square (bifurcation points).
     Square,
+    /// A small filled disc (the computed points of a backbone).
+    Dot,
 }
 
 /// How one kind of mark looks.
@@ -148,6 +150,13 @@ pub const BIFURCATION_MARKER: MarkerStyle = MarkerStyle {
     shape: MarkerShape::Square,
     colour: Rgb(0xe4, 0x57, 0x2e),
     size: 8.0,
+};
+
+/// Marker of a computed point on a backbone curve.
+pub const SAMPLE_MARKER: MarkerStyle = MarkerStyle {
+    shape: MarkerShape::Dot,
+    colour: BACKBONE_COLOUR,
+    size: 4.0,
 };
 
 /// The marker of an equilibrium kind.
@@ -290,6 +299,8 @@ pub enum MarkRole {
     Bifurcation,
     /// A cusp of a fold curve in the parameter plane.
     Cusp,
+    /// A computed point of a curve (a backbone's closed orbits).
+    Sample,
 }
 
 /// One point mark, optionally labelled.
@@ -835,12 +846,28 @@ impl Scene {
             }
         };
         let mut curves = Vec::new();
-        let mut legend = vec![line_entry(
-            "backbone".to_string(),
-            BACKBONE_COLOUR,
-            BACKBONE_WIDTH,
-            false,
-        )];
+        let mut legend = vec![
+            line_entry(
+                "backbone".to_string(),
+                BACKBONE_COLOUR,
+                BACKBONE_WIDTH,
+                false,
+            ),
+            LegendEntry {
+                label: "computed orbit".to_string(),
+                swatch: Swatch::Marker(SAMPLE_MARKER),
+            },
+        ];
+        // each computed orbit marked where it is, so the sampling shows
+        let marks = points
+            .iter()
+            .map(|&at| Mark {
+                at,
+                role: MarkRole::Sample,
+                style: SAMPLE_MARKER,
+                label: None,
+            })
+            .collect();
         curves.push(Curve {
             role: CurveRole::Backbone,
             points,
@@ -870,7 +897,7 @@ impl Scene {
             x,
             y,
             curves,
-            marks: Vec::new(),
+            marks,
             colour_scale: None,
             legend,
         }

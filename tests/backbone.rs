@@ -70,13 +70,13 @@ fn pendulum_period_matches_4k_and_action_matches_the_elliptic_closed_form() {
     assert_pendulum_rows(&b, 1.0);
     // The center row is the small-oscillation limit: T = 2π (ω = 1).
     assert!(rel(b.rows[0].period, 2.0 * PI) < 1e-14);
-    // Energies are increasing and crowd towards the escape energy.
+    // Energies are increasing and crowd towards both ends: the bottom (even
+    // steps in amplitude are small steps in energy there) and the escape energy.
     assert!(b.rows.windows(2).all(|w| w[1].energy > w[0].energy));
     let last = b.rows.len() - 1;
-    assert!(
-        b.rows[last].energy - b.rows[last - 1].energy
-            < 1e-3 * (b.rows[1].energy - b.rows[0].energy)
-    );
+    let mid = b.rows[last / 2].energy - b.rows[last / 2 - 1].energy;
+    assert!(b.rows[1].energy - b.rows[0].energy < 0.1 * mid);
+    assert!(b.rows[last].energy - b.rows[last - 1].energy < 1e-4 * mid);
     assert!(1.0 - b.rows[last].energy < 1e-5);
 }
 
@@ -306,4 +306,61 @@ fn backbone_command_prints_rows_as_csv() {
         .expect("the binary runs");
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--center"));
+}
+
+#[test]
+fn small_amplitude_end_is_sampled_finely_and_gives_the_duffing_coefficient() {
+    // A hardening Duffing well H = p²/2 + q²/2 + b q⁴/4 (b = 0.8, invented)
+    // and a softening one, the double well p²/2 − q²/2 + q⁴/4 about its
+    // center q = 1 (V″ = 2, V‴ = 6, V⁗ = 6 there). Near the bottom
+    // ω ≈ ω₀ + κA² with κ = (9α₃ω₀² − 10α₂²)/(24ω₀³), α₂ = V‴/2,
+    // α₃ = V⁗/6 for unit mass (Lindstedt–Poincaré; A. H. Nayfeh and
+    // D. T. Mook, *Nonlinear Oscillations*, 1979, §4.1). The first computed
+    // orbit must lie well inside the small-amplitude range, and the slope
+    // of ω against A² there must give κ.
+    let cases = [
+        // (formula, center, window, ω₀, κ from the closed form)
+        (
+            "p^2/2 + q^2/2 + 0.8*q^4/4",
+            [0.0, 0.0],
+            Window::new(-2.0, 2.0, -2.0, 2.0).expect("window"),
+            1.0,
+            3.0 * 0.8 / 8.0,
+        ),
+        (
+            "p^2/2 - q^2/2 + q^4/4",
+            [1.0, 0.0],
+            Window::new(-2.0, 2.0, -1.5, 1.5).expect("window"),
+            2f64.sqrt(),
+            (9.0 * 1.0 * 2.0 - 10.0 * 9.0) / (24.0 * 2f64.sqrt().powi(3)),
+        ),
+    ];
+    for (src, center, window, w0, kappa) in cases {
+        let b = run(src, center, window);
+        assert!(rel(b.rows[0].frequency, w0) < 1e-14);
+        let widest = b.rows.iter().fold(0.0f64, |m, r| m.max(r.amplitude));
+        let first = b.rows[1];
+        // evenly spaced amplitudes: the first is about 1/200 of the widest,
+        // not a chord to a tenth of the well as even energy steps give
+        assert!(
+            first.amplitude < 0.02 * widest,
+            "{src}: first amplitude {} of {widest}",
+            first.amplitude
+        );
+        // the next few steps in amplitude are even to a few per cent
+        let steps: Vec<f64> = b.rows[..6]
+            .windows(2)
+            .map(|w| w[1].amplitude - w[0].amplitude)
+            .collect();
+        assert!(
+            steps.iter().all(|d| rel(*d, steps[0]) < 0.05),
+            "{src}: steps {steps:?}"
+        );
+        let slope = (first.frequency - w0) / (first.amplitude * first.amplitude);
+        assert!(
+            rel(slope, kappa) < 1e-2,
+            "{src}: slope {slope} vs κ {kappa} at A = {}",
+            first.amplitude
+        );
+    }
 }

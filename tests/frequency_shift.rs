@@ -28,10 +28,7 @@ fn duffing_coefficient_is_the_closed_form() {
 /// κ from two small-amplitude rows of the backbone (ω − ω₀ = κA² + λA⁴
 /// solved for κ): the numerical backbone is the independent reference.
 fn backbone_slope(sys: &System, center: [f64; 2], window: &Window) -> (f64, f64) {
-    let cfg = BackboneConfig {
-        energies: 2000,
-        ..BackboneConfig::default()
-    };
+    let cfg = BackboneConfig::default();
     let b = backbone(sys, center, window, &cfg, &Cancel::never(), &|_, _| {}).unwrap();
     let w0 = b.rows[0].frequency;
     let (r1, r2) = (b.rows[1], b.rows[2]);

@@ -37,6 +37,14 @@
 //! variable so that it lands on the line exactly (Hénon's trick). The action
 //! is integrated alongside (dA/dt = p ∂H/∂p).
 //!
+//! # Where the energies are sampled
+//!
+//! Evenly in √(E − E₀) from the center (the amplitude grows like it), so the
+//! small-amplitude end, where the slope κ of ω ≈ ω₀ + κA² is read, is
+//! sampled as finely as the rest; below an escape energy the last 40 % of
+//! the samples close in on it geometrically, where the period grows like
+//! −ln(E_s − E).
+//!
 //! The escape energy is the lowest saddle level bounding the well: for the
 //! separable case the nearest maxima of H(q, p_c) on either side of the center;
 //! otherwise the lowest saddle in view above the center. Without one, the
@@ -85,6 +93,15 @@ const GL_SLOPE_WEIGHTS: [f64; 4] = [
     0.326_072_577_431_273_07,
     0.173_927_422_568_726_93,
 ];
+/// Share of the sampled energies spaced evenly in √depth (so in amplitude)
+/// when an escape energy bounds the well; the rest approach it geometrically.
+const EVEN_SHARE: f64 = 0.6;
+/// Distance below the escape energy, as a fraction of the well's depth, where
+/// the even spacing in √depth hands over to the geometric approach. With
+/// [`EVEN_SHARE`] the two spacings meet with nearly the same energy step
+/// (2·√0.9/0.6 ≈ 3.2 against 0.1·ln(10⁵)/0.4 ≈ 2.9 per unit of the index
+/// fraction, at the default closest approach 1e-6).
+const EVEN_TOP: f64 = 0.1;
 /// Runge–Kutta steps per small-oscillation period on the orbit path.
 const ORBIT_STEPS_PER_PERIOD: f64 = 2000.0;
 
@@ -94,7 +111,9 @@ pub struct BackboneConfig {
     /// Energies sampled, the center's included (default 200, at least 2).
     pub energies: usize,
     /// Closest approach to the escape energy, as a fraction of the well's
-    /// depth (default 1e-6); the sampling is denser towards the escape energy.
+    /// depth (default 1e-6). The samples are spaced evenly in √(E − E₀)
+    /// (so in amplitude) from the center and, the last 40 % of them,
+    /// geometrically towards the escape energy.
     pub closest: f64,
     /// Relative tolerance of the quadrature (default 1e-13).
     pub tolerance: f64,
@@ -226,14 +245,8 @@ pub fn backbone(
     let (escape, top, sigma) = (orbits.escape, orbits.top, well.sigma);
     let mut diagnostics = Vec::new();
     let n = cfg.energies;
-    let depth_at = |i: usize| -> f64 {
-        let u = i as f64 / (n - 1) as f64;
-        if escape.is_some() {
-            top * (1.0 - cfg.closest.powf(u * u))
-        } else {
-            top * u
-        }
-    };
+    let depth_at =
+        |i: usize| top * depth_fraction(i as f64 / (n - 1) as f64, escape.is_some(), cfg.closest);
     let mut rows = Vec::with_capacity(n);
     let mut cancelled = false;
     rows.push(BackboneRow {
@@ -273,6 +286,32 @@ pub fn backbone(
         diagnostics,
         cancelled,
     })
+}
+
+/// The depth of the sample at index fraction `u` ∈ [0, 1] as a fraction of
+/// the top depth. √depth, to leading order proportional to the amplitude, is
+/// spaced evenly from the center, so the small-amplitude end, where hardening
+/// or softening is read, is resolved as finely as the rest (the energy steps
+/// are smallest there). Without an escape energy that is all:
+/// depth = u². Below an escape energy the period grows like −ln(E_s − E), so
+/// the last `1 − EVEN_SHARE` of the samples approach it geometrically, the
+/// distance σ(E_s − E) falling from `EVEN_TOP` of the depth to `closest`.
+fn depth_fraction(u: f64, escape: bool, closest: f64) -> f64 {
+    let handover = EVEN_TOP.max(closest);
+    if !escape {
+        return u * u;
+    }
+    if handover <= closest {
+        let s = u * (1.0 - closest).sqrt();
+        return s * s;
+    }
+    if u <= EVEN_SHARE {
+        let s = u / EVEN_SHARE * (1.0 - handover).sqrt();
+        s * s
+    } else {
+        let v = (u - EVEN_SHARE) / (1.0 - EVEN_SHARE);
+        1.0 - handover * (closest / handover).powf(v)
+    }
 }
 
 /// One well made ready to give its closed orbit at any energy between the

@@ -257,6 +257,7 @@ fn marker_items<'a>(
         MarkerShape::Cross => (egui_plot::MarkerShape::Cross, false),
         MarkerShape::Diamond => (egui_plot::MarkerShape::Diamond, true),
         MarkerShape::Square => (egui_plot::MarkerShape::Square, true),
+        MarkerShape::Dot => (egui_plot::MarkerShape::Circle, true),
     };
     pui.points(
         Points::new("", points)
@@ -301,6 +302,9 @@ pub fn paint_marker(painter: &Painter, centre: Pos2, style: MarkerStyle, look: &
                 centre + vec2(r, 0.0),
             ];
             painter.add(egui::Shape::convex_polygon(pts, colour, Stroke::NONE));
+        }
+        MarkerShape::Dot => {
+            painter.circle_filled(centre, r, colour);
         }
         MarkerShape::Square => {
             painter.rect_filled(

@@ -423,6 +423,12 @@ fn marker_shape(style: &MarkerStyle, x: f64, y: f64) -> String {
             num(y + r),
             num(x - r)
         ),
+        MarkerShape::Dot => format!(
+            r#"<circle cx="{}" cy="{}" r="{}" fill="{c}"/>"#,
+            num(x),
+            num(y),
+            num(r)
+        ),
         MarkerShape::Square => format!(
             r#"<rect x="{}" y="{}" width="{2}" height="{2}" fill="{c}" stroke="{paper}" stroke-width="1.2"/>"#,
             num(x - r),
@@ -443,6 +449,7 @@ fn write_mark(out: &mut String, scene: &Scene, l: &Layout, m: &Mark) {
         }
         MarkRole::Bifurcation => "mark bifurcation".to_string(),
         MarkRole::Cusp => "mark cusp".to_string(),
+        MarkRole::Sample => "mark sample".to_string(),
     };
     let _ = write!(
         out,
