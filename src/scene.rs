@@ -7,7 +7,7 @@
 mod levels;
 
 use crate::core::analysis::Analysis;
-use crate::core::backbone::Backbone;
+use crate::core::backbone::{Backbone, FrequencyShift};
 use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
@@ -175,6 +175,17 @@ pub fn shift_name(kappa: f64) -> &'static str {
     } else {
         "softening"
     }
+}
+
+/// κ of a backbone as said in its figure, pane and table:
+/// `ω ≈ ω₀ + κA² with κ = 0.3 (hardening, from the Taylor coefficients)`.
+pub fn shift_text(shift: &FrequencyShift) -> String {
+    format!(
+        "\u{3c9} \u{2248} \u{3c9}\u{2080} + \u{3ba}A\u{b2} with \u{3ba} = {} ({}, {})",
+        numbers::caption(shift.kappa),
+        shift_name(shift.kappa),
+        shift.source.description()
+    )
 }
 
 /// The word shown for an equilibrium kind.
@@ -886,11 +897,15 @@ impl Scene {
         // the well's size is the scale against which the center's
         // coordinates are rounding noise
         let size = backbone.rows.iter().fold(0.0f64, |m, r| m.max(r.amplitude));
-        let tail = format!(
+        let mut tail = format!(
             "well of the center at q = {}, p = {}",
             numbers::caption(numbers::clean(backbone.center[0], size)),
             numbers::caption(numbers::clean(backbone.center[1], size))
         );
+        if let Some(shift) = &backbone.frequency_shift {
+            tail.push_str("; ");
+            tail.push_str(&shift_text(shift));
+        }
         Scene {
             title: title.to_string(),
             caption: caption_without(sys, &[], &tail),

@@ -3,7 +3,7 @@
 //! at small amplitude.
 
 use phasewright::core::Cancel;
-use phasewright::core::backbone::{BackboneConfig, backbone};
+use phasewright::core::backbone::{BackboneConfig, ShiftSource, backbone, fit_frequency_shift};
 use phasewright::core::equilibria::{classify, frequency_shift};
 use phasewright::core::system::System;
 use phasewright::core::window::Window;
@@ -77,4 +77,52 @@ fn no_coefficient_for_a_kinetic_part_that_is_not_quadratic() {
     assert_eq!(frequency_shift(&sys, 0.0, 0.0), None);
     let mixed = System::from_source("p^2/2 + q^2/2 + q*p^3", &[]).unwrap();
     assert_eq!(frequency_shift(&mixed, 0.0, 0.0), None);
+}
+
+/// The backbone carries κ: from the Taylor coefficients where the kinetic
+/// part is quadratic (the Duffing closed form 3b/(8w), Nayfeh & Mook §4.1),
+/// and fitted to its rows otherwise. H = q²/2 + p²/2 + b p⁴/4 is the Duffing
+/// H = p²/2 + q²/2 + b q⁴/4 under the canonical swap (q, p) → (p, −q): the
+/// same frequency at each energy E, and its q-amplitude is √(2E) exactly
+/// (q turns where ∂H/∂p = 0, at p = 0). The Duffing's amplitude obeys
+/// A²/2 + bA⁴/4 = E, so to first order both frequencies read
+/// ω ≈ 1 + (3b/8)·2E, and κ in the swapped system is 3b/8 as well (closed
+/// form by that substitution).
+#[test]
+fn the_backbone_carries_kappa_from_the_formula_or_from_its_fit() {
+    // q within ±0.8 keeps every level closed in view for both signs of b
+    let window = Window::new(-0.8, 0.8, -1.5, 1.5).unwrap();
+    let run = |src: &str, b: f64| {
+        let sys = System::from_source(src, &[("b", b)]).unwrap();
+        backbone(
+            &sys,
+            [0.0, 0.0],
+            &window,
+            &BackboneConfig::default(),
+            &Cancel::never(),
+            &|_, _| {},
+        )
+        .unwrap()
+    };
+    for b in [0.6, -0.4] {
+        let want = 3.0 * b / 8.0;
+        let duffing = run("p^2/2 + q^2/2 + b*q^4/4", b);
+        let shift = duffing.frequency_shift.unwrap();
+        assert_eq!(shift.source, ShiftSource::TaylorCoefficients);
+        assert!((shift.kappa - want).abs() <= 1e-10 * want.abs());
+        // the fit on the same rows agrees with the closed form
+        let fitted = fit_frequency_shift(&duffing.rows).unwrap();
+        assert!(
+            (fitted - want).abs() <= 1e-6 * want.abs(),
+            "fit {fitted} vs {want}"
+        );
+        let swapped = run("q^2/2 + p^2/2 + b*p^4/4", b);
+        let shift = swapped.frequency_shift.unwrap();
+        assert_eq!(shift.source, ShiftSource::BackboneFit);
+        assert!(
+            (shift.kappa - want).abs() <= 1e-6 * want.abs(),
+            "swapped Duffing b = {b}: fit {} vs {want}",
+            shift.kappa
+        );
+    }
 }

@@ -392,6 +392,9 @@ pub(super) fn backbone_text(r: &Resolved, b: &Backbone) -> String {
         "escape energy: {}",
         b.escape_energy.map_or("none in view".to_string(), num)
     );
+    if let Some(shift) = &b.frequency_shift {
+        let _ = writeln!(out, "{}", crate::scene::shift_text(shift));
+    }
     let _ = writeln!(out, "\nBackbone ({} energies)", b.rows.len());
     let rows: Vec<Vec<String>> = b
         .rows

@@ -37,6 +37,15 @@
 //! variable so that it lands on the line exactly (Hénon's trick). The action
 //! is integrated alongside (dA/dt = p ∂H/∂p).
 //!
+//! # The frequency shift κ
+//!
+//! Every backbone carries κ of ω ≈ ω₀ + κA² (A half the q-extent): for
+//! H = T(p) + V(q) with T quadratic the Lindstedt–Poincaré formula on the
+//! center's Taylor coefficients (`equilibria::frequency_shift`); for any
+//! other H (a kinetic part that is not quadratic, or q and p mixed) the
+//! least-squares fit of ω − ω₀ = κA² + λA⁴ to the rows with A at most a
+//! tenth of the widest ([`fit_frequency_shift`]). [`ShiftSource`] says which.
+//!
 //! # Where the energies are sampled
 //!
 //! Evenly in √(E − E₀) from the center (the amplitude grows like it), so the
@@ -60,7 +69,9 @@
 
 mod quadrature;
 
-use super::equilibria::{EquilibriumConfig, EquilibriumKind, classify, find_equilibria};
+use super::equilibria::{
+    EquilibriumConfig, EquilibriumKind, classify, find_equilibria, frequency_shift,
+};
 use super::system::System;
 use super::window::Window;
 use super::{Cancel, Diagnostic};
@@ -158,6 +169,82 @@ pub struct BackboneRow {
     pub amplitude: f64,
 }
 
+/// Where a backbone's κ (ω ≈ ω₀ + κA²) comes from.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ShiftSource {
+    /// The Lindstedt–Poincaré formula on the center's Taylor coefficients
+    /// (`equilibria::frequency_shift`; H = T(p) + V(q) with T quadratic).
+    TaylorCoefficients,
+    /// The fit of ω − ω₀ = κA² + λA⁴ to the backbone's small-amplitude rows
+    /// (any other H: a kinetic part that is not quadratic, or mixed q and p).
+    BackboneFit,
+}
+
+impl ShiftSource {
+    /// How the source is said in captions and tables.
+    pub fn description(self) -> &'static str {
+        match self {
+            ShiftSource::TaylorCoefficients => "from the Taylor coefficients",
+            ShiftSource::BackboneFit => "fitted to the backbone",
+        }
+    }
+}
+
+/// The first correction of the frequency with amplitude, κ in ω ≈ ω₀ + κA²
+/// (κ > 0 hardening, κ < 0 softening).
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+pub struct FrequencyShift {
+    pub kappa: f64,
+    pub source: ShiftSource,
+}
+
+/// Rows whose amplitude is at most this share of the widest enter κ's fit.
+const SHIFT_FIT_REACH: f64 = 0.1;
+/// Most rows in κ's fit.
+const SHIFT_FIT_ROWS: usize = 20;
+
+/// κ from the backbone's rows (the center's first): the least-squares fit of
+/// ω − ω₀ = κA² + λA⁴ over the rows beyond the center whose amplitude is at
+/// most a tenth of the widest (at most 20 of them; the first row alone gives
+/// κ = (ω − ω₀)/A²). None without a row beyond the center or with ω₀ = 0.
+pub fn fit_frequency_shift(rows: &[BackboneRow]) -> Option<f64> {
+    let w0 = rows.first()?.frequency;
+    if !(w0.is_finite() && w0 > 0.0) {
+        return None;
+    }
+    let widest = rows.iter().fold(0.0f64, |m, r| m.max(r.amplitude));
+    let small: Vec<(f64, f64)> = rows
+        .iter()
+        .skip(1)
+        .filter(|r| r.amplitude > 0.0 && r.frequency.is_finite())
+        .enumerate()
+        .take_while(|(i, r)| *i == 0 || r.amplitude <= SHIFT_FIT_REACH * widest)
+        .take(SHIFT_FIT_ROWS)
+        .map(|(_, r)| (r.amplitude * r.amplitude, r.frequency - w0))
+        .collect();
+    let k = match small.as_slice() {
+        [] => return None,
+        [(x, d)] => d / x,
+        _ => {
+            // normal equations in the scaled x/x_max, for conditioning
+            let xm = small.iter().fold(0.0f64, |m, (x, _)| m.max(*x));
+            let (mut s11, mut s12, mut s22, mut b1, mut b2) = (0.0, 0.0, 0.0, 0.0, 0.0);
+            for &(x, d) in &small {
+                let u = x / xm;
+                s11 += u * u;
+                s12 += u * u * u;
+                s22 += u * u * u * u;
+                b1 += u * d;
+                b2 += u * u * d;
+            }
+            let det = s11 * s22 - s12 * s12;
+            (b1 * s22 - b2 * s12) / det / xm
+        }
+    };
+    k.is_finite().then_some(k)
+}
+
 /// The backbone of one well.
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
 pub struct Backbone {
@@ -170,6 +257,10 @@ pub struct Backbone {
     pub top_energy: f64,
     pub method: BackboneMethod,
     pub rows: Vec<BackboneRow>,
+    /// κ in ω ≈ ω₀ + κA² at the center: from the Taylor coefficients where
+    /// that formula holds, else fitted to the rows (None at a degenerate
+    /// center or without rows beyond it).
+    pub frequency_shift: Option<FrequencyShift>,
     pub diagnostics: Vec<Diagnostic>,
     pub cancelled: bool,
 }
@@ -276,6 +367,17 @@ pub fn backbone(
         }
         progress(i + 1, n);
     }
+    let [qc, pc] = orbits.center();
+    let shift = match frequency_shift(sys, qc, pc) {
+        Some(kappa) => Some(FrequencyShift {
+            kappa,
+            source: ShiftSource::TaylorCoefficients,
+        }),
+        None => fit_frequency_shift(&rows).map(|kappa| FrequencyShift {
+            kappa,
+            source: ShiftSource::BackboneFit,
+        }),
+    };
     Ok(Backbone {
         center: orbits.center(),
         center_energy: well.ec,
@@ -283,6 +385,7 @@ pub fn backbone(
         top_energy: orbits.top_energy(),
         method: orbits.method(),
         rows,
+        frequency_shift: shift,
         diagnostics,
         cancelled,
     })

@@ -788,6 +788,9 @@ impl ViewsPanel {
                 )),
                 None => ui.label("the well reaches the edge of the view before a saddle"),
             };
+            if let Some(shift) = &b.frequency_shift {
+                ui.label(crate::scene::shift_text(shift));
+            }
         }
     }
 }
