@@ -72,7 +72,7 @@ fn orbit_row(
         label,
         error: o.energy_error,
         evaluations: o.field_evaluations,
-        jets: o.jet_evaluations,
+        jets: o.hessian_evaluations,
         steps: o.steps,
         wall_ms: median(times),
     }

@@ -46,7 +46,7 @@ fn pendulum_orbit_from_ninety_degrees_reports_the_4k_period() {
     let frequency = v["frequency"].as_f64().unwrap();
     assert!((frequency * period - 2.0 * PI).abs() < 1e-12);
     assert!(v["action"].as_f64().unwrap() > 0.0);
-    assert!(v["energy_drift"].as_f64().unwrap() < 1e-10);
+    assert!(v["relative_energy_error"].as_f64().unwrap() < 1e-10);
     assert!(v["steps"].as_u64().unwrap() > 100);
 }
 

@@ -104,12 +104,12 @@ pub(super) fn orbit_measurements(orbit: &Orbit, q0: f64, p0: f64) -> serde_json:
         "energy": orbit.energy,
         "energy_error": orbit.energy_error,
         "energy_scale": orbit.energy_scale,
-        "energy_drift": orbit.energy_drift,
+        "relative_energy_error": orbit.relative_energy_error,
         "stop_reason": orbit.stop.name(),
         "stop_message": orbit.stop.message(),
         "steps": orbit.steps,
         "field_evaluations": orbit.field_evaluations,
-        "jet_evaluations": orbit.jet_evaluations,
+        "hessian_evaluations": orbit.hessian_evaluations,
         "samples": orbit.samples.len(),
         "diagnostics": orbit.diagnostics,
     })
@@ -146,7 +146,7 @@ pub fn orbit_table(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
             "energy error".to_string(),
             format!(
                 "{:.3e} (relative {:.3e})",
-                orbit.energy_error, orbit.energy_drift
+                orbit.energy_error, orbit.relative_energy_error
             ),
         ],
         vec!["steps".to_string(), orbit.steps.to_string()],

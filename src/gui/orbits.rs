@@ -19,7 +19,7 @@ pub struct OrbitOutcome {
     /// Angular frequency 2π / period.
     pub frequency: Option<f64>,
     /// Largest |H − H₀| relative to the energy scale.
-    pub energy_drift: Option<f64>,
+    pub relative_energy_error: Option<f64>,
     /// Why integration ended, in words.
     pub stop: String,
     /// True when the orbit ended for a reason worth pointing out.
@@ -53,7 +53,7 @@ pub fn integrate(
         period: orbit.period,
         action: orbit.action,
         frequency: orbit.frequency,
-        energy_drift: orbit.energy_drift.is_finite().then_some(orbit.energy_drift),
+        relative_energy_error: orbit.relative_energy_error.is_finite().then_some(orbit.relative_energy_error),
         stop: orbit.stop.message(),
         stopped_early,
         view_bound: matches!(orbit.stop, StopReason::LeftBounds { .. }),
@@ -67,7 +67,7 @@ fn refused(sys: &System, seeded: &SeededOrbit, why: String) -> OrbitOutcome {
         period: None,
         action: None,
         frequency: None,
-        energy_drift: None,
+        relative_energy_error: None,
         stop: why,
         stopped_early: true,
         view_bound: false,

@@ -69,7 +69,7 @@ pub fn well_rows(a: &Analysis) -> Vec<[String; 4]> {
         .collect()
 }
 
-/// Text of the orbits table: start, period, action, frequency, energy drift, stop reason.
+/// Text of the orbits table: start, period, action, frequency, energy error (relative), stop reason.
 pub fn orbit_row(s: &SeededOrbit, o: Option<&OrbitOutcome>) -> [String; 6] {
     let num = |v: Option<f64>| v.map_or("—".to_string(), |x| format!("{x:.5}"));
     match o {
@@ -78,7 +78,7 @@ pub fn orbit_row(s: &SeededOrbit, o: Option<&OrbitOutcome>) -> [String; 6] {
             num(o.period),
             num(o.action),
             num(o.frequency),
-            o.energy_drift.map_or("—".into(), |d| format!("{d:.2e}")),
+            o.relative_energy_error.map_or("—".into(), |d| format!("{d:.2e}")),
             o.stop.clone(),
         ],
         None => [
@@ -179,10 +179,10 @@ impl TablesPanel {
                     "period",
                     "action",
                     "frequency ω",
-                    "energy drift",
+                    "energy error",
                     "stopped",
                     "method",
-                    "duration",
+                    "longest duration",
                     "",
                 ] {
                     ui.strong(h);
@@ -220,7 +220,8 @@ impl TablesPanel {
                         egui::DragValue::new(&mut duration)
                             .speed(0.5)
                             .max_decimals(3),
-                    );
+                    )
+                    .on_hover_text("at most this long: the orbit stops once it closes");
                     super::params_panel::accessible_name(
                         &rd,
                         egui::Role::SpinButton,

@@ -54,7 +54,7 @@ use search::*;
 
 /// The type of an equilibrium.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[serde(rename_all = "kebab-case")]
 pub enum EquilibriumKind {
     /// det J > 0: eigenvalues ±iω.
     Center,

@@ -193,7 +193,7 @@ impl Collocation {
     ) -> Result<Step, StepError> {
         let s = self.s;
         let jet = sys.jet_t(y.q, y.p, y.t);
-        counters.jet_evaluations += 1;
+        counters.hessian_evaluations += 1;
         if !jet.is_finite() {
             self.last = None;
             return Err(StepError::NonFinite { t: y.t });

@@ -37,7 +37,7 @@ impl State {
 /// The integration methods, with the stable names used in session files and on
 /// the command line.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
-#[serde(rename_all = "lowercase")]
+#[serde(rename_all = "kebab-case")]
 pub enum Method {
     /// For H = T(p) + V(q, t) with T free of t: the 6th-order Nyström
     /// splitting when T is quadratic in p, else the 6th-order partitioned
@@ -69,6 +69,7 @@ pub enum Method {
     /// Gauss–Legendre collocation with 3 stages, order 6, any H.
     Gauss6,
     /// Dormand–Prince 5(4), adaptive, with dense output; not symplectic.
+    #[serde(rename = "dormand-prince", alias = "dopri5")]
     Dopri5,
 }
 
@@ -280,7 +281,7 @@ pub fn kinetic_is_quadratic(sys: &System) -> bool {
 
 /// Why a step could not be taken.
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
-#[serde(tag = "kind", rename_all = "snake_case")]
+#[serde(tag = "kind", rename_all = "kebab-case")]
 pub enum StepError {
     /// The stage equations of an implicit method did not converge.
     SolverFailed {
@@ -373,8 +374,9 @@ pub struct Counters {
     /// method (half of a field; a derivative kept from the previous flow is
     /// not counted again).
     pub field_evaluations: u64,
-    /// Forward passes for second derivatives (the exact Hessian for Newton).
-    pub jet_evaluations: u64,
+    /// Evaluations of the exact Hessian (second derivatives by a forward
+    /// pass: Newton's Jacobian in the implicit methods).
+    pub hessian_evaluations: u64,
     /// Newton iterations of the implicit methods.
     pub newton_iterations: u64,
     /// Trial steps the adaptive method rejected.

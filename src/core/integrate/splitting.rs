@@ -432,7 +432,7 @@ impl Splitting {
                 return Err(StepError::NonFinite { t: s.t });
             };
             if programs.curvature.is_none() {
-                counters.jet_evaluations += 1;
+                counters.hessian_evaluations += 1;
                 let b = sys.jet_t(q, p, t).hpp;
                 if !b.is_finite() {
                     return Err(StepError::NonFinite { t: s.t });

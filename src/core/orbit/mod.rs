@@ -206,7 +206,7 @@ impl std::error::Error for OrbitError {}
 
 /// Why the integration stopped.
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
-#[serde(tag = "kind", rename_all = "snake_case")]
+#[serde(tag = "kind", rename_all = "kebab-case")]
 pub enum StopReason {
     /// The whole duration was integrated.
     Finished,
@@ -229,18 +229,18 @@ pub enum StopReason {
 }
 
 impl StopReason {
-    /// A short stable name ("finished", "closed", "left_bounds", ...).
+    /// A short stable name ("finished", "closed", "left-bounds", ...).
     pub fn name(&self) -> &'static str {
         match self {
             StopReason::Finished => "finished",
             StopReason::Closed => "closed",
-            StopReason::LeftBounds { .. } => "left_bounds",
-            StopReason::NonFinite { .. } => "non_finite",
-            StopReason::StepCap { .. } => "step_cap",
-            StopReason::SolverFailed { .. } => "solver_failed",
+            StopReason::LeftBounds { .. } => "left-bounds",
+            StopReason::NonFinite { .. } => "non-finite",
+            StopReason::StepCap { .. } => "step-cap",
+            StopReason::SolverFailed { .. } => "solver-failed",
             StopReason::Cancelled { .. } => "cancelled",
-            StopReason::AtEquilibrium => "at_equilibrium",
-            StopReason::InvalidRequest { .. } => "invalid_request",
+            StopReason::AtEquilibrium => "at-equilibrium",
+            StopReason::InvalidRequest { .. } => "invalid-request",
         }
     }
 
@@ -278,7 +278,7 @@ impl fmt::Display for StopReason {
 
 /// The kind of motion seen.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "snake_case")]
+#[serde(rename_all = "kebab-case")]
 pub enum Motion {
     /// Returned to the start: a closed curve.
     Libration,
@@ -329,7 +329,7 @@ pub struct Orbit {
     /// The energy scale: max(|H₀|, ½ max|∇H| × the diagonal of the orbit's extent).
     pub energy_scale: f64,
     /// `energy_error / energy_scale` (with damping: the relative change of H).
-    pub energy_drift: f64,
+    pub relative_energy_error: f64,
     /// The method actually used (`auto` resolved).
     pub method: Method,
     /// The step size used (the first trial step for the adaptive method).
@@ -337,7 +337,7 @@ pub struct Orbit {
     pub stop: StopReason,
     pub steps: u64,
     pub field_evaluations: u64,
-    pub jet_evaluations: u64,
+    pub hessian_evaluations: u64,
     /// (q, p) at t0 + kτ, k = 1, 2, … when the request asked for a strobe
     /// period τ (empty otherwise).
     #[serde(skip_serializing_if = "Vec::is_empty")]
@@ -448,13 +448,13 @@ pub fn integrate_with(
         energy: f64::NAN,
         energy_error: 0.0,
         energy_scale: 0.0,
-        energy_drift: 0.0,
+        relative_energy_error: 0.0,
         method: req.method.resolve_damped(sys, req.damping),
         step: 0.0,
         stop: StopReason::Finished,
         steps: 0,
         field_evaluations: 0,
-        jet_evaluations: 0,
+        hessian_evaluations: 0,
         strobe_points: Vec::new(),
         diagnostics: Vec::new(),
     };
@@ -657,9 +657,9 @@ pub fn integrate_with(
     orbit.stop = stop;
     orbit.steps = integrator.counters.steps;
     orbit.field_evaluations += integrator.counters.field_evaluations;
-    orbit.jet_evaluations += integrator.counters.jet_evaluations;
+    orbit.hessian_evaluations += integrator.counters.hessian_evaluations;
     orbit.energy_scale = energy_scale(sys, &orbit);
-    orbit.energy_drift = if orbit.energy_scale > 0.0 {
+    orbit.relative_energy_error = if orbit.energy_scale > 0.0 {
         orbit.energy_error / orbit.energy_scale
     } else {
         0.0

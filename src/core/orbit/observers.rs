@@ -232,7 +232,7 @@ pub struct FirstReturn {
     p_dq_total: f64,
     found: Option<(f64, f64, f64)>,
     field_evaluations: u64,
-    jet_evaluations: u64,
+    hessian_evaluations: u64,
     diagnostics: Vec<Diagnostic>,
 }
 
@@ -257,7 +257,7 @@ impl FirstReturn {
             p_dq_total: 0.0,
             found: None,
             field_evaluations: 0,
-            jet_evaluations: 0,
+            hessian_evaluations: 0,
             diagnostics: Vec::new(),
         }
     }
@@ -277,7 +277,7 @@ impl FirstReturn {
             };
         }
         orbit.field_evaluations += self.field_evaluations;
-        orbit.jet_evaluations += self.jet_evaluations;
+        orbit.hessian_evaluations += self.hessian_evaluations;
         orbit.diagnostics.extend(self.diagnostics);
     }
 }
@@ -327,7 +327,7 @@ impl Observer for FirstReturn {
                     g_next,
                 );
                 self.field_evaluations += finder.counters.field_evaluations;
-                self.jet_evaluations += finder.counters.jet_evaluations;
+                self.hessian_evaluations += finder.counters.hessian_evaluations;
                 match crossing {
                     Some((at, p_dq_partial)) => {
                         let period = (at.t - start.t).abs();
