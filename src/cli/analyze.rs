@@ -90,7 +90,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
         .enumerate()
         .map(|(i, e)| {
             vec![
-                format!("{i}"),
+                format!("{}", i + 1),
                 num(clean(e.q, qn)),
                 num(clean(e.p, pn)),
                 num(clean(e.energy, hn)),
@@ -130,14 +130,14 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
         .iter()
         .map(|wl| {
             vec![
-                format!("#{}", wl.center),
+                format!("#{}", wl.center + 1),
                 num(clean(wl.q, qn)),
                 num(clean(wl.p, pn)),
                 num(clean(wl.energy, hn)),
                 wl.escape_energy.map_or("none in view".to_string(), num),
                 wl.depth.map_or("-".to_string(), num),
                 wl.escape_saddle
-                    .map_or("-".to_string(), |s| format!("#{s}")),
+                    .map_or("-".to_string(), |s| format!("#{}", s + 1)),
                 wl.edge_energy.map_or("-".to_string(), num),
             ]
         })
@@ -168,8 +168,8 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
         .map(|c| {
             vec![
                 format!("{:?}", c.kind).to_lowercase(),
-                format!("#{}", c.from),
-                format!("#{}", c.to),
+                format!("#{}", c.from + 1),
+                format!("#{}", c.to + 1),
                 num(c.energy),
             ]
         })

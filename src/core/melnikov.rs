@@ -43,7 +43,10 @@ const REFINE_ITERATIONS: usize = 60;
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
 pub struct MelnikovConnection {
     pub kind: ConnectionKind,
+    /// The saddles' indices in the equilibria list (written from 1 in JSON).
+    #[serde(serialize_with = "crate::core::numbered::one")]
     pub from: usize,
+    #[serde(serialize_with = "crate::core::numbered::one")]
     pub to: usize,
     pub energy: f64,
     /// D = ∫ (∂H₀/∂p)² ds.

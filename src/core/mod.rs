@@ -44,7 +44,7 @@ impl Cancel {
 
 /// How much a diagnostic matters.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[serde(rename_all = "kebab-case")]
 pub enum Severity {
     Info,
     Warning,
@@ -69,6 +69,24 @@ impl Diagnostic {
         Diagnostic {
             severity: Severity::Info,
             message: message.into(),
+        }
+    }
+}
+
+/// Serde helpers that write an index into a result list (an equilibrium, a
+/// saddle) as its number counted from 1, the way every table, message and
+/// the explorer number rows. The index itself stays 0-based in memory.
+pub mod numbered {
+    use serde::Serializer;
+
+    pub fn one<S: Serializer>(index: &usize, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_u64(*index as u64 + 1)
+    }
+
+    pub fn optional<S: Serializer>(index: &Option<usize>, s: S) -> Result<S::Ok, S::Error> {
+        match index {
+            Some(i) => s.serialize_some(&(*i as u64 + 1)),
+            None => s.serialize_none(),
         }
     }
 }

@@ -57,7 +57,8 @@ const MAX_PERIMETERS: f64 = 20.0;
 /// The potential well around one center.
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
 pub struct Well {
-    /// Index of the center in the equilibria list.
+    /// Index of the center in the equilibria list (written from 1 in JSON).
+    #[serde(serialize_with = "crate::core::numbered::one")]
     pub center: usize,
     pub q: f64,
     pub p: f64,
@@ -68,7 +69,8 @@ pub struct Well {
     pub escape_energy: Option<f64>,
     /// escape_energy − energy (sign-adjusted for maxima of H).
     pub depth: Option<f64>,
-    /// Index of the saddle whose level bounds the well.
+    /// Index of the saddle whose level bounds the well (written from 1 in JSON).
+    #[serde(serialize_with = "crate::core::numbered::optional")]
     pub escape_saddle: Option<usize>,
     /// The energy at which the well's region first touches the window edge
     /// or a blank (undefined) area, when that happens below the escape
@@ -78,7 +80,7 @@ pub struct Well {
 
 /// How a saddle's separatrix continues.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[serde(rename_all = "kebab-case")]
 pub enum ConnectionKind {
     /// It returns to the same saddle.
     Homoclinic,
@@ -90,9 +92,11 @@ pub enum ConnectionKind {
 #[derive(Clone, Debug, PartialEq, serde::Serialize)]
 pub struct Connection {
     pub kind: ConnectionKind,
-    /// Index of the saddle in the equilibria list.
+    /// Index of the saddle in the equilibria list (written from 1 in JSON).
+    #[serde(serialize_with = "crate::core::numbered::one")]
     pub from: usize,
     /// The other end (equal to `from` for a homoclinic loop).
+    #[serde(serialize_with = "crate::core::numbered::one")]
     pub to: usize,
     pub energy: f64,
     /// The traced arc as [q, p] vertices on the exact level, from near `from`

@@ -241,23 +241,23 @@ pub fn equilibria_table(equilibria: &[Equilibrium], params: &[(String, f64)]) ->
 /// One row per well: its center, energy, escape energy, depth and bounding saddle.
 pub fn wells_table(wells: &[Well], params: &[(String, f64)]) -> Table {
     let mut t = Table::new(vec![
-        Column::new("center", "center index"),
+        Column::new("center", "center #"),
         Column::plain("q"),
         Column::plain("p"),
         Column::new("energy", "H at center"),
         Column::new("escape_energy", "escape energy H"),
         Column::new("depth", "depth (H)"),
-        Column::new("escape_saddle", "escape saddle index"),
+        Column::new("escape_saddle", "escape saddle #"),
     ]);
     for w in wells {
         t.push(vec![
-            w.center.into(),
+            (w.center + 1).into(),
             w.q.into(),
             w.p.into(),
             w.energy.into(),
             w.escape_energy.into(),
             w.depth.into(),
-            w.escape_saddle.into(),
+            w.escape_saddle.map(|s| s + 1).into(),
         ]);
     }
     t.with_parameters(params)
@@ -296,7 +296,7 @@ pub fn orbits_samples_table(orbits: &[Orbit], params: &[(String, f64)]) -> Table
     let mut t = Table::new(columns);
     for (i, o) in orbits.iter().enumerate() {
         for row in sample_cells(o) {
-            let mut cells = vec![Cell::from(i)];
+            let mut cells = vec![Cell::from(i + 1)];
             cells.extend(row);
             t.push(cells);
         }
@@ -321,7 +321,7 @@ pub fn sweep_table(sweep: &Sweep) -> Table {
         for pt in &b.points {
             t.push(vec![
                 "point".into(),
-                i.into(),
+                (i + 1).into(),
                 pt.param.into(),
                 pt.q.into(),
                 pt.p.into(),
@@ -370,7 +370,7 @@ pub fn folds_table(folds: &FoldCurves) -> Table {
     };
     for (i, c) in folds.curves.iter().enumerate() {
         for pt in &c.points {
-            t.push(row("point", i.into(), pt));
+            t.push(row("point", (i + 1).into(), pt));
         }
     }
     for pt in &folds.cusps {
@@ -446,7 +446,7 @@ pub fn levels_table(result: &LevelsResult) -> Table {
                 .then(|| w.splitting.map(|s| s.splitting))
                 .flatten();
             t.push(vec![
-                i.into(),
+                (i + 1).into(),
                 w.center[0].into(),
                 w.center[1].into(),
                 l.n.into(),
@@ -526,7 +526,7 @@ pub fn orbit_measurements_table(orbits: &[Orbit], params: &[(String, f64)]) -> T
         Column::new("q_advance", "q advance per period"),
         Column::plain("motion"),
         Column::new("energy_error", "max |H - H0|"),
-        Column::new("energy_drift", "energy drift (relative)"),
+        Column::new("relative_energy_error", "energy error (relative)"),
         Column::plain("method"),
         Column::new("step", "step [time]"),
         Column::plain("steps"),
@@ -548,7 +548,7 @@ pub fn orbit_measurements_table(orbits: &[Orbit], params: &[(String, f64)]) -> T
             o.q_advance.into(),
             Cell::Text(motion),
             o.energy_error.into(),
-            o.energy_drift.into(),
+            o.relative_energy_error.into(),
             o.method.name().into(),
             o.step.into(),
             i64::try_from(o.steps).map_or(Cell::Empty, Cell::Integer),
