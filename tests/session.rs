@@ -183,9 +183,10 @@ fn parameter_value_outside_range_is_refused() {
 }
 
 #[test]
-fn parameter_step_must_be_positive() {
-    let e = error_of(&bad(r#""step": 0.01"#, r#""step": 0"#));
-    assert_eq!(e.field, "parameters[0].step");
+fn parameter_step_of_zero_is_continuous_and_a_negative_one_is_refused() {
+    // 0 means a continuous slider, as the explorer's step field says
+    let (s, _) = session::load(&bad(r#""step": 0.01"#, r#""step": 0"#)).expect("step 0 loads");
+    assert_eq!(s.parameters[0].step, None);
     let e = error_of(&bad(r#""step": 0.01"#, r#""step": -1"#));
     assert_eq!(e.field, "parameters[0].step");
 }

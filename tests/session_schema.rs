@@ -96,14 +96,14 @@ fn every_example_session_validates_and_loads() {
 }
 
 #[test]
-fn view_schema_has_the_fields_a_window_saves() {
-    // The view's schema is written beside the session types (the core stays
+fn window_schema_has_the_fields_a_window_saves() {
+    // The window's schema is written beside the session types (the core stays
     // free of schema code); it must name exactly the fields serde writes.
     let saved = serde_json::to_value(Window::default()).unwrap();
     let mut saved: Vec<&String> = saved.as_object().unwrap().keys().collect();
     saved.sort();
     let s = schema::json_schema();
-    let view = &s["$defs"]["View"];
+    let view = &s["$defs"]["Window"];
     let mut props: Vec<&String> = view["properties"].as_object().unwrap().keys().collect();
     props.sort();
     assert_eq!(props, saved);
@@ -216,8 +216,8 @@ fn what_only_the_loader_checks() {
             { "name": "a", "value": 1, "min": 0, "max": 2 }] })),
         with(json!({ "parameters": [{ "name": "a", "value": 1, "min": 2, "max": 2 }] })),
         with(json!({ "parameters": [{ "name": "a", "value": 3, "min": 0, "max": 2 }] })),
-        with(json!({ "view": { "qmin": 1, "qmax": -1, "pmin": -1, "pmax": 1 } })),
-        with(json!({ "view": { "qmin": -1, "qmax": 1, "pmin": 1, "pmax": 1 } })),
+        with(json!({ "window": { "qmin": 1, "qmax": -1, "pmin": -1, "pmax": 1 } })),
+        with(json!({ "window": { "qmin": -1, "qmax": 1, "pmin": 1, "pmax": 1 } })),
         with(json!({ "view": { "qmin": 1e6, "qmax": 1.0000000000001e6, "pmin": -1, "pmax": 1 } })),
         with(json!({ "sweep": { "param": "a", "from": 1, "to": 1 } })),
         with(json!({ "folds": { "params": ["a", "b"], "box": [1, 0, 0, 1] } })),
@@ -361,6 +361,14 @@ fn positive_step() -> BoxedStrategy<Value> {
     )
 }
 
+/// A slider's step: 0 (continuous) or more.
+fn slider_step() -> BoxedStrategy<Value> {
+    field(
+        prop_oneof![number(1e-6, 5.0), Just(Value::Null), Just(json!(0)), Just(json!(-0.0))].boxed(),
+        prop_oneof![number(-5.0, -1e-9), Just(json!("0.1"))].boxed(),
+    )
+}
+
 /// A parameter with `min < max` and `value` within them; its name comes
 /// from the caller so that names stay distinct.
 fn parameter(n: &'static str) -> BoxedStrategy<Value> {
@@ -375,7 +383,7 @@ fn parameter(n: &'static str) -> BoxedStrategy<Value> {
         -5.0..5.0f64,
         0.1..10.0f64,
         0.0..=1.0f64,
-        optional(positive_step()),
+        optional(slider_step()),
         optional(wrong_type()),
         any::<u8>(),
     )
@@ -679,6 +687,9 @@ fn session_value() -> impl Strategy<Value = Value> {
     let body = (
         optional(parameters()),
         optional(view()),
+        // the window under its name, its older name `view`, or (refused by
+        // both) under the two at once
+        prop_oneof![6 => Just(&["window"][..]), 3 => Just(&["view"][..]), 1 => Just(&["window", "view"][..])],
         optional(levels()),
         optional(orbits()),
         optional(sweep()),
@@ -695,16 +706,20 @@ fn session_value() -> impl Strategy<Value = Value> {
             ("formula", h.4),
             ("comment", h.5),
             ("parameters", b.0),
-            ("view", b.1),
-            ("levels", b.2),
-            ("orbits", b.3),
-            ("sweep", b.4),
-            ("folds", b.5),
-            ("backbone", b.6),
+            ("levels", b.3),
+            ("orbits", b.4),
+            ("sweep", b.5),
+            ("folds", b.6),
+            ("backbone", b.7),
         ];
         for (k, v) in fields {
             if let Some(v) = v {
                 m.insert(k.into(), v);
+            }
+        }
+        if let Some(w) = b.1 {
+            for k in b.2 {
+                m.insert((*k).into(), w.clone());
             }
         }
         Value::Object(m)

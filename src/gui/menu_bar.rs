@@ -111,7 +111,7 @@ pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
             {
                 out.push(Command::SetDark(dark));
             }
-            if ui.button("Reset view").clicked() {
+            if ui.button("Reset window").clicked() {
                 out.push(Command::ResetView);
             }
         });

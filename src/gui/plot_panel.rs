@@ -181,8 +181,8 @@ impl PlotPanel {
             ui.checkbox(&mut self.launch_on_click, "Click launches an orbit")
                 .on_hover_text("Off: clicks do nothing; drag pans and scroll zooms either way");
             if ui
-                .button("Reset view")
-                .on_hover_text("Back to the session's starting view (or double-click)")
+                .button("Reset window")
+                .on_hover_text("Back to the session's starting window (or double-click)")
                 .clicked()
             {
                 commands.push(Command::ResetView);

@@ -80,9 +80,10 @@ pub struct Session {
     /// The formula's parameters (one missing here gets value 1 and range [-10, 10]).
     #[serde(default)]
     pub parameters: Vec<Parameter>,
-    /// The rectangle of phase space in view.
-    #[serde(default)]
-    #[schemars(with = "schema::ViewSchema")]
+    /// The window: the rectangle of phase space shown and analysed (read
+    /// under its older name `view` too).
+    #[serde(default, rename = "window", alias = "view")]
+    #[schemars(with = "schema::WindowSchema")]
     pub view: Window,
     #[serde(default)]
     pub levels: LevelSettings,
@@ -158,9 +159,9 @@ pub struct Parameter {
     /// The slider's range, min < max.
     pub min: f64,
     pub max: f64,
-    /// The slider's step (without it, continuous).
+    /// The slider's step; 0 or none: continuous (as in the explorer).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    #[schemars(extend("exclusiveMinimum" = 0))]
+    #[schemars(range(min = 0))]
     pub step: Option<f64>,
 }
 
@@ -193,7 +194,8 @@ pub struct SeededOrbit {
     /// The start point (q0, p0).
     pub q0: f64,
     pub p0: f64,
-    /// Integration time (negative integrates backward).
+    /// The longest integration time (negative integrates backward); the
+    /// orbit stops sooner once it closes, in the explorer and in figures alike.
     #[schemars(extend("not" = { "const": 0 }))]
     pub duration: f64,
     /// Method name ("auto", "verlet", "yoshida4", ...).
@@ -313,7 +315,14 @@ fn field_template() -> serde_json::Value {
     s.quantum = Some(QuantumSettings {
         hbar: String::new(),
     });
-    serde_json::to_value(&s).unwrap_or(serde_json::Value::Null)
+    let mut known = serde_json::to_value(&s).unwrap_or(serde_json::Value::Null);
+    // older names still read (serde aliases)
+    if let Some(fields) = known.as_object_mut()
+        && let Some(window) = fields.get("window").cloned()
+    {
+        fields.insert("view".into(), window);
+    }
+    known
 }
 
 /// Warn about fields this version does not know (a typo would otherwise
@@ -671,10 +680,10 @@ impl Session {
             }
             if let Some(step) = p.step {
                 check_finite(|| at("step"), step)?;
-                if step <= 0.0 {
+                if step < 0.0 {
                     return Err(SessionError::new(
                         at("step"),
-                        format!("must be greater than 0 (found {step})"),
+                        format!("must be 0 (continuous) or greater (found {step})"),
                     ));
                 }
             }
@@ -689,6 +698,12 @@ impl Session {
                     "parameters[{i}]: `{}` does not appear in the formula and has no effect",
                     p.name
                 ));
+            }
+        }
+        // a step of 0 is a continuous slider, the same as none
+        for p in &mut self.parameters {
+            if p.step == Some(0.0) {
+                p.step = None;
             }
         }
         for name in formula.params() {
@@ -718,12 +733,12 @@ impl Session {
             ("pmin", v.pmin),
             ("pmax", v.pmax),
         ] {
-            check_finite(|| format!("view.{name}"), x)?;
+            check_finite(|| format!("window.{name}"), x)?;
         }
-        check_less(|| "view.qmin".into(), v.qmin, v.qmax, "qmax")?;
-        check_less(|| "view.pmin".into(), v.pmin, v.pmax, "pmax")?;
+        check_less(|| "window.qmin".into(), v.qmin, v.qmax, "qmax")?;
+        check_less(|| "window.pmin".into(), v.pmin, v.pmax, "pmax")?;
         v.validate()
-            .map_err(|e| SessionError::new("view", e.to_string()))
+            .map_err(|e| SessionError::new("window", e.to_string()))
     }
 
     fn validate_levels(&mut self, warnings: &mut Vec<String>) {

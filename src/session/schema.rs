@@ -38,8 +38,8 @@ pub const COLOUR: &str = "^#[0-9A-Fa-f]{6}$";
 const LOADER_CHECKS: &str = "Fields this version does not know are allowed (the loader \
      warns and ignores them). Beyond this schema the loader checks: the formula compiles \
      (H in q, p, t and parameters); parameter names are distinct; for each parameter \
-     min < max and min <= value <= max; view.qmin < view.qmax and view.pmin < view.pmax, \
-     and the view is wider than 1e-12 of its largest coordinate; sweep.from differs from \
+     min < max and min <= value <= max; window.qmin < window.qmax and window.pmin < \
+     window.pmax, and the window is wider than 1e-12 of its largest coordinate; sweep.from differs from \
      sweep.to; folds.box has box[0] < box[1] and box[2] < box[3]. Whole numbers (version, \
      levels.count, levels.grid, backbone.energies) are written as integers without a \
      decimal point or exponent, up to 18446744073709551615; every number lies within \
@@ -49,9 +49,9 @@ const LOADER_CHECKS: &str = "Fields this version does not know are allowed (the 
 // `tests/session_schema.rs` checks that the two have the same fields).
 /// A rectangle [qmin, qmax] × [pmin, pmax] of phase space.
 #[derive(JsonSchema)]
-#[schemars(rename = "View")]
+#[schemars(rename = "Window")]
 #[allow(dead_code)]
-pub struct ViewSchema {
+pub struct WindowSchema {
     /// Left edge (smallest q).
     qmin: f64,
     /// Right edge (largest q).
@@ -113,13 +113,37 @@ pub fn json_schema() -> serde_json::Value {
     root.insert(
         "description".into(),
         format!(
-            "A session of phasewright: a Hamiltonian H(q, p) with its parameters, the view \
+            "A session of phasewright: a Hamiltonian H(q, p) with its parameters, the window \
              of phase space, level-curve settings, seeded orbits and the settings of the \
-             diagram, fold and backbone views. {LOADER_CHECKS}"
+             sweep, fold-curve and backbone views. {LOADER_CHECKS}"
         )
         .into(),
     );
-    root.to_value()
+    let mut value = root.to_value();
+    // `view`, the older name of `window`, is still read: the same rectangle,
+    // and never both in one file (serde refuses a field given twice).
+    if let Some(props) = value
+        .get_mut("properties")
+        .and_then(|p| p.as_object_mut())
+        && let Some(window) = props.get("window").cloned()
+    {
+        let mut view = window;
+        if let Some(v) = view.as_object_mut() {
+            v.insert(
+                "description".into(),
+                "The older name of `window`, still read.".into(),
+            );
+            v.insert("deprecated".into(), true.into());
+        }
+        props.insert("view".into(), view);
+    }
+    if let Some(root) = value.as_object_mut() {
+        root.insert(
+            "not".into(),
+            serde_json::json!({ "required": ["window", "view"] }),
+        );
+    }
+    value
 }
 
 /// [`json_schema`] as the shipped file holds it: indented, with a final newline.
