@@ -2,16 +2,18 @@
 
 use super::*;
 
-/// What a figure shows.
+/// What a figure shows (`render --figure NAME`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum FigureView {
     /// Level curves, equilibria and the session's orbits in the phase plane.
     Portrait,
-    /// Equilibria against one parameter (the session's sweep, or --param/--from/--to).
+    /// The sweep: equilibria against one parameter (the session's sweep, or
+    /// --param/--from/--to); `diagram` is read as well.
+    #[value(name = "sweep", alias = "diagram")]
     Diagram,
     /// Period against energy, or frequency against amplitude, in the well of one center.
     Backbone,
-    /// Saddle-node curves in the plane of two parameters (the session's folds, or --params/--box).
+    /// Fold curves in the plane of two parameters (the session's folds, or --params/--box).
     Folds,
     /// Bohr–Sommerfeld levels over H along the center's line (the session's quantum.hbar, or --hbar).
     Levels,
@@ -37,9 +39,9 @@ pub struct RenderArgs {
     /// Size in pixels, WIDTHxHEIGHT.
     #[arg(long, value_name = "WIDTHxHEIGHT", default_value = "1000x750")]
     pub size: String,
-    /// What to draw.
-    #[arg(long, value_enum, default_value_t = FigureView::Portrait)]
-    pub view: FigureView,
+    /// Which figure to draw (`--view`, its older name, is read as well).
+    #[arg(long, alias = "view", value_name = "NAME", value_enum, default_value_t = FigureView::Portrait)]
+    pub figure: FigureView,
     /// Backbone: which relation to plot.
     #[arg(long, value_enum, default_value_t = PlotArg::PeriodEnergy)]
     pub plot: PlotArg,
@@ -99,7 +101,7 @@ impl FigureView {
 /// numbers behind it as CSV or JSON, through `render::export_data`.
 pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
     use crate::render::{ExportFormat, FigureSize};
-    let view = args.view.view(args.plot);
+    let view = args.figure.view(args.plot);
     let which = args.table.map(Into::into).unwrap_or_default();
     let format = ExportFormat::from_path(&args.output, which).ok_or_else(|| {
         CliError(format!(
@@ -118,18 +120,18 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
     let command = match view {
         View::Diagram => {
             args.sweep.apply(&mut r.session)?;
-            "--view diagram".to_string()
+            "--figure sweep".to_string()
         }
         View::Folds => {
             args.folds.apply(&mut r.session)?;
-            "--view folds".to_string()
+            "--figure folds".to_string()
         }
         View::Backbone(_) => {
             args.backbone.apply(&mut r.session)?;
             args.backbone.command()
         }
-        View::Levels => levels::apply_hbar(&mut r.session, args.hbar.as_deref(), "--view levels"),
-        View::Portrait => "--view portrait".to_string(),
+        View::Levels => levels::apply_hbar(&mut r.session, args.hbar.as_deref(), "--figure levels"),
+        View::Portrait => "--figure portrait".to_string(),
     };
     print_warnings(&r.warnings);
     let data = compute(&r, &command, |s, sys, w, c| {

@@ -137,7 +137,7 @@ impl View {
     pub fn name(self) -> &'static str {
         match self {
             View::Portrait => "portrait",
-            View::Diagram => "diagram",
+            View::Diagram => "sweep",
             View::Backbone(_) => "backbone",
             View::Folds => "folds",
             View::Levels => "levels",
@@ -294,7 +294,7 @@ pub fn levels_of(
     let result = request.run(sys, window, cancel);
     if result.wells.is_empty() && result.refused.is_empty() {
         return Err(refused(View::Levels)(
-            "there is no center in view, so no well to quantize; widen the view".to_string(),
+            "there is no center in view, so no well to quantize; widen the window".to_string(),
         ));
     }
     if result.wells.is_empty() {
