@@ -250,7 +250,7 @@ pub enum CurveRole {
     Branch { kind: EquilibriumKind },
     /// A backbone (period, frequency or action against energy).
     Backbone,
-    /// A saddle-node curve in the plane of two parameters.
+    /// A fold curve (saddle-nodes) in the plane of two parameters.
     Fold,
     /// A reference line (an escape energy, the current parameter value).
     Guide,
@@ -354,7 +354,7 @@ pub struct ColourScale {
 impl ColourScale {
     fn energy(min: f64, max: f64) -> ColourScale {
         ColourScale {
-            label: "H".to_string(),
+            label: "energy E".to_string(),
             min,
             max,
             stops: ENERGY_STOPS.to_vec(),
@@ -813,7 +813,7 @@ impl Scene {
             numbers::caption(sweep.to)
         );
         Scene {
-            title: format!("Equilibria as {name} moves"),
+            title: format!("Sweep: equilibria as {name} moves"),
             caption: caption_without(sys, &[name], &tail),
             x,
             y,
@@ -918,7 +918,7 @@ impl Scene {
         }
     }
 
-    /// The saddle-node curves in the plane of two parameters over their box,
+    /// The fold curves (where saddle-nodes happen) in the plane of two parameters over their box,
     /// cusps marked and labelled, and cross-hair guides at `current` (the two
     /// parameters' present values) when it lies in the box.
     pub fn folds(sys: &System, folds: &FoldCurves, current: Option<[f64; 2]>) -> Scene {
@@ -956,7 +956,7 @@ impl Scene {
         let mut legend = Vec::new();
         if !curves.is_empty() {
             legend.push(line_entry(
-                "saddle-node".to_string(),
+                "fold curve".to_string(),
                 FOLD_COLOUR,
                 FOLD_WIDTH,
                 false,
@@ -988,7 +988,7 @@ impl Scene {
             ));
         }
         Scene {
-            title: format!("Saddle-node curves in ({n1}, {n2})"),
+            title: format!("Fold curves in ({n1}, {n2})"),
             caption: caption_without(sys, &[n1, n2], ""),
             x,
             y,

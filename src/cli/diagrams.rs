@@ -216,7 +216,7 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
     )
 }
 
-/// `folds`: saddle-node curves in two parameters.
+/// `folds`: fold curves in two parameters.
 pub fn run_folds(args: &FoldsArgs) -> Result<String, CliError> {
     run_view(
         &args.system,
@@ -288,7 +288,7 @@ pub(super) fn sweep_text(r: &Resolved, s: &Sweep) -> String {
     if rows.is_empty() {
         let _ = writeln!(out, "  none in range");
     } else {
-        table(&mut out, &["kind", &s.param, "q", "p", "H"], &rows);
+        table(&mut out, &["kind", &s.param, "q", "p", "E"], &rows);
     }
     let _ = writeln!(out, "\nBranches ({})", s.branches.len());
     let rows: Vec<Vec<String>> = s
@@ -298,7 +298,7 @@ pub(super) fn sweep_text(r: &Resolved, s: &Sweep) -> String {
         .filter_map(|(i, b)| {
             let (first, last) = (b.points.first()?, b.points.last()?);
             Some(vec![
-                format!("{i}"),
+                format!("{}", i + 1),
                 crate::scene::kind_name(b.kind).to_string(),
                 format!("{}", b.points.len()),
                 format!("({}, {})", num(first.param), num(first.q)),
@@ -334,7 +334,7 @@ pub(super) fn folds_text(r: &Resolved, f: &FoldCurves) -> String {
         .filter_map(|(i, c)| {
             let (first, last) = (c.points.first()?, c.points.last()?);
             Some(vec![
-                format!("{i}"),
+                format!("{}", i + 1),
                 format!("{}", c.points.len()),
                 if c.closed { "closed" } else { "open" }.to_string(),
                 format!("({}, {})", num(first.params[0]), num(first.params[1])),
@@ -368,7 +368,7 @@ pub(super) fn folds_text(r: &Resolved, f: &FoldCurves) -> String {
     } else {
         table(
             &mut out,
-            &[&f.params[0], &f.params[1], "q", "p", "H"],
+            &[&f.params[0], &f.params[1], "q", "p", "E"],
             &rows,
         );
     }
@@ -382,7 +382,7 @@ pub(super) fn backbone_text(r: &Resolved, b: &Backbone) -> String {
     let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
     let _ = writeln!(
         out,
-        "center q = {}, p = {}, H = {}",
+        "center q = {}, p = {}, E = {}",
         num(b.center[0]),
         num(b.center[1]),
         num(b.center_energy)

@@ -78,7 +78,7 @@ pub enum Command {
     Orbit(OrbitArgs),
     /// Follow the equilibria as one parameter moves; locate saddle-nodes and branch points.
     Sweep(SweepArgs),
-    /// Trace the saddle-node curves in the plane of two parameters, with their cusps.
+    /// Trace the fold curves (where saddle-nodes happen) in the plane of two parameters, with their cusps.
     Folds(FoldsArgs),
     /// Period, frequency, action and amplitude against energy in the well of a center.
     Backbone(BackboneArgs),

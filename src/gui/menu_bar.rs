@@ -160,7 +160,7 @@ fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
         }
     });
     let views = [
-        ("Bifurcation diagram", View::Diagram, st.has_sweep),
+        ("Sweep: equilibria against a parameter", View::Diagram, st.has_sweep),
         (
             "Backbone: period against energy",
             View::Backbone(BackbonePlot::PeriodEnergy),

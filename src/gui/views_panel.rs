@@ -29,8 +29,8 @@ use super::worker::{Lane, Progress, ViewComputed, ViewKind, ViewOutcome, ViewSpe
 use super::{Command, Selection};
 
 /// Accessible names of the pane plots.
-pub const DIAGRAM_LABEL: &str = "Bifurcation diagram";
-pub const FOLDS_LABEL: &str = "Fold curve";
+pub const DIAGRAM_LABEL: &str = "Sweep: equilibria against a parameter";
+pub const FOLDS_LABEL: &str = "Fold curves";
 pub const BACKBONE_LABEL: &str = "Backbone: period against energy";
 pub const FREQUENCY_LABEL: &str = "Backbone: frequency against amplitude";
 
@@ -364,8 +364,8 @@ impl ViewsPanel {
     pub fn ui(&mut self, ui: &mut egui::Ui, inp: &Inputs) -> Vec<Command> {
         let mut commands = Vec::new();
         ui.horizontal(|ui| {
-            ui.selectable_value(&mut self.tab, Tab::Diagram, "Diagram");
-            ui.selectable_value(&mut self.tab, Tab::Folds, "Fold curve");
+            ui.selectable_value(&mut self.tab, Tab::Diagram, "Sweep");
+            ui.selectable_value(&mut self.tab, Tab::Folds, "Fold curves");
             ui.selectable_value(&mut self.tab, Tab::Backbone, "Backbone");
         });
         ui.separator();
@@ -533,7 +533,7 @@ impl ViewsPanel {
                 dragging: false,
             });
         }
-        ui.small("Click the diagram to set the parameter there. Centers solid, saddles dashed.");
+        ui.small("Click the sweep to set the parameter there. Centers solid, saddles dashed.");
         if let Some(sw) = &sweep {
             if sw.bifurcations.is_empty() {
                 ui.label(format!("No bifurcation for {name} in {from} .. {to}."));
@@ -566,7 +566,7 @@ impl ViewsPanel {
             ..
         }) = r.folds.clone()
         else {
-            ui.label("A fold curve needs a formula with two parameters.");
+            ui.label("Fold curves need a formula with two parameters.");
             return;
         };
         let mut new_pair = pair.clone();
@@ -577,14 +577,18 @@ impl ViewsPanel {
             .num_columns(5)
             .show(ui, |ui| {
                 for k in 0..2 {
-                    ui.label(if k == 0 { "across" } else { "up" });
+                    ui.label(if k == 0 {
+                        "horizontal axis"
+                    } else {
+                        "vertical axis"
+                    });
                     new_pair[k] = param_choice(
                         ui,
                         ("fold-param", k),
                         if k == 0 {
-                            "fold parameter across"
+                            "fold parameter on the horizontal axis"
                         } else {
-                            "fold parameter up"
+                            "fold parameter on the vertical axis"
                         },
                         &pair[k],
                         &names,
@@ -629,7 +633,7 @@ impl ViewsPanel {
             });
             if new_pair[0] == new_pair[1] {
                 self.refused = Some(format!(
-                    "fold curve: choose two different parameters (both are {}); kept",
+                    "fold curves: choose two different parameters (both are {}); kept",
                     new_pair[0]
                 ));
             } else if let Some(k) = bad {
@@ -661,7 +665,7 @@ impl ViewsPanel {
             _ => None,
         };
         let Some(c) = &self.shown[1] else {
-            ui.label("Computing the fold curve…");
+            ui.label("Computing the fold curves…");
             return;
         };
         let (generation, sys) = (c.generation, c.system.clone());
@@ -786,7 +790,7 @@ impl ViewsPanel {
                     "escape energy {}: the period grows without bound towards it",
                     label_number(e)
                 )),
-                None => ui.label("the well reaches the edge of the view before a saddle"),
+                None => ui.label("the well reaches the edge of the window before a saddle"),
             };
             if let Some(shift) = &b.frequency_shift {
                 ui.label(crate::scene::shift_text(shift));

@@ -125,7 +125,7 @@ pub enum View {
     Diagram,
     /// Period, frequency, action against energy in one well (the session's `backbone`).
     Backbone(BackbonePlot),
-    /// Saddle-node curves in the plane of two parameters (the session's `folds`).
+    /// Fold curves in the plane of two parameters (the session's `folds`).
     Folds,
     /// The Bohr–Sommerfeld levels of every well in view over H along the
     /// center's line p = p_c (the session's `quantum.hbar`).

@@ -90,10 +90,10 @@ pub struct Session {
     /// Orbits started from given points (at most 64 are kept).
     #[serde(default)]
     pub orbits: Vec<SeededOrbit>,
-    /// The one-parameter sweep behind the bifurcation diagram, if set.
+    /// The sweep (equilibria against one parameter), if set.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub sweep: Option<SweepSettings>,
-    /// The two-parameter box of the saddle-node curves, if set.
+    /// The two-parameter box of the fold curves, if set.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub folds: Option<FoldSettings>,
     /// The well whose backbone is drawn, if set.
@@ -124,7 +124,7 @@ pub struct SweepSettings {
     pub max_step: Option<f64>,
 }
 
-/// The plane of two parameters in which saddle-node curves are traced.
+/// The plane of two parameters in which fold curves are traced.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct FoldSettings {
     /// The two parameters, horizontal axis first.
@@ -859,7 +859,7 @@ impl Session {
         }
         if formula.param_index(&sw.param).is_none() {
             warnings.push(format!(
-                "sweep.param: the formula has no parameter `{}`; the diagram needs one of: {}",
+                "sweep.param: the formula has no parameter `{}`; the sweep needs one of: {}",
                 sw.param,
                 names_or_none(formula.params())
             ));
