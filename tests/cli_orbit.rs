@@ -92,7 +92,7 @@ fn csv_output_lists_samples_on_the_energy_level() {
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     let text = String::from_utf8(o.stdout).unwrap();
     let mut lines = text.lines();
-    assert_eq!(lines.next(), Some("t,q,p,H"));
+    assert_eq!(lines.next(), Some("t,q,p,E"));
     let rows: Vec<Vec<f64>> = lines
         .map(|l| l.split(',').map(|x| x.parse().unwrap()).collect())
         .collect();

@@ -374,7 +374,7 @@ fn sweep_command_csv_names_the_parameter_and_bad_input_exits_2() {
     ]);
     assert_eq!(o.status.code(), Some(0));
     let text = String::from_utf8_lossy(&o.stdout);
-    assert_eq!(text.lines().next(), Some("record,branch,a,q,p,energy,kind"));
+    assert_eq!(text.lines().next(), Some("row,branch,a,q,p,energy,kind"));
     // One saddle-node at a = 0, q = 0 (saddle-node normal form; closed form).
     let fold: Vec<&str> = text
         .lines()
@@ -419,7 +419,7 @@ fn folds_command_lists_the_cusp() {
         String::from_utf8_lossy(&o.stderr)
     );
     let text = String::from_utf8_lossy(&o.stdout);
-    assert_eq!(text.lines().next(), Some("record,curve,mu,eps,q,p,energy"));
+    assert_eq!(text.lines().next(), Some("row,curve,mu,eps,q,p,energy"));
     let cusps: Vec<&str> = text.lines().filter(|l| l.starts_with("cusp")).collect();
     assert_eq!(cusps.len(), 1);
     let mu: f64 = cusps[0]

@@ -455,7 +455,7 @@ fn render_command_csv_holds_the_analysis_values_bit_for_bit() {
     let header = &rows[0];
     let col = |name: &str| header.iter().position(|h| h == name).unwrap();
     for (row, e) in rows[1..].iter().zip(&a.equilibria) {
-        for (name, v) in [("q", e.q), ("p", e.p), ("H", e.energy)] {
+        for (name, v) in [("q", e.q), ("p", e.p), ("E", e.energy)] {
             let read: f64 = row[col(name)].parse().unwrap();
             assert_eq!(
                 read.to_bits(),
@@ -851,7 +851,7 @@ fn sweep_csv_holds_the_branches_and_bifurcations_bit_for_bit() {
     assert_eq!(
         rows[0],
         [
-            "record", "branch", "P", "q", "p", "energy", "kind", "g", "w"
+            "row", "branch", "P", "q", "p", "energy", "kind", "g", "w"
         ]
     );
     let points: Vec<_> = s.branches.iter().flat_map(|b| &b.points).collect();
@@ -881,7 +881,7 @@ fn folds_csv_holds_the_curves_and_cusps_bit_for_bit() {
     let f = phasewright::render::folds_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
     assert_eq!(
         rows[0],
-        ["record", "curve", "P", "w", "q", "p", "energy", "g"]
+        ["row", "curve", "P", "w", "q", "p", "energy", "g"]
     );
     let points: Vec<_> = f.curves.iter().flat_map(|c| &c.points).collect();
     assert_eq!(rows.len(), 1 + points.len() + f.cusps.len());

@@ -115,7 +115,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 "#",
                 "q",
                 "p",
-                "H",
+                "E",
                 "kind",
                 "eigenvalues",
                 "κ in ω ≈ ω0 + κA²",
@@ -151,11 +151,11 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 "center",
                 "q",
                 "p",
-                "H",
+                "E",
                 "escape energy",
                 "depth",
                 "via saddle",
-                "meets edge at H",
+                "meets edge at E",
             ],
             &rows,
         );
@@ -177,7 +177,7 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
     if rows.is_empty() {
         let _ = writeln!(out, "  none");
     } else {
-        table(&mut out, &["kind", "from", "to", "H"], &rows);
+        table(&mut out, &["kind", "from", "to", "E"], &rows);
     }
 
     if !a.diagnostics.is_empty() || a.cancelled {

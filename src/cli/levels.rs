@@ -68,7 +68,7 @@ fn levels_text(r: &Resolved, res: &LevelsResult) -> String {
     for (i, w) in res.wells.iter().enumerate() {
         let _ = writeln!(
             out,
-            "\nWell {} — center q = {}, p = {}, H = {}",
+            "\nWell {} — center q = {}, p = {}, E = {}",
             i + 1,
             num(w.center[0]),
             num(w.center[1]),
@@ -81,7 +81,7 @@ fn levels_text(r: &Resolved, res: &LevelsResult) -> String {
             None => {
                 let _ = writeln!(
                     out,
-                    "no saddle bounds the well in view; it opens at the window's edge at H = {}",
+                    "no saddle bounds the well in view; it opens at the window's edge at E = {}",
                     num(w.top_energy)
                 );
             }

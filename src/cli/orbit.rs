@@ -122,7 +122,7 @@ pub fn orbit_table(r: &Resolved, orbit: &Orbit, q0: f64, p0: f64) -> String {
     let _ = writeln!(out, "H(q, p) = {}", r.session.formula);
     let _ = writeln!(
         out,
-        "start: q0 = {q0}, p0 = {p0}, H = {}",
+        "start: q0 = {q0}, p0 = {p0}, E = {}",
         num(orbit.energy)
     );
     let _ = writeln!(out, "method: {}, step {}", orbit.method, num(orbit.step));

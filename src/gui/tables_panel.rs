@@ -130,7 +130,7 @@ impl TablesPanel {
                     table(
                         ui,
                         "eq-table",
-                        &["#", "q", "p", "H", "kind", "eigenvalues", "ω or λ"],
+                        &["#", "q", "p", "E", "kind", "eigenvalues", "ω or λ"],
                         &rows,
                         |i| Selection::Equilibrium(i),
                         selection,
@@ -145,7 +145,7 @@ impl TablesPanel {
                     table(
                         ui,
                         "well-table",
-                        &["#", "center", "H at center", "escape energy", "depth"],
+                        &["#", "center", "E at center", "escape energy", "depth"],
                         &rows,
                         |i| Selection::Well(i),
                         selection,

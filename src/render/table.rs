@@ -197,7 +197,7 @@ pub fn equilibria_table(equilibria: &[Equilibrium], params: &[(String, f64)]) ->
     let mut t = Table::new(vec![
         Column::plain("q"),
         Column::plain("p"),
-        Column::new("energy", "H"),
+        Column::new("energy", "E"),
         Column::plain("kind"),
         Column::new("eig1_re", "eigenvalue 1 re [1/time]"),
         Column::new("eig1_im", "eigenvalue 1 im [1/time]"),
@@ -244,9 +244,9 @@ pub fn wells_table(wells: &[Well], params: &[(String, f64)]) -> Table {
         Column::new("center", "center #"),
         Column::plain("q"),
         Column::plain("p"),
-        Column::new("energy", "H at center"),
-        Column::new("escape_energy", "escape energy H"),
-        Column::new("depth", "depth (H)"),
+        Column::new("energy", "E at center"),
+        Column::new("escape_energy", "escape energy E"),
+        Column::new("depth", "depth (E)"),
         Column::new("escape_saddle", "escape saddle #"),
     ]);
     for w in wells {
@@ -263,13 +263,13 @@ pub fn wells_table(wells: &[Well], params: &[(String, f64)]) -> Table {
     t.with_parameters(params)
 }
 
-/// The columns of orbit samples: t, q, p, H.
+/// The columns of orbit samples: t, q, p and the energy E = H(q, p).
 fn sample_columns() -> Vec<Column> {
     vec![
         Column::plain("t"),
         Column::plain("q"),
         Column::plain("p"),
-        Column::new("h", "H"),
+        Column::new("energy", "E"),
     ]
 }
 
@@ -309,7 +309,7 @@ pub fn orbits_samples_table(orbits: &[Orbit], params: &[(String, f64)]) -> Table
 /// swept parameter's column is headed by its name.
 pub fn sweep_table(sweep: &Sweep) -> Table {
     let mut t = Table::new(vec![
-        Column::plain("record"),
+        Column::plain("row"),
         Column::plain("branch"),
         Column::new("param", &sweep.param),
         Column::plain("q"),
@@ -349,7 +349,7 @@ pub fn sweep_table(sweep: &Sweep) -> Table {
 /// by their names.
 pub fn folds_table(folds: &FoldCurves) -> Table {
     let mut t = Table::new(vec![
-        Column::plain("record"),
+        Column::plain("row"),
         Column::plain("curve"),
         Column::new("param1", &folds.params[0]),
         Column::new("param2", &folds.params[1]),
@@ -519,13 +519,13 @@ pub fn orbit_measurements_table(orbits: &[Orbit], params: &[(String, f64)]) -> T
     let mut t = Table::new(vec![
         Column::plain("q0"),
         Column::plain("p0"),
-        Column::new("energy", "H"),
+        Column::new("energy", "E"),
         Column::new("period", "period [time]"),
         Column::new("frequency", "frequency [rad/time]"),
-        Column::new("action", "action I [H*time]"),
+        Column::new("action", "action I [E*time]"),
         Column::new("q_advance", "q advance per period"),
         Column::plain("motion"),
-        Column::new("energy_error", "max |H - H0|"),
+        Column::new("energy_error", "energy error max |H - H0|"),
         Column::new("relative_energy_error", "energy error (relative)"),
         Column::plain("method"),
         Column::new("step", "step [time]"),
