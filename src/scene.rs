@@ -86,15 +86,17 @@ pub const MUTED: Rgb = Rgb(0x6b, 0x6f, 0x7a);
 /// The plot area's background.
 pub const PAPER: Rgb = Rgb(0xff, 0xff, 0xff);
 /// Colours given to orbits the user did not colour, in turn: amber, petrol,
-/// rust, aqua (OKLCh below). Their hues (50°–220°, by way of yellow) lie
-/// outside the energy scale's (235°–15° by way of violet), so an orbit stands
-/// out from the level curves; warm and cool alternate and lightness differs
-/// between neighbours, so each two in turn stay apart in normal vision and in
-/// simulated protan and deutan vision (OKLab distance 0.17 or more).
+/// olive, aqua (OKLCh below). Their hues (70°–220°, by way of yellow and
+/// green) lie outside the energy scale's (235°–15° by way of violet), so an
+/// orbit stands out from the level curves; none is a dark warm colour that a
+/// thin line could take for the scale's wine low end; warm and cool alternate
+/// and lightness differs between neighbours, so each two in turn stay apart
+/// in normal vision and in simulated protan and deutan vision (OKLab
+/// distance 0.16 or more).
 pub const ORBIT_COLOURS: [Rgb; 4] = [
     Rgb(0xb6, 0x76, 0x16), // L 0.62, C 0.128, h 70
     Rgb(0x10, 0x6e, 0x85), // L 0.50, C 0.087, h 220
-    Rgb(0x81, 0x3c, 0x09), // L 0.44, C 0.111, h 50
+    Rgb(0x5e, 0x8a, 0x21), // L 0.58, C 0.140, h 130
     Rgb(0x1f, 0xae, 0xa8), // L 0.68, C 0.112, h 190
 ];
 /// The ring drawn around the selected equilibrium or well in the explorer.
@@ -200,7 +202,9 @@ pub fn kind_name(kind: EquilibriumKind) -> &'static str {
 /// Stroke widths in points.
 pub const LEVEL_WIDTH: f64 = 1.0;
 pub const SEPARATRIX_WIDTH: f64 = 2.2;
-pub const ORBIT_WIDTH: f64 = 1.8;
+/// Orbits are drawn well over twice as wide as level curves, so that an
+/// orbit never reads as one more level.
+pub const ORBIT_WIDTH: f64 = 2.4;
 pub const BRANCH_WIDTH: f64 = 2.0;
 pub const BACKBONE_WIDTH: f64 = 2.0;
 pub const FOLD_WIDTH: f64 = 2.0;

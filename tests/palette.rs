@@ -227,3 +227,30 @@ fn orbit_colours_stand_out_from_level_curves_and_read_on_white() {
         assert!(delta_e(sel, oklab(*c)) >= 0.15, "selection vs {}", c.hex());
     }
 }
+
+#[test]
+fn no_orbit_colour_looks_like_the_dark_low_end_of_the_scale() {
+    // A thin dark curve in the lowest quarter of the energy scale (the wine
+    // end) reads as a level curve: every orbit colour keeps a difference
+    // read at a glance (OKLab ΔE 0.2, twice the level-colour margin above;
+    // common practice) from that quarter, and 0.15 in simulated protan vision.
+    let low: Vec<Rgb> = (0..=25).map(|i| energy_colour(i as f64 / 100.0)).collect();
+    for c in ORBIT_COLOURS {
+        let normal = low
+            .iter()
+            .map(|&s| delta_e(oklab(c), oklab(s)))
+            .fold(f64::INFINITY, f64::min);
+        assert!(normal >= 0.2, "{} is ΔE {normal} from the low end", c.hex());
+        let protan = low
+            .iter()
+            .map(|&s| delta_e(dichromat(c, PROTAN), dichromat(s, PROTAN)))
+            .fold(f64::INFINITY, f64::min);
+        assert!(
+            protan >= 0.15,
+            "{} is ΔE {protan} from the low end (protan)",
+            c.hex()
+        );
+    }
+    // and orbits are drawn well wider than level curves
+    assert!(scene::ORBIT_WIDTH >= 2.0 * scene::LEVEL_WIDTH);
+}
