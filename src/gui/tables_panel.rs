@@ -25,22 +25,23 @@ pub struct TablesPanel {
     pub tab: Tab,
 }
 
-/// Text of the equilibria table: q, p, H, kind, eigenvalues, ω or λ.
-pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
+/// Text of the equilibria table: q, p, E, kind, eigenvalues, ω or λ, κ.
+pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 7]> {
     eqs.iter()
         .map(|e| {
             let rate = match (e.omega, e.lambda) {
-                (Some(w), _) => match e.frequency_shift {
-                    Some(k) => format!(
-                        "ω = {w:.5}, κ = {} ({})",
-                        crate::numbers::caption(k),
-                        crate::scene::shift_name(k)
-                    ),
-                    None => format!("ω = {w:.5}"),
-                },
+                (Some(w), _) => format!("ω = {w:.5}"),
                 (None, Some(l)) => format!("λ = {l:.5}"),
                 _ => "—".into(),
             };
+            // κ in a column of its own, short, so the row fits the pane
+            let shift = e.frequency_shift.map_or("—".into(), |k| {
+                format!(
+                    "{} {}",
+                    crate::numbers::caption(k),
+                    crate::scene::shift_name(k)
+                )
+            });
             [
                 fixed(e.q, 5),
                 fixed(e.p, 5),
@@ -48,6 +49,7 @@ pub fn equilibrium_rows(eqs: &[Equilibrium]) -> Vec<[String; 6]> {
                 kind_name(e.kind).to_string(),
                 eigen_text(e),
                 rate,
+                shift,
             ]
         })
         .collect()
@@ -130,7 +132,7 @@ impl TablesPanel {
                     table(
                         ui,
                         "eq-table",
-                        &["#", "q", "p", "E", "kind", "eigenvalues", "ω or λ"],
+                        &["#", "q", "p", "E", "kind", "eigenvalues", "ω or λ", "κ"],
                         &rows,
                         |i| Selection::Equilibrium(i),
                         selection,
