@@ -67,7 +67,7 @@ fn an_orbit_that_does_not_close_reports_a_null_period() {
     assert!(v["period"].is_null());
     assert_eq!(v["closed"], false);
     assert!(
-        ["left_bounds", "non_finite"].contains(&v["stop_reason"].as_str().unwrap()),
+        ["left-bounds", "non-finite"].contains(&v["stop_reason"].as_str().unwrap()),
         "{v}"
     );
 }

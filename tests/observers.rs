@@ -78,7 +78,7 @@ fn a_bad_strobe_period_is_refused() {
         let mut req = request(1.0, 0.0, Method::Gauss6);
         req.strobe = Some(tau);
         let o = integrate_orbit(&sys, &req, &Cancel::never());
-        assert_eq!(o.stop.name(), "invalid_request", "strobe {tau}");
+        assert_eq!(o.stop.name(), "invalid-request", "strobe {tau}");
         assert!(o.stop.message().contains("strobe"));
     }
 }
