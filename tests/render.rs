@@ -696,7 +696,7 @@ fn views_of(session: &phasewright::session::Session) -> Vec<&'static str> {
         views.push("backbone");
     }
     if session.sweep.is_some() {
-        views.push("diagram");
+        views.push("sweep");
     }
     if session.folds.is_some() {
         views.push("folds");
@@ -720,12 +720,12 @@ fn render_command_draws_every_session_in_every_view_its_settings_allow() {
                 path.to_str().unwrap(),
                 "-o",
                 out.to_str().unwrap(),
-                "--view",
+                "--figure",
                 view,
             ]);
             assert!(
                 o.status.success(),
-                "{} --view {view}: {}",
+                "{} --figure {view}: {}",
                 path.display(),
                 String::from_utf8_lossy(&o.stderr)
             );
@@ -733,7 +733,7 @@ fn render_command_draws_every_session_in_every_view_its_settings_allow() {
             let doc = roxmltree::Document::parse(&svg).unwrap();
             let class = match view {
                 "portrait" => "level",
-                "diagram" => "branch",
+                "sweep" => "branch",
                 "folds" => "fold",
                 "levels" => "quantum-level",
                 other => other,
@@ -744,10 +744,10 @@ fn render_command_draws_every_session_in_every_view_its_settings_allow() {
                 .count();
             assert!(
                 curves > 0,
-                "{} --view {view}: no {class} path",
+                "{} --figure {view}: no {class} path",
                 path.display()
             );
-            diagrams += usize::from(view == "diagram");
+            diagrams += usize::from(view == "sweep");
         }
     }
     assert!(diagrams >= 4, "only {diagrams} sessions have a sweep");
@@ -844,6 +844,7 @@ fn load_example(name: &str) -> (phasewright::session::Session, System) {
 
 #[test]
 fn sweep_csv_holds_the_branches_and_bifurcations_bit_for_bit() {
+    // the older spellings `--view` and `diagram` are still read
     let rows = render_csv("imperfect-strut.json", &["--view", "diagram"]);
     let (session, sys) = load_example("imperfect-strut.json");
     let s = phasewright::render::sweep_of(&session, &sys, &session.view, &Cancel::never()).unwrap();

@@ -277,7 +277,7 @@ fn export_filter(format: crate::render::ExportFormat) -> &'static str {
     }
 }
 
-/// A file name for an export of `view`: "diagram.png", "portrait-wells.csv".
+/// A file name for an export of `view`: "sweep.png", "portrait-wells.csv".
 pub fn export_file_name(view: crate::render::View, format: crate::render::ExportFormat) -> String {
     use crate::render::{ExportFormat, PortraitTable, View};
     let table = match (view, format) {
