@@ -119,8 +119,9 @@ fn the_backbone_carries_kappa_from_the_formula_or_from_its_fit() {
         let swapped = run("q^2/2 + p^2/2 + b*p^4/4", b);
         let shift = swapped.frequency_shift.unwrap();
         assert_eq!(shift.source, ShiftSource::BackboneFit);
+        // the orbit path's rows and the A⁶ term the fit leaves out: 1e-5
         assert!(
-            (shift.kappa - want).abs() <= 1e-6 * want.abs(),
+            (shift.kappa - want).abs() <= 1e-5 * want.abs(),
             "swapped Duffing b = {b}: fit {} vs {want}",
             shift.kappa
         );

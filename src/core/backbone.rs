@@ -113,6 +113,9 @@ const EVEN_SHARE: f64 = 0.6;
 /// (2·√0.9/0.6 ≈ 3.2 against 0.1·ln(10⁵)/0.4 ≈ 2.9 per unit of the index
 /// fraction, at the default closest approach 1e-6).
 const EVEN_TOP: f64 = 0.1;
+/// Rounding units of H near the center's energy that a shallow level's
+/// quadrature tolerance allows for, when the configured one cannot be met.
+const SHALLOW_ULPS: f64 = 16.0;
 /// Runge–Kutta steps per small-oscillation period on the orbit path.
 const ORBIT_STEPS_PER_PERIOD: f64 = 2000.0;
 
@@ -626,6 +629,15 @@ impl<'a> WellOrbits<'a> {
         from: (f64, f64),
     ) -> Option<(BackboneRow, (f64, f64))> {
         self.orbit_at_depth_within(depth, from, self.tolerance)
+            .or_else(|| {
+                // At a shallow depth E − H keeps only the digits that
+                // rounding of H near E_c leaves: ask no more of the rule.
+                let floor =
+                    SHALLOW_ULPS * f64::EPSILON * (self.well.ec.abs() + depth) / depth;
+                (floor > self.tolerance)
+                    .then(|| self.orbit_at_depth_within(depth, from, floor))
+                    .flatten()
+            })
     }
 
     /// As [`WellOrbits::orbit_at_depth`] with the quadrature's relative
