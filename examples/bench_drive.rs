@@ -1,112 +1,213 @@
-//! Benchmark of the driven views: the stroboscopic section of the driven
-//! double well (100 orbits × 500 drive periods, one core) and the Melnikov
-//! threshold, beside the NumPy peer `../shared/bench/drive_peer.py`
-//! (fixed-step RK4 vectorised over all starts) when it is present.
+//! Benchmark of the driven views, beside the project's own NumPy peer
+//! `examples/peers/drive_rk4.py` (fixed-step RK4 vectorised over all starts)
+//! and, when present, the outside peer `../shared/bench/drive_peer.py`:
 //!
-//!   cargo run --release --example bench_drive
+//! * the stroboscopic section of the driven double well
+//!   H = p²/2 − q²/2 + q⁴/4 − F q cos(W t), F = 0.3, W = 1: 100 orbits × 500
+//!   drive periods on one core, with the undriven energy error of the same
+//!   run (max over every point of |H − H(start)| / max(1, |H(start)|));
+//! * the safe-basin workload: 200 × 200 starts over q ∈ [−2, 2],
+//!   p ∈ [−1.5, 1.5] × 60 drive periods, F = 0.2, δ = 0.25, all cores, no
+//!   points recorded, a start dropped once a period's point leaves the box
+//!   0 < q < 2.5, |p| < 2 (the peer's rule); throughput in starts × periods
+//!   per second;
+//! * the Melnikov threshold of the driven double well (δ = 0.25).
 //!
-//! `PHASEWRIGHT_BENCH_NO_PYTHON=1` skips the peer; `PHASEWRIGHT_DRIVE_PEER`
-//! names another path for it. The peer needs NumPy (`python3 -m pip install numpy`).
+//!   cargo run --release --no-default-features --example bench_drive
+//!
+//! The peers need NumPy (`python3 -m pip install numpy`).
+//! `PHASEWRIGHT_BENCH_NO_PYTHON=1` skips them; `PHASEWRIGHT_DRIVE_PEER` names
+//! another path for the outside one.
+
+#[path = "common/peers.rs"]
+mod peers;
+#[path = "common/timing.rs"]
+mod timing;
 
 use phasewright::core::Cancel;
 use phasewright::core::integrate::Method;
-use phasewright::core::section::{SectionConfig, section};
+use phasewright::core::section::{
+    SectionConfig, SectionEnd, Strobe, section, strobe_runs, strobe_runs_per_start,
+};
 use phasewright::core::system::System;
 use phasewright::core::window::Window;
 use phasewright::request::MelnikovRequest;
 use phasewright::session::{DriveSettings, Parameter, Session};
 use std::f64::consts::PI;
-use std::path::Path;
-use std::process::Command;
-use std::time::Instant;
+use timing::time_ms;
 
 const FORMULA: &str = "p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)";
+const DRIVE_PEERS: peers::Peers = peers::Peers {
+    own: "drive_rk4.py",
+    outside: Some("../shared/bench/drive_peer.py"),
+    outside_env: "PHASEWRIGHT_DRIVE_PEER",
+    setup: "python3 -m pip install numpy",
+};
+/// RK4 steps per drive period of the peers.
+const PEER_STEPS: usize = 64;
 
-fn starts() -> Vec<[f64; 2]> {
-    // the peer's lattice: 10 × 10 over q in [-1.5, 1.5], p in [-0.8, 0.8]
-    let mut out = Vec::new();
-    for j in 0..10 {
-        for i in 0..10 {
-            out.push([-1.5 + 3.0 * i as f64 / 9.0, -0.8 + 1.6 * j as f64 / 9.0]);
-        }
-    }
-    out
+/// An n × n lattice over [q0, q1] × [p0, p1], rows of constant p.
+fn lattice(n: usize, q: [f64; 2], p: [f64; 2]) -> Vec<[f64; 2]> {
+    let at = |r: [f64; 2], k: usize| r[0] + (r[1] - r[0]) * k as f64 / (n - 1) as f64;
+    (0..n * n).map(|k| [at(q, k % n), at(p, k / n)]).collect()
 }
 
-fn best<T>(runs: usize, mut f: impl FnMut() -> T) -> (f64, T) {
-    let mut best = f64::INFINITY;
-    let mut last = None;
-    for _ in 0..runs {
-        let t0 = Instant::now();
-        let v = f();
-        best = best.min(t0.elapsed().as_secs_f64() * 1e3);
-        last = Some(v);
+fn system(f: f64) -> System {
+    System::from_source(FORMULA, &[("F", f), ("W", 1.0)]).expect("the benchmark formula")
+}
+
+/// Largest relative energy error of the undriven system over recorded points.
+fn energy_error(free: &System, orbits: &[phasewright::core::section::SectionOrbit]) -> f64 {
+    let mut err: f64 = 0.0;
+    for o in orbits {
+        let e0 = free.energy(o.start[0], o.start[1]);
+        for pt in &o.points {
+            err = err.max((free.energy(pt[0], pt[1]) - e0).abs() / e0.abs().max(1.0));
+        }
     }
-    (best, last.expect("at least one run"))
+    err
+}
+
+fn config(periods: usize, damping: f64, method: Method, steps: Option<usize>) -> SectionConfig {
+    SectionConfig {
+        period: 2.0 * PI,
+        damping,
+        periods,
+        method,
+        steps_per_period: steps,
+        t0: 0.0,
+    }
+}
+
+struct Row {
+    label: String,
+    ms: f64,
+    err: f64,
 }
 
 fn main() {
-    let pool = rayon::ThreadPoolBuilder::new()
+    let one_core = rayon::ThreadPoolBuilder::new()
         .num_threads(1)
         .build()
         .expect("a one-thread pool");
-    let bounds = Window::new(-10.0, 10.0, -10.0, 10.0).unwrap();
-    let starts = starts();
-    println!("section: 100 orbits x 500 drive periods of {FORMULA}, W = 1, one core");
-    let mut ours = Vec::new();
-    for (method, steps) in [
-        (Method::Nystrom6, 16),
-        (Method::Nystrom6, 32),
-        (Method::Yoshida4, 64),
-    ] {
-        let cfg = |f: f64| SectionConfig {
-            period: 2.0 * PI,
-            damping: 0.0,
-            periods: 500,
-            method,
-            steps_per_period: Some(steps),
-            t0: 0.0,
+    let bounds = Window::new(-10.0, 10.0, -10.0, 10.0).expect("bounds");
+    let starts = lattice(10, [-1.5, 1.5], [-0.8, 0.8]);
+    let (free, driven) = (system(0.0), system(0.3));
+    let quiet = |_: usize, _: usize| {};
+
+    println!("section: 100 orbits x 500 drive periods of {FORMULA}, F = 0.3, W = 1, one core");
+    println!("  (ms: median of 5 (min); energy error: the undriven run, max relative over every point)");
+    let mut rows: Vec<Row> = Vec::new();
+    let cases: [(Method, Option<usize>, bool); 8] = [
+        (Method::Nystrom6, None, true),
+        (Method::Nystrom6, Some(32), true),
+        (Method::Nystrom6, Some(16), true),
+        (Method::Nystrom6, Some(16), false),
+        (Method::Nystrom6, Some(12), true),
+        (Method::Nystrom6, Some(8), true),
+        (Method::Nystrom4, Some(8), true),
+        (Method::Verlet, Some(32), true),
+    ];
+    for (method, steps, lanes) in cases {
+        let cfg = config(500, 0.0, method, steps);
+        let inside = |x: [f64; 2]| bounds.contains(x[0], x[1]);
+        let strobe = Strobe {
+            stays: &inside,
+            record: true,
         };
-        let free = System::from_source(FORMULA, &[("F", 0.0), ("W", 1.0)]).unwrap();
-        let driven = System::from_source(FORMULA, &[("F", 0.3), ("W", 1.0)]).unwrap();
-        let (_, s) = pool.install(|| {
-            best(1, || {
-                section(
-                    &free,
-                    &starts,
-                    &bounds,
-                    &cfg(0.0),
-                    &Cancel::never(),
-                    &|_, _| {},
-                )
-                .unwrap()
-            })
-        });
-        let mut err: f64 = 0.0;
-        for o in &s.orbits {
-            let e0 = free.energy(o.start[0], o.start[1]);
-            for pt in &o.points {
-                err = err.max((free.energy(pt[0], pt[1]) - e0).abs() / e0.abs().max(1.0));
+        let run = |sys: &System| {
+            if lanes {
+                strobe_runs(sys, &starts, &cfg, &strobe, &Cancel::never(), &quiet)
+            } else {
+                strobe_runs_per_start(sys, &starts, &cfg, &strobe, &Cancel::never(), &quiet)
             }
-        }
-        let (ms, _) = pool.install(|| {
-            best(3, || {
-                section(
-                    &driven,
-                    &starts,
-                    &bounds,
-                    &cfg(0.3),
-                    &Cancel::never(),
-                    &|_, _| {},
-                )
-                .unwrap()
+            .expect("the section runs")
+        };
+        let s = one_core.install(|| run(&free));
+        let err = energy_error(&free, &s.orbits);
+        let t = one_core.install(|| {
+            time_ms(5, || {
+                std::hint::black_box(run(&driven));
             })
         });
-        println!(
-            "  {:<9} {steps:>3} steps/period: {ms:8.1} ms driven; undriven max relative energy error {err:.2e}",
-            method.name()
+        let label = format!(
+            "{:<9} {:>3} steps/period{}{}",
+            method.name(),
+            s.steps_per_period,
+            if steps.is_none() { " (default)" } else { "" },
+            if lanes { "" } else { ", per start" }
         );
-        ours.push((method, steps, ms, err));
+        println!("  {label:<42} {t}   energy error {err:.2e}");
+        rows.push(Row {
+            label,
+            ms: t.median,
+            err,
+        });
+    }
+    // the section() entry point as the views call it, for the record
+    let _ = section(
+        &driven,
+        &starts,
+        &bounds,
+        &config(5, 0.0, Method::Auto, None),
+        &Cancel::never(),
+        &quiet,
+    )
+    .expect("section");
+
+    // the basin workload
+    let n = 200;
+    let basin_starts = lattice(n, [-2.0, 2.0], [-1.5, 1.5]);
+    let in_box = |x: [f64; 2]| x[0] > 0.0 && x[0] < 2.5 && x[1] > -2.0 && x[1] < 2.0;
+    let strobe = Strobe {
+        stays: &in_box,
+        record: false,
+    };
+    let basin_driven = system(0.2);
+    let threads = rayon::current_num_threads();
+    println!(
+        "basin: {n} x {n} starts x 60 drive periods, F = 0.2, delta = 0.25, {threads} threads, \
+         a start dropped once it leaves 0 < q < 2.5, |p| < 2"
+    );
+    let mut basin_rows = Vec::new();
+    for steps in [16usize, 32] {
+        let cfg = config(60, 0.25, Method::Nystrom6, Some(steps));
+        let mut stayed = 0;
+        let t = time_ms(3, || {
+            let s = strobe_runs(
+                &basin_driven,
+                &basin_starts,
+                &cfg,
+                &strobe,
+                &Cancel::never(),
+                &quiet,
+            )
+            .expect("the basin runs");
+            stayed = s
+                .orbits
+                .iter()
+                .filter(|o| o.end == SectionEnd::Completed)
+                .count();
+        });
+        // the undriven, undamped energy error over every period's point of
+        // the starts while they stay in the box (in recorded pieces)
+        let free_cfg = config(60, 0.0, Method::Nystrom6, Some(steps));
+        let recorded = Strobe {
+            stays: &in_box,
+            record: true,
+        };
+        let mut err: f64 = 0.0;
+        for piece in basin_starts.chunks(10_000) {
+            let s = strobe_runs(&free, piece, &free_cfg, &recorded, &Cancel::never(), &quiet)
+                .expect("the undriven basin runs");
+            err = err.max(energy_error(&free, &s.orbits));
+        }
+        let throughput = (n * n * 60) as f64 / (t.median / 1e3);
+        println!(
+            "  nystrom6 {steps:>3} steps/period: {t}   {throughput:.3e} starts x periods/s, \
+             {stayed} stayed; undriven energy error {err:.2e}"
+        );
+        basin_rows.push((steps, t.median, throughput, err));
     }
 
     // Melnikov threshold of the driven double well (δ = 0.25)
@@ -120,70 +221,81 @@ fn main() {
             step: None,
         });
     }
-    session.view = Window::new(-2.0, 2.0, -1.5, 1.5).unwrap();
+    session.view = Window::new(-2.0, 2.0, -1.5, 1.5).expect("view");
     session.drive = Some(DriveSettings {
         period: "2*pi/W".into(),
         damping: Some("0.25".into()),
+        enabled: true,
         ..DriveSettings::default()
     });
-    session.drive.as_mut().unwrap().enabled = true;
-    let sys = session.system().unwrap();
-    let req = MelnikovRequest::from_session(&session, &sys).unwrap();
-    let (ms, m) = best(3, || {
-        req.run(&sys, &session.view, &Cancel::never()).unwrap()
+    let sys = session.system().expect("the session's system");
+    let req = MelnikovRequest::from_session(&session, &sys).expect("the Melnikov request");
+    let mut m = None;
+    let t = time_ms(7, || {
+        m = Some(
+            req.run(&sys, &session.view, &Cancel::never())
+                .expect("the Melnikov run"),
+        );
     });
     let want = 4.0 * (PI / 2.0).cosh() / (3.0 * 2f64.sqrt() * PI);
+    let got = m.and_then(|m| m.threshold_ratio).unwrap_or(f64::NAN);
     println!(
-        "melnikov: threshold F/delta {:.12} (closed form {want:.12}) in {ms:.1} ms",
-        m.threshold_ratio.unwrap_or(f64::NAN)
+        "melnikov: threshold F/delta {got:.12} (closed form {want:.12}, relative error {:.1e}) in {t} (target < 20 ms)",
+        (got - want).abs() / want
     );
 
-    // the peer, same lattice, RK4 at 64 steps per period
-    if std::env::var_os("PHASEWRIGHT_BENCH_NO_PYTHON").is_some() {
-        return;
-    }
-    let peer = std::env::var_os("PHASEWRIGHT_DRIVE_PEER")
-        .map(std::path::PathBuf::from)
-        .unwrap_or_else(|| {
-            Path::new(env!("CARGO_MANIFEST_DIR")).join("../shared/bench/drive_peer.py")
-        });
-    if !peer.exists() {
-        println!("peer: {} not found; skipped", peer.display());
-        return;
-    }
-    let out = Command::new("python3").arg(&peer).output();
-    let Some(out) = out.ok().filter(|o| o.status.success()) else {
+    // the peers
+    let steps = PEER_STEPS.to_string();
+    let section_args = ["--orbits", "100", "--periods", "500", "--steps", &steps];
+    for peer in peers::run_peers_of(&DRIVE_PEERS, &section_args, &section_args) {
+        let (Some(ms), Some(err)) = (
+            peer.get("driven_ms").or(peer.get("driven_section_ms")),
+            peer.get("free_max_rel_energy_error"),
+        ) else {
+            println!("{}: unexpected output {}", peer.label, peer.figures);
+            continue;
+        };
         println!(
-            "peer: python3 {} did not run (numpy installed?)",
-            peer.display()
+            "{} section, NumPy RK4 {PEER_STEPS} steps/period: {ms:.1} ms; energy error {err:.2e}",
+            peer.label
         );
-        return;
+        for r in &rows {
+            println!(
+                "  {:<42} {:6.1}x the peer's speed, energy error {} the peer's",
+                r.label,
+                ms / r.ms,
+                if r.err <= err { "at or below" } else { "ABOVE" }
+            );
+        }
+    }
+    let basin_args = ["--basin", "--grid", "200", "--periods", "60", "--steps", &steps];
+    let own_only = peers::Peers {
+        outside: None,
+        outside_env: "PHASEWRIGHT_DRIVE_PEER_BASIN",
+        ..DRIVE_PEERS
     };
-    let text = String::from_utf8_lossy(&out.stdout);
-    let get = |key: &str| {
-        text.lines()
-            .find_map(|l| l.strip_prefix(key).map(|v| v.trim().parse::<f64>().ok()))
-            .flatten()
-    };
-    let (Some(peer_ms), Some(peer_err)) =
-        (get("driven_section_ms"), get("free_max_rel_energy_error"))
-    else {
-        println!("peer: unexpected output\n{text}");
-        return;
-    };
-    println!(
-        "peer (NumPy RK4, 64 steps/period): {peer_ms:.1} ms driven; undriven max relative energy error {peer_err:.2e}"
-    );
-    for (method, steps, ms, err) in ours {
+    for peer in peers::run_peers_of(&own_only, &basin_args, &basin_args) {
+        let (Some(ms), Some(err), Some(rate)) = (
+            peer.get("driven_ms"),
+            peer.get("free_max_rel_energy_error"),
+            peer.get("starts_periods_per_s"),
+        ) else {
+            println!("{}: unexpected output {}", peer.label, peer.figures);
+            continue;
+        };
         println!(
-            "  {:<9} {steps:>3}: {:.1}x the peer's speed, energy error {} the peer's",
-            method.name(),
-            peer_ms / ms,
-            if err <= peer_err {
-                "at or below"
-            } else {
-                "ABOVE"
-            }
+            "{} basin, NumPy RK4 {PEER_STEPS} steps/period: {ms:.1} ms, {rate:.3e} starts x periods/s, \
+             {} stayed; energy error {err:.2e}",
+            peer.label,
+            peer.get("stayed").unwrap_or(f64::NAN)
         );
+        for (steps, ours_ms, ours, e) in &basin_rows {
+            println!(
+                "  nystrom6 {steps:>3} steps/period ({ours_ms:.1} ms): {:6.1}x the peer's throughput, \
+                 energy error {} the peer's",
+                ours / rate,
+                if *e <= err { "at or below" } else { "ABOVE" }
+            );
+        }
     }
 }

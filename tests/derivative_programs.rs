@@ -3,7 +3,7 @@
 //! forward mode, an outside reference), on many random formulas.
 
 use num_dual::Dual64;
-use phasewright::core::formula::{Formula, SLOT_P, SLOT_Q, SLOT_T};
+use phasewright::core::formula::{Formula, LANES, LaneRegisters, SLOT_P, SLOT_Q, SLOT_T};
 use proptest::prelude::*;
 
 /// An expression over q, p, t and a parameter `a`, using every operation of
@@ -125,6 +125,42 @@ proptest! {
         }
         // the rules are num-dual's own, so almost every result is bit-identical
         prop_assert!(identical + 1 >= checked, "{}: {} of {} identical", src, identical, checked);
+    }
+
+    /// The lane evaluation gives, at each of many points with one common t,
+    /// exactly the one-point value (the reference: `eval`, checked against
+    /// dual numbers above), NaN where that is NaN, for every slot.
+    #[test]
+    fn lane_evaluation_is_the_one_point_evaluation(
+        e in expr(),
+        q0 in -1.5f64..1.5,
+        p0 in -1.5f64..1.5,
+        t in -1.0f64..1.0,
+        a in 0.3f64..1.7,
+        m in 1usize..=LANES,
+    ) {
+        let src = e.text();
+        let f = match Formula::compile(&src) {
+            Ok(f) => f,
+            Err(err) => return Err(TestCaseError::fail(format!("{src:?} refused: {err}"))),
+        };
+        let params = vec![a; f.params().len()];
+        let q: Vec<f64> = (0..m).map(|k| q0 + 0.37 * k as f64 - 0.8).collect();
+        let p: Vec<f64> = (0..m).map(|k| p0 - 0.23 * k as f64 + 0.5).collect();
+        let mut regs = LaneRegisters::default();
+        for slot in [SLOT_Q, SLOT_P, SLOT_T] {
+            let program = f.derivative_program(slot, &params);
+            let mut out = vec![0.0; m];
+            program.eval_lanes(&q, &p, t, &mut out, &mut regs);
+            for k in 0..m {
+                let want = program.eval(q[k], p[k], t);
+                prop_assert!(
+                    out[k].to_bits() == want.to_bits() || (out[k].is_nan() && want.is_nan()),
+                    "∂/∂slot{} of {} at lane {}: lanes {:e} vs one point {:e}",
+                    slot, src, k, out[k], want
+                );
+            }
+        }
     }
 }
 

@@ -208,3 +208,151 @@ fn seeded_orbits_feel_the_sessions_damping() {
     assert!(t > 14.0, "ran its duration: {t}");
     assert!((last.q - q).abs() < 1e-6, "q({t}) = {} vs {q}", last.q);
 }
+
+/// The lanes (starts stepped together, `strobe_runs`) give the numbers of
+/// the per-start loop (`strobe_runs_per_start`, each start alone through
+/// `Integrator::step`, the stepper checked against closed forms in
+/// tests/driven.rs and above) to the bit: point by point, the period count,
+/// the last point and the end, for every splitting method, on driven,
+/// damped, escaping and blowing-up starts, with more starts than one block.
+#[test]
+fn lanes_match_the_per_start_loop_to_the_bit() {
+    use phasewright::core::section::{Section, Strobe, strobe_runs, strobe_runs_per_start};
+    let same = |a: &Section, b: &Section, what: &str| {
+        assert_eq!(a.orbits.len(), b.orbits.len(), "{what}");
+        assert_eq!(a.steps_per_period, b.steps_per_period, "{what}");
+        for (i, (x, y)) in a.orbits.iter().zip(&b.orbits).enumerate() {
+            let bits = |v: &[[f64; 2]]| -> Vec<[u64; 2]> {
+                v.iter().map(|p| [p[0].to_bits(), p[1].to_bits()]).collect()
+            };
+            assert_eq!(x.end, y.end, "{what}: start {i} {:?}", x.start);
+            assert_eq!(x.periods_done, y.periods_done, "{what}: start {i}");
+            assert_eq!(bits(&[x.last]), bits(&[y.last]), "{what}: start {i}");
+            assert_eq!(bits(&x.points), bits(&y.points), "{what}: start {i}");
+        }
+    };
+    // 150 starts: two full blocks and a part; a NaN start among them
+    let mut starts: Vec<[f64; 2]> = (0..150)
+        .map(|k| {
+            let (i, j) = (k % 15, k / 15);
+            [-2.0 + 4.0 * i as f64 / 14.0, -1.2 + 2.4 * j as f64 / 9.0]
+        })
+        .collect();
+    starts[77] = [f64::NAN, 0.0];
+    let cases: [(&str, &[(&str, f64)], f64, f64); 4] = [
+        // driven double well, undamped: some starts leave the box
+        (
+            "p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)",
+            &[("F", 0.3), ("W", 1.0)],
+            0.0,
+            1.6,
+        ),
+        // the same damped
+        (
+            "p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)",
+            &[("F", 0.4), ("W", 1.2)],
+            0.15,
+            1.6,
+        ),
+        // a kinetic term with a mass and an offset, damped and driven
+        (
+            "(p - 0.2)^2/(2*m) + q^2/2 - q^3/3 + F*sin(W*t)*q",
+            &[("F", 0.2), ("W", 2.0), ("m", 1.3)],
+            0.1,
+            3.0,
+        ),
+        // starts beyond the barrier blow up in finite time (non-finite)
+        ("p^2/2 - q^4/4 + F*q*cos(t)", &[("F", 0.1)], 0.0, 1e300),
+    ];
+    let methods = [
+        Method::Verlet,
+        Method::Yoshida4,
+        Method::Nystrom4,
+        Method::Nystrom6,
+        Method::Split4,
+        Method::Split6,
+    ];
+    for (formula, params, damping, half) in cases {
+        let sys = System::from_source(formula, params).unwrap();
+        let inside = move |x: [f64; 2]| x[0].abs() <= half && x[1].abs() <= half;
+        for method in methods {
+            for record in [true, false] {
+                let c = SectionConfig {
+                    period: 2.0 * PI / 1.1,
+                    damping,
+                    periods: 40,
+                    method,
+                    steps_per_period: Some(24),
+                    t0: 0.3,
+                };
+                let strobe = Strobe {
+                    stays: &inside,
+                    record,
+                };
+                let quiet = |_: usize, _: usize| {};
+                let lanes = strobe_runs(&sys, &starts, &c, &strobe, &Cancel::never(), &quiet).unwrap();
+                let alone =
+                    strobe_runs_per_start(&sys, &starts, &c, &strobe, &Cancel::never(), &quiet)
+                        .unwrap();
+                let what = format!("{formula}, {} record {record}", method.name());
+                same(&lanes, &alone, &what);
+                let ends = |e: SectionEnd| lanes.orbits.iter().filter(|o| o.end == e).count();
+                assert!(ends(SectionEnd::NonFinite) >= 1, "{what}: the NaN start");
+                if half < 10.0 {
+                    assert!(ends(SectionEnd::LeftBounds) > 0, "{what}: none left the box");
+                    assert!(ends(SectionEnd::Completed) > 0, "{what}: none stayed");
+                } else {
+                    assert!(ends(SectionEnd::NonFinite) > 1, "{what}: none blew up");
+                }
+            }
+        }
+    }
+}
+
+/// A basin-like run (no points kept, a stay rule) on one thread and on
+/// several: the same ends, period counts and last points, bit for bit.
+#[test]
+fn lane_runs_do_not_depend_on_the_thread_count() {
+    use phasewright::core::section::{Strobe, strobe_runs};
+    let sys = System::from_source(
+        "p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)",
+        &[("F", 0.35), ("W", 1.0)],
+    )
+    .unwrap();
+    let starts: Vec<[f64; 2]> = (0..30 * 30)
+        .map(|k| [-2.0 + 4.0 * (k % 30) as f64 / 29.0, -1.5 + 3.0 * (k / 30) as f64 / 29.0])
+        .collect();
+    let c = SectionConfig {
+        period: 2.0 * PI,
+        damping: 0.1,
+        periods: 30,
+        method: Method::Auto,
+        steps_per_period: Some(32),
+        t0: 0.0,
+    };
+    let well = |x: [f64; 2]| x[0] > 0.0 && x[0] < 2.0 && x[1].abs() < 1.5;
+    let strobe = Strobe {
+        stays: &well,
+        record: false,
+    };
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| strobe_runs(&sys, &starts, &c, &strobe, &Cancel::never(), &|_, _| {}))
+            .unwrap()
+    };
+    let one = run(1);
+    let many = run(3);
+    assert_eq!(one.method, Method::Nystrom6);
+    let key = |s: &phasewright::core::section::Section| -> Vec<(SectionEnd, usize, [u64; 2])> {
+        s.orbits
+            .iter()
+            .map(|o| (o.end, o.periods_done, [o.last[0].to_bits(), o.last[1].to_bits()]))
+            .collect()
+    };
+    assert_eq!(key(&one), key(&many));
+    let stayed = one.orbits.iter().filter(|o| o.end == SectionEnd::Completed).count();
+    assert!(stayed > 0 && stayed < starts.len(), "{stayed} stayed");
+}

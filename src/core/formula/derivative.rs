@@ -428,6 +428,9 @@ pub(super) enum Degree {
 pub struct DerivativeProgram {
     ins: Vec<DIns>,
     constant: Option<f64>,
+    /// For each instruction, whether it is the same in every lane (reads
+    /// neither q nor p), for [`DerivativeProgram::eval_lanes`].
+    uniform: Vec<bool>,
 }
 
 impl DerivativeProgram {
@@ -485,11 +488,16 @@ impl DerivativeProgram {
             Sv::C(c) => DerivativeProgram {
                 ins: Vec::new(),
                 constant: Some(c),
+                uniform: Vec::new(),
             },
-            Sv::R(r) => DerivativeProgram {
-                ins: keep_needed(&b.ins[..=r as usize]),
-                constant: None,
-            },
+            Sv::R(r) => {
+                let ins = keep_needed(&b.ins[..=r as usize]);
+                DerivativeProgram {
+                    uniform: uniform_instructions(&ins),
+                    ins,
+                    constant: None,
+                }
+            }
         }
     }
 
@@ -497,6 +505,7 @@ impl DerivativeProgram {
         DerivativeProgram {
             ins: Vec::new(),
             constant: Some(f64::NAN),
+            uniform: Vec::new(),
         }
     }
 
@@ -588,6 +597,46 @@ impl DerivativeProgram {
             run_derivative_in(&self.ins, [q, p, t], &mut regs)
         }
     }
+
+    /// The derivative at the points (q[k], p[k], t), k < m, written to
+    /// `out[k]`, where m is the shortest of the three slices (at most
+    /// [`LANES`]): each instruction runs over all the points before the
+    /// next, and what depends on t alone runs once. Every value is bit for
+    /// bit what [`DerivativeProgram::eval`] gives at that point (the same
+    /// operations on the same operands, see [`run_instructions`]).
+    pub fn eval_lanes(
+        &self,
+        q: &[f64],
+        p: &[f64],
+        t: f64,
+        out: &mut [f64],
+        regs: &mut LaneRegisters,
+    ) {
+        let m = q.len().min(p.len()).min(out.len()).min(LANES);
+        if m == 0 {
+            return;
+        }
+        if let Some(c) = self.constant {
+            out[..m].fill(c);
+            return;
+        }
+        let n = self.ins.len();
+        if regs.regs.len() < n {
+            regs.regs.resize(n, [0.0; LANES]);
+        }
+        run_instructions(
+            &self.ins,
+            &mut Lanes {
+                r: &mut regs.regs[..n],
+                q,
+                p,
+                t,
+                m,
+                uniform: &self.uniform,
+            },
+        );
+        out[..m].copy_from_slice(&regs.regs[n - 1][..m]);
+    }
 }
 
 /// The instructions the last one depends on, renumbered.
@@ -664,52 +713,210 @@ pub(super) fn run_derivative<const N: usize>(ins: &[DIns], inputs: [f64; VARIABL
     run_derivative_in(ins, inputs, &mut regs)
 }
 
+/// One point: `r` holds at least one register per instruction.
 #[inline]
 pub(super) fn run_derivative_in(
     ins: &[DIns],
     inputs: [f64; VARIABLES.len()],
     r: &mut [f64],
 ) -> f64 {
-    let mut last = f64::NAN;
+    if ins.is_empty() || r.len() < ins.len() {
+        return f64::NAN;
+    }
+    run_instructions(ins, &mut OnePoint { r, inputs });
+    r[ins.len() - 1]
+}
+
+/// Where a derivative program's instructions write: register `i` for
+/// instruction `i`, holding one value ([`OnePoint`]) or a row of lanes
+/// ([`Lanes`]). [`run_instructions`] is the one meaning of every
+/// instruction; a bank only says how a value is applied over its registers.
+pub(super) trait Bank {
+    /// Register `i` = input `slot` (q, p or t).
+    fn slot(&mut self, i: usize, slot: u8);
+    /// Register `i` = the constant `c`.
+    fn constant(&mut self, i: usize, c: f64);
+    /// Register `i` = f(register a).
+    fn map1(&mut self, i: usize, a: u32, f: impl Fn(f64) -> f64);
+    /// Register `i` = f(register a, register b).
+    fn map2(&mut self, i: usize, a: u32, b: u32, f: impl Fn(f64, f64) -> f64);
+    /// Register `i` = f(registers r[0..4]).
+    fn map4(&mut self, i: usize, r: [u32; 4], f: impl Fn([f64; 4]) -> f64);
+}
+
+/// Every instruction of a program, in order, on `bank`.
+#[inline(always)]
+pub(super) fn run_instructions<B: Bank>(ins: &[DIns], bank: &mut B) {
     for (i, op) in ins.iter().enumerate() {
-        let g = |k: u32| r[k as usize];
-        let v = match *op {
-            DIns::Slot(s) => inputs[s as usize],
-            DIns::Const(c) => c,
-            DIns::Neg(a) => -g(a),
-            DIns::Add(a, b) => g(a) + g(b),
-            DIns::Sub(a, b) => g(a) - g(b),
-            DIns::Mul(a, b) => g(a) * g(b),
-            DIns::Div(a, b) => g(a) / g(b),
-            DIns::F1(f, a) => apply1::<f64>(f, g(a)),
-            DIns::PowI(a, k) => g(a).powi(k),
-            DIns::PowF(a, c) => g(a).powf(c),
-            DIns::TruncDiv(a, b) => (g(a) / g(b)).trunc(),
-            DIns::Atan2(a, b) => g(a).atan2(g(b)),
-            DIns::SignTimes(x, a) => {
-                if g(x).is_sign_positive() {
-                    g(a)
-                } else {
-                    -g(a)
-                }
-            }
-            DIns::Pick { max, x, y, a, b } => {
-                let (x, y) = (g(x), g(y));
+        match *op {
+            DIns::Slot(s) => bank.slot(i, s),
+            DIns::Const(c) => bank.constant(i, c),
+            DIns::Neg(a) => bank.map1(i, a, |x| -x),
+            DIns::Add(a, b) => bank.map2(i, a, b, |x, y| x + y),
+            DIns::Sub(a, b) => bank.map2(i, a, b, |x, y| x - y),
+            DIns::Mul(a, b) => bank.map2(i, a, b, |x, y| x * y),
+            DIns::Div(a, b) => bank.map2(i, a, b, |x, y| x / y),
+            DIns::F1(f, a) => bank.map1(i, a, |x| apply1::<f64>(f, x)),
+            DIns::PowI(a, k) => bank.map1(i, a, |x| x.powi(k)),
+            DIns::PowF(a, c) => bank.map1(i, a, |x| x.powf(c)),
+            DIns::TruncDiv(a, b) => bank.map2(i, a, b, |x, y| (x / y).trunc()),
+            DIns::Atan2(a, b) => bank.map2(i, a, b, f64::atan2),
+            DIns::SignTimes(x, a) => bank.map2(i, x, a, |x, a| {
+                if x.is_sign_positive() { a } else { -a }
+            }),
+            DIns::Pick { max, x, y, a, b } => bank.map4(i, [x, y, a, b], |[x, y, a, b]| {
                 if x.is_nan() || y.is_nan() {
                     f64::NAN
                 } else if (max && x >= y) || (!max && x <= y) {
-                    g(a)
+                    a
                 } else {
-                    g(b)
+                    b
                 }
-            }
-        };
-        if let Some(slot) = r.get_mut(i) {
-            *slot = v;
+            }),
         }
-        last = v;
     }
-    last
+}
+
+/// The registers of one evaluation at one point.
+pub(super) struct OnePoint<'a> {
+    r: &'a mut [f64],
+    inputs: [f64; VARIABLES.len()],
+}
+
+impl Bank for OnePoint<'_> {
+    #[inline(always)]
+    fn slot(&mut self, i: usize, slot: u8) {
+        self.r[i] = self.inputs[slot as usize];
+    }
+    #[inline(always)]
+    fn constant(&mut self, i: usize, c: f64) {
+        self.r[i] = c;
+    }
+    #[inline(always)]
+    fn map1(&mut self, i: usize, a: u32, f: impl Fn(f64) -> f64) {
+        self.r[i] = f(self.r[a as usize]);
+    }
+    #[inline(always)]
+    fn map2(&mut self, i: usize, a: u32, b: u32, f: impl Fn(f64, f64) -> f64) {
+        self.r[i] = f(self.r[a as usize], self.r[b as usize]);
+    }
+    #[inline(always)]
+    fn map4(&mut self, i: usize, r: [u32; 4], f: impl Fn([f64; 4]) -> f64) {
+        self.r[i] = f(r.map(|k| self.r[k as usize]));
+    }
+}
+
+/// Most points a derivative program evaluates in one lane pass
+/// ([`DerivativeProgram::eval_lanes`]).
+pub const LANES: usize = 64;
+
+/// The registers of lane evaluations, kept between calls so a stepper
+/// allocates them once.
+#[derive(Clone, Debug, Default)]
+pub struct LaneRegisters {
+    regs: Vec<[f64; LANES]>,
+}
+
+/// The registers of one evaluation over `m` lanes (points with their own q
+/// and p and one common t). An instruction that reads neither q nor p
+/// (`uniform`) is the same in every lane: it is computed once and copied
+/// across, with the same operation on the same operands, so each lane's
+/// value is exactly that of [`OnePoint`] at its point.
+struct Lanes<'a> {
+    r: &'a mut [[f64; LANES]],
+    q: &'a [f64],
+    p: &'a [f64],
+    t: f64,
+    m: usize,
+    uniform: &'a [bool],
+}
+
+impl Lanes<'_> {
+    /// Register `i` (mutable) and the registers before it.
+    #[inline(always)]
+    fn split(&mut self, i: usize) -> (&[[f64; LANES]], &mut [f64]) {
+        let (lo, hi) = self.r.split_at_mut(i);
+        (lo, &mut hi[0][..self.m])
+    }
+}
+
+impl Bank for Lanes<'_> {
+    #[inline(always)]
+    fn slot(&mut self, i: usize, slot: u8) {
+        let m = self.m;
+        let out = &mut self.r[i][..m];
+        match slot as usize {
+            SLOT_Q => out.copy_from_slice(&self.q[..m]),
+            SLOT_P => out.copy_from_slice(&self.p[..m]),
+            _ => out.fill(self.t),
+        }
+    }
+    #[inline(always)]
+    fn constant(&mut self, i: usize, c: f64) {
+        let m = self.m;
+        self.r[i][..m].fill(c);
+    }
+    #[inline(always)]
+    fn map1(&mut self, i: usize, a: u32, f: impl Fn(f64) -> f64) {
+        let uniform = self.uniform[i];
+        let (lo, out) = self.split(i);
+        let x = &lo[a as usize][..out.len()];
+        if uniform {
+            out.fill(f(x[0]));
+        } else {
+            out.iter_mut().zip(x).for_each(|(o, &x)| *o = f(x));
+        }
+    }
+    #[inline(always)]
+    fn map2(&mut self, i: usize, a: u32, b: u32, f: impl Fn(f64, f64) -> f64) {
+        let uniform = self.uniform[i];
+        let (lo, out) = self.split(i);
+        let m = out.len();
+        let (x, y) = (&lo[a as usize][..m], &lo[b as usize][..m]);
+        if uniform {
+            out.fill(f(x[0], y[0]));
+        } else {
+            for ((o, &x), &y) in out.iter_mut().zip(x).zip(y) {
+                *o = f(x, y);
+            }
+        }
+    }
+    #[inline(always)]
+    fn map4(&mut self, i: usize, r: [u32; 4], f: impl Fn([f64; 4]) -> f64) {
+        let uniform = self.uniform[i];
+        let (lo, out) = self.split(i);
+        if uniform {
+            out.fill(f(r.map(|j| lo[j as usize][0])));
+        } else {
+            for (k, o) in out.iter_mut().enumerate() {
+                *o = f(r.map(|j| lo[j as usize][k]));
+            }
+        }
+    }
+}
+
+/// For each instruction, true when it reads neither q nor p (directly or
+/// through the registers it reads).
+fn uniform_instructions(ins: &[DIns]) -> Vec<bool> {
+    let mut uniform: Vec<bool> = Vec::with_capacity(ins.len());
+    for op in ins {
+        let u = |r: &u32| uniform.get(*r as usize).copied().unwrap_or(false);
+        let v = match op {
+            DIns::Slot(s) => !matches!(*s as usize, SLOT_Q | SLOT_P),
+            DIns::Const(_) => true,
+            DIns::Neg(a) | DIns::F1(_, a) | DIns::PowI(a, _) | DIns::PowF(a, _) => u(a),
+            DIns::Add(a, b)
+            | DIns::Sub(a, b)
+            | DIns::Mul(a, b)
+            | DIns::Div(a, b)
+            | DIns::TruncDiv(a, b)
+            | DIns::Atan2(a, b)
+            | DIns::SignTimes(a, b) => u(a) && u(b),
+            DIns::Pick { x, y, a, b, .. } => u(x) && u(y) && u(a) && u(b),
+        };
+        uniform.push(v);
+    }
+    uniform
 }
 
 impl Formula {

@@ -16,7 +16,7 @@ mod front;
 mod rows;
 mod tape;
 
-pub use derivative::DerivativeProgram;
+pub use derivative::{DerivativeProgram, LANES, LaneRegisters};
 pub use rows::{CHUNK, RowProgram};
 
 use compile::*;

@@ -55,7 +55,9 @@
 //! give it a `Method` variant, and add it to `Scheme::for_method`.
 
 use super::{Counters, Method, State, Step, StepError};
-use crate::core::formula::{DerivativeProgram, Formula, SLOT_P, SLOT_Q, SLOT_T};
+use crate::core::formula::{
+    DerivativeProgram, Formula, LANES, LaneRegisters, SLOT_P, SLOT_Q, SLOT_T,
+};
 use crate::core::system::System;
 use std::sync::Arc;
 
@@ -517,5 +519,217 @@ impl Splitting {
             state: State { q, p, t: t + h },
             p_dq,
         })
+    }
+}
+
+/// A block of points (lanes) stepped together by one splitting method: all
+/// share the step h and the time t, so each kick and drift evaluates its
+/// derivative program one instruction over every lane
+/// ([`DerivativeProgram::eval_lanes`]) and what depends on t alone (the
+/// drive) once per flow. Each lane sees exactly the operations, in the same
+/// order, that [`Splitting::step`] performs for that point alone, so its
+/// numbers are the same to the bit; lanes that are done leave the block
+/// ([`SplittingLanes::retain`]) and cost nothing after.
+#[derive(Clone, Debug)]
+pub struct SplittingLanes {
+    flows: Vec<(Flow, f64)>,
+    fractions: Vec<f64>,
+    damping: f64,
+    dq: DerivativeProgram,
+    dp: DerivativeProgram,
+    timed: bool,
+    regs: LaneRegisters,
+    q: Vec<f64>,
+    p: Vec<f64>,
+    /// ∫ p dq over the last step, per lane.
+    p_dq: Vec<f64>,
+    /// ∂²T/∂p² per lane (damped drift), from the jet at the lane's start.
+    curvature: Vec<f64>,
+    /// The common curvature when every lane has the same one.
+    common_curvature: Option<f64>,
+    /// ∂H/∂p per lane at the current p (valid when `velocity_ok`).
+    velocity: Vec<f64>,
+    velocity_ok: bool,
+    /// ∂H/∂q per lane at the current q and the time with these bits.
+    force: Vec<f64>,
+    force_at: Option<u64>,
+}
+
+impl Splitting {
+    /// This method (with its damping) as a stepper of up to [`LANES`] points
+    /// of `sys` at once; the block starts empty ([`SplittingLanes::load`]).
+    pub fn lanes(&self, sys: &System) -> SplittingLanes {
+        let f = sys.formula_arc();
+        let dq = f.derivative_program(SLOT_Q, sys.params());
+        SplittingLanes {
+            flows: self.scheme.flows.clone(),
+            fractions: self.fractions.clone(),
+            damping: self.damping,
+            timed: dq.reads(SLOT_T),
+            dq,
+            dp: f.derivative_program(SLOT_P, sys.params()),
+            regs: LaneRegisters::default(),
+            q: Vec::with_capacity(LANES),
+            p: Vec::with_capacity(LANES),
+            p_dq: Vec::with_capacity(LANES),
+            curvature: Vec::new(),
+            common_curvature: None,
+            velocity: Vec::with_capacity(LANES),
+            velocity_ok: false,
+            force: Vec::with_capacity(LANES),
+            force_at: None,
+        }
+    }
+}
+
+impl SplittingLanes {
+    /// Start the block at these points (at most [`LANES`]; the rest are left out).
+    pub fn load(&mut self, points: &[[f64; 2]]) {
+        let points = &points[..points.len().min(LANES)];
+        self.q = points.iter().map(|x| x[0]).collect();
+        self.p = points.iter().map(|x| x[1]).collect();
+        let m = points.len();
+        self.p_dq = vec![0.0; m];
+        self.velocity = vec![0.0; m];
+        self.force = vec![0.0; m];
+        self.curvature.clear();
+        self.common_curvature = None;
+        self.velocity_ok = false;
+        self.force_at = None;
+    }
+
+    /// Points in the block.
+    pub fn len(&self) -> usize {
+        self.q.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.q.is_empty()
+    }
+
+    /// Lane `k`'s point (q, p).
+    pub fn point(&self, k: usize) -> [f64; 2] {
+        [self.q[k], self.p[k]]
+    }
+
+    /// True when the method damps: [`SplittingLanes::take_curvature`] must
+    /// run before the first step.
+    pub fn damped(&self) -> bool {
+        self.damping != 0.0
+    }
+
+    /// The kinetic curvature ∂²T/∂p² of every lane from the jet at its point
+    /// at time `t` (what [`Splitting::step`] takes at an orbit's first step);
+    /// false for a lane where it is not finite (that lane cannot step).
+    pub fn take_curvature(&mut self, sys: &System, t: f64) -> Vec<bool> {
+        self.curvature = self
+            .q
+            .iter()
+            .zip(&self.p)
+            .map(|(&q, &p)| sys.jet_t(q, p, t).hpp)
+            .collect();
+        self.common_curvature = self.curvature.first().copied().filter(|c| {
+            self.curvature.iter().all(|x| x.to_bits() == c.to_bits())
+        });
+        self.curvature.iter().map(|c| c.is_finite()).collect()
+    }
+
+    /// One step of size `h` from time `t` for every lane.
+    pub fn step(&mut self, t: f64, h: f64) {
+        let m = self.q.len();
+        self.p_dq.iter_mut().for_each(|x| *x = 0.0);
+        let damping = self.damping;
+        for (&(kind, c), &fraction) in self.flows.iter().zip(&self.fractions) {
+            match kind {
+                Flow::Drift => {
+                    if !self.velocity_ok {
+                        self.dp
+                            .eval_lanes(&self.q, &self.p, t, &mut self.velocity, &mut self.regs);
+                    }
+                    let (q, p, p_dq, v) = (
+                        &mut self.q[..m],
+                        &mut self.p[..m],
+                        &mut self.p_dq[..m],
+                        &self.velocity[..m],
+                    );
+                    if damping == 0.0 {
+                        let ch = c * h;
+                        for (((q, p), s), v) in q.iter_mut().zip(p.iter()).zip(p_dq).zip(v) {
+                            let dq = ch * v;
+                            *q += dq;
+                            *s += p * dq;
+                        }
+                        self.velocity_ok = true;
+                    } else {
+                        // the exact damped drift of `Splitting::step`
+                        let tau = c * h;
+                        let phi_of = |b: f64| {
+                            let x = damping * tau * b;
+                            if x == 0.0 { 1.0 } else { -(-x).exp_m1() / x }
+                        };
+                        let common = self.common_curvature.map(phi_of);
+                        for (k, (((q, p), s), v)) in
+                            q.iter_mut().zip(p.iter_mut()).zip(p_dq).zip(v).enumerate()
+                        {
+                            let phi = match common {
+                                Some(phi) => phi,
+                                None => phi_of(self.curvature.get(k).copied().unwrap_or(0.0)),
+                            };
+                            let dq = tau * v * phi;
+                            *q += dq;
+                            *s += *p * dq - 0.5 * damping * dq * dq;
+                            *p -= damping * dq;
+                        }
+                        self.velocity_ok = false;
+                    }
+                    self.force_at = None;
+                }
+                Flow::Kick => {
+                    let (tk, key) = if self.timed {
+                        let tk = t + fraction * h;
+                        (tk, tk.to_bits())
+                    } else {
+                        (t, 0)
+                    };
+                    if self.force_at != Some(key) {
+                        self.dq
+                            .eval_lanes(&self.q, &self.p, tk, &mut self.force, &mut self.regs);
+                        self.force_at = Some(key);
+                    }
+                    let ch = c * h;
+                    for (p, f) in self.p[..m].iter_mut().zip(&self.force[..m]) {
+                        *p -= ch * f;
+                    }
+                    self.velocity_ok = false;
+                }
+            }
+        }
+    }
+
+    /// True when lane `k`'s last step stayed finite (its point and ∫ p dq),
+    /// the test [`Splitting::step`] applies.
+    pub fn finite(&self, k: usize) -> bool {
+        self.q[k].is_finite() && self.p[k].is_finite() && self.p_dq[k].is_finite()
+    }
+
+    /// Keep the lanes with `keep[k]` true, in order (the others leave).
+    pub fn retain(&mut self, keep: &[bool]) {
+        let mut k = 0;
+        let mut filter = |v: &mut Vec<f64>| {
+            k = 0;
+            v.retain(|_| {
+                let kept = keep.get(k).copied().unwrap_or(false);
+                k += 1;
+                kept
+            });
+        };
+        filter(&mut self.q);
+        filter(&mut self.p);
+        filter(&mut self.p_dq);
+        filter(&mut self.velocity);
+        filter(&mut self.force);
+        if !self.curvature.is_empty() {
+            filter(&mut self.curvature);
+        }
     }
 }
