@@ -4,7 +4,13 @@
 //! `Scene`; the explorer can draw the same `Scene` with its own plot widget,
 //! so the palette and the marker shapes defined here are the project's one look.
 
+mod drive;
 mod levels;
+
+pub use drive::{
+    FAINT_SEPARATRIX_COLOUR, FAINT_SEPARATRIX_WIDTH, MELNIKOV_WIDTH, SECTION_DOT, ZERO_MARKER,
+    start_colour, threshold_sentence,
+};
 
 use crate::core::analysis::Analysis;
 use crate::core::backbone::Backbone;
@@ -114,6 +120,8 @@ pub enum MarkerShape {
     Diamond,
     /// A filled square (bifurcation points).
     Square,
+    /// A small filled disc (the points of a point cloud).
+    Dot,
 }
 
 /// How one kind of mark looks.
@@ -238,6 +246,8 @@ pub enum CurveRole {
     Potential,
     /// A Bohr–Sommerfeld level n, drawn between its turning points.
     QuantumLevel { n: usize },
+    /// The Melnikov function of one connection over a drive period.
+    Melnikov,
 }
 
 impl CurveRole {
@@ -258,6 +268,7 @@ impl CurveRole {
             CurveRole::Guide => "guide",
             CurveRole::Potential => "potential",
             CurveRole::QuantumLevel { .. } => "quantum-level",
+            CurveRole::Melnikov => "melnikov",
         }
     }
 }
@@ -290,6 +301,8 @@ pub enum MarkRole {
     Bifurcation,
     /// A cusp of a fold curve in the parameter plane.
     Cusp,
+    /// A simple zero of a function drawn on the figure (the Melnikov function's).
+    Zero,
 }
 
 /// One point mark, optionally labelled.
@@ -351,7 +364,18 @@ impl ColourScale {
     }
 }
 
-/// A whole figure. Layers draw in this order: curves (as listed), marks, then labels of marks.
+/// A set of unconnected points drawn as dots of one colour and size (the
+/// points of one start's stroboscopic section).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Cloud {
+    pub points: Vec<[f64; 2]>,
+    pub colour: Rgb,
+    /// Diameter of each dot in points.
+    pub size: f64,
+}
+
+/// A whole figure. Layers draw in this order: curves (as listed), clouds
+/// (as listed), marks, then labels of marks.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Scene {
     /// The headline: the session's title, or what the figure shows.
@@ -362,6 +386,8 @@ pub struct Scene {
     pub y: Axis,
     pub curves: Vec<Curve>,
     pub marks: Vec<Mark>,
+    /// Point clouds, drawn over the curves and under the marks.
+    pub clouds: Vec<Cloud>,
     pub colour_scale: Option<ColourScale>,
     pub legend: Vec<LegendEntry>,
 }
@@ -462,6 +488,7 @@ impl Scene {
             },
             curves,
             marks,
+            clouds: Vec::new(),
             colour_scale: if hi > lo { Some(scale) } else { None },
             legend,
         }
@@ -797,6 +824,7 @@ impl Scene {
             y,
             curves,
             marks,
+            clouds: Vec::new(),
             colour_scale: None,
             legend,
         }
@@ -871,6 +899,7 @@ impl Scene {
             y,
             curves,
             marks: Vec::new(),
+            clouds: Vec::new(),
             colour_scale: None,
             legend,
         }
@@ -952,6 +981,7 @@ impl Scene {
             y,
             curves,
             marks,
+            clouds: Vec::new(),
             colour_scale: None,
             legend,
         }
