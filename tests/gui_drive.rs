@@ -108,7 +108,11 @@ fn the_section_pane_runs_the_sessions_request_and_a_click_adds_a_start() {
     }
     settle(&mut h);
     let app = h.state();
-    assert_eq!(app.doc.session.orbits.len(), 1, "the click is a seeded orbit");
+    assert_eq!(
+        app.doc.session.orbits.len(),
+        1,
+        "the click is a seeded orbit"
+    );
     let d = app.section().expect("section computed again");
     assert_eq!(d.section.orbits.len(), 17);
     let start = d.section.orbits[16].start;
@@ -119,24 +123,41 @@ fn the_section_pane_runs_the_sessions_request_and_a_click_adds_a_start() {
 #[test]
 fn a_bad_drive_expression_is_refused_in_place_and_a_good_one_undoes() {
     let (mut h, _d) = open(driven(0.1));
-    h.get_by_label("drive period").set_text_value_accesskit("2*pi/");
+    h.get_by_label("drive period")
+        .set_text_value_accesskit("2*pi/");
     h.run_steps(3);
     assert_eq!(
         h.state().doc.session.drive.as_ref().unwrap().period,
         "2*pi/W"
     );
     assert!(h.query_by_label_contains("the drive is kept").is_some());
-    h.get_by_label("drive damping").set_text_value_accesskit("-1");
+    h.get_by_label("drive damping")
+        .set_text_value_accesskit("-1");
     h.run_steps(3);
     assert!(h.query_by_label_contains("must be at least 0").is_some());
     assert_eq!(
-        h.state().doc.session.drive.as_ref().unwrap().damping.as_deref(),
+        h.state()
+            .doc
+            .session
+            .drive
+            .as_ref()
+            .unwrap()
+            .damping
+            .as_deref(),
         Some("0.25")
     );
-    h.get_by_label("drive damping").set_text_value_accesskit("0.1");
+    h.get_by_label("drive damping")
+        .set_text_value_accesskit("0.1");
     h.run_steps(3);
     assert_eq!(
-        h.state().doc.session.drive.as_ref().unwrap().damping.as_deref(),
+        h.state()
+            .doc
+            .session
+            .drive
+            .as_ref()
+            .unwrap()
+            .damping
+            .as_deref(),
         Some("0.1")
     );
     assert_eq!(h.state().doc.session.damping(), 0.1);
@@ -145,7 +166,14 @@ fn a_bad_drive_expression_is_refused_in_place_and_a_good_one_undoes() {
     h.get_by_label("Undo").click();
     h.run_steps(3);
     assert_eq!(
-        h.state().doc.session.drive.as_ref().unwrap().damping.as_deref(),
+        h.state()
+            .doc
+            .session
+            .drive
+            .as_ref()
+            .unwrap()
+            .damping
+            .as_deref(),
         Some("0.25")
     );
     h.get_by_label("drive on").click();

@@ -137,13 +137,8 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
                 "{name}: a driven example has a section and a Melnikov function"
             );
             // the export makes its figure from the same request
-            let data = phasewright::render::section_of(
-                &saved,
-                &sys,
-                &saved.view,
-                &[],
-                &Cancel::never(),
-            );
+            let data =
+                phasewright::render::section_of(&saved, &sys, &saved.view, &[], &Cancel::never());
             assert!(data.is_ok(), "{name}: {:?}", data.err());
         }
         assert!(

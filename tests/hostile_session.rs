@@ -94,8 +94,14 @@ fn within_caps(s: &Session) -> Result<(), TestCaseError> {
     }
     if let Some(d) = &s.drive {
         use phasewright::session::drive::{MAX_SECTION_LATTICE, MAX_SECTION_PERIODS};
-        prop_assert!(d.periods.is_none_or(|n| (1..=MAX_SECTION_PERIODS).contains(&n)));
-        prop_assert!(d.lattice.is_none_or(|n| (1..=MAX_SECTION_LATTICE).contains(&n)));
+        prop_assert!(
+            d.periods
+                .is_none_or(|n| (1..=MAX_SECTION_PERIODS).contains(&n))
+        );
+        prop_assert!(
+            d.lattice
+                .is_none_or(|n| (1..=MAX_SECTION_LATTICE).contains(&n))
+        );
         // a drive that loads has a period > 0 and a damping ≥ 0, or is off
         if let Ok(Some(v)) = s.drive() {
             prop_assert!(v.period > 0.0 && v.damping >= 0.0);

@@ -1080,10 +1080,9 @@ fn melnikov_figure_marks_the_zeros_and_states_the_closed_form_threshold() {
     let (w, delta) = (1.0f64, 0.25f64);
     let threshold = delta * 4.0 * (std::f64::consts::PI * w / 2.0).cosh()
         / (3.0 * 2f64.sqrt() * std::f64::consts::PI * w);
-    let (mut s, _) = phasewright::session::Session::from_formula(
-        "p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)",
-    )
-    .unwrap();
+    let (mut s, _) =
+        phasewright::session::Session::from_formula("p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)")
+            .unwrap();
     s.view = phasewright::core::window::Window::new(-2.0, 2.0, -1.5, 1.5).unwrap();
     for p in &mut s.parameters {
         p.value = if p.name == "W" { w } else { 0.3 };
@@ -1114,9 +1113,7 @@ fn melnikov_figure_marks_the_zeros_and_states_the_closed_form_threshold() {
     );
     let scene = view_scene(&s, &sys, &data, View::Melnikov);
     assert!(
-        scene
-            .title
-            .contains(&phasewright::numbers::caption(found)),
+        scene.title.contains(&phasewright::numbers::caption(found)),
         "{}",
         scene.title
     );
@@ -1134,12 +1131,24 @@ fn melnikov_figure_marks_the_zeros_and_states_the_closed_form_threshold() {
         assert!(z.at[0] >= 0.0 && z.at[0] <= 2.0 * std::f64::consts::PI / w);
     }
     // each curve's largest value: F·√2·π·ω·sech(πω/2) − 4δ/3 (same source)
-    let peak = 0.3 * 2f64.sqrt() * std::f64::consts::PI * w / (std::f64::consts::PI * w / 2.0).cosh()
+    let peak = 0.3 * 2f64.sqrt() * std::f64::consts::PI * w
+        / (std::f64::consts::PI * w / 2.0).cosh()
         - 4.0 * delta / 3.0;
-    for c in scene.curves.iter().filter(|c| c.role == CurveRole::Melnikov) {
-        let top = c.points.iter().map(|p| p[1]).fold(f64::NEG_INFINITY, f64::max);
+    for c in scene
+        .curves
+        .iter()
+        .filter(|c| c.role == CurveRole::Melnikov)
+    {
+        let top = c
+            .points
+            .iter()
+            .map(|p| p[1])
+            .fold(f64::NEG_INFINITY, f64::max);
         // 64 samples a period: the sampled peak is within 1 − cos(π/64) of the true one
-        assert!(top <= peak + 1e-9 && top > peak - 2e-3, "{top} against {peak}");
+        assert!(
+            top <= peak + 1e-9 && top > peak - 2e-3,
+            "{top} against {peak}"
+        );
     }
     let svg = to_svg(&scene, FigureSize::default());
     let doc = roxmltree::Document::parse(&svg).unwrap();
@@ -1156,10 +1165,9 @@ fn section_figure_draws_each_start_as_a_cloud_over_the_faint_separatrices() {
     // H₀ = 0 (closed form: the saddle at the origin); the section shows one
     // cloud per start with every point's q and p as computed.
     use phasewright::render::{View, ViewData, view_data, view_scene};
-    let (mut s, _) = phasewright::session::Session::from_formula(
-        "p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)",
-    )
-    .unwrap();
+    let (mut s, _) =
+        phasewright::session::Session::from_formula("p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)")
+            .unwrap();
     s.view = phasewright::core::window::Window::new(-2.0, 2.0, -1.5, 1.5).unwrap();
     for p in &mut s.parameters {
         p.value = if p.name == "W" { 1.2 } else { 0.02 };
@@ -1186,7 +1194,12 @@ fn section_figure_draws_each_start_as_a_cloud_over_the_faint_separatrices() {
         panic!("not a section")
     };
     let scene = view_scene(&s, &sys, &data, View::Section);
-    let with_points = d.section.orbits.iter().filter(|o| !o.points.is_empty()).count();
+    let with_points = d
+        .section
+        .orbits
+        .iter()
+        .filter(|o| !o.points.is_empty())
+        .count();
     assert_eq!(scene.clouds.len(), with_points);
     assert!(with_points >= 5, "{with_points} of 9 starts stayed in view");
     let seps: Vec<_> = scene.curves_with("separatrix").collect();
@@ -1203,7 +1216,12 @@ fn section_figure_draws_each_start_as_a_cloud_over_the_faint_separatrices() {
     let dots: usize = doc
         .descendants()
         .filter(|n| n.has_tag_name("path") && has_class(n, "cloud"))
-        .map(|n| n.attribute("data-points").unwrap().parse::<usize>().unwrap())
+        .map(|n| {
+            n.attribute("data-points")
+                .unwrap()
+                .parse::<usize>()
+                .unwrap()
+        })
         .sum();
     let points: usize = d.section.orbits.iter().map(|o| o.points.len()).sum();
     assert_eq!(dots, points);

@@ -91,8 +91,7 @@ fn occupied_cells(f: f64) -> (usize, usize) {
 }
 
 #[test]
-fn below_the_melnikov_threshold_the_unstable_manifold_stays_thin_and_well_above_it_fills_a_layer()
-{
+fn below_the_melnikov_threshold_the_unstable_manifold_stays_thin_and_well_above_it_fills_a_layer() {
     let fc = threshold();
     let (below, below_points) = occupied_cells(0.5 * fc);
     let (above, above_points) = occupied_cells(4.0 * fc);

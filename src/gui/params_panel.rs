@@ -201,7 +201,10 @@ fn mark_slider(ui: &mut egui::Ui, r: &egui::Response, par: &Parameter, m: &Slide
         let x = rect.left() + inset + t * (rect.width() - 2.0 * inset);
         let stroke = egui::Stroke::new(2.0, ui.visuals().warn_fg_color);
         ui.painter().extend(egui::Shape::dashed_line(
-            &[egui::pos2(x, rect.top() - 2.0), egui::pos2(x, rect.bottom() + 2.0)],
+            &[
+                egui::pos2(x, rect.top() - 2.0),
+                egui::pos2(x, rect.bottom() + 2.0),
+            ],
             stroke,
             3.0,
             2.0,

@@ -15,9 +15,9 @@ use crate::core::backbone::Backbone;
 use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
+use crate::core::melnikov::Melnikov;
 use crate::core::system::System;
 use crate::numbers::{clean, label as label_number};
-use crate::core::melnikov::Melnikov;
 use crate::render::{SectionData, section_colours};
 use crate::request::{
     BackboneRequest, FoldsRequest, MelnikovRequest, Overrides, SectionRequest, SweepRequest,
@@ -851,7 +851,7 @@ impl ViewsPanel {
         }
         if let Some(name) = &undriven {
             ui.small(format!(
-                "H depends on t, so this is the backbone of the undriven H\u{{2080}} ({name} = 0)."
+                "H depends on t, so this is the backbone of the undriven H\u{2080} ({name} = 0)."
             ));
         }
         if self.figures[2].views.len() < 2 {

@@ -10,9 +10,9 @@ use crate::core::analysis::{Analysis, AnalysisConfig, analyze};
 use crate::core::backbone::{Backbone, BackboneError};
 use crate::core::continuation::{ContinuationError, Sweep, SweepProgress};
 use crate::core::folds::{FoldCurves, FoldProgress};
+use crate::core::melnikov::Melnikov;
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::core::melnikov::Melnikov;
 use crate::render::SectionData;
 use crate::request::{
     BackboneRequest, FoldsRequest, MelnikovRequest, SectionRequest, SweepRequest,

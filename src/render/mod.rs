@@ -14,8 +14,8 @@ use crate::core::backbone::Backbone;
 use crate::core::continuation::Sweep;
 use crate::core::folds::FoldCurves;
 use crate::core::melnikov::Melnikov;
-use crate::core::section::Section;
 use crate::core::orbit::{Orbit, integrate_orbit};
+use crate::core::section::Section;
 use crate::core::system::System;
 use crate::core::window::Window;
 use crate::numbers;
@@ -348,11 +348,11 @@ pub fn backbone_request_of(
     BackboneRequest::from_session(session, &in_view, overrides)
         .map(|r| r.with_undriven(session, sys))
         .ok_or_else(|| {
-        refused(View::Backbone(BackbonePlot::default()))(
-            "there is no center in view, so no well to follow; give a point near a center"
-                .to_string(),
-        )
-    })
+            refused(View::Backbone(BackbonePlot::default()))(
+                "there is no center in view, so no well to follow; give a point near a center"
+                    .to_string(),
+            )
+        })
 }
 
 /// The backbone of the well the session's `backbone` settings name (the

@@ -175,7 +175,11 @@ impl ViewsPanel {
                 "connection {}: {} simple zero(s){}{}",
                 k + 1,
                 c.zeros.len(),
-                if zeros.is_empty() { "" } else { " at t\u{2080} = " },
+                if zeros.is_empty() {
+                    ""
+                } else {
+                    " at t\u{2080} = "
+                },
                 zeros.join(", ")
             ));
         }
