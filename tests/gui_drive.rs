@@ -131,6 +131,11 @@ fn a_bad_drive_expression_is_refused_in_place_and_a_good_one_undoes() {
         "2*pi/W"
     );
     assert!(h.query_by_label_contains("the drive is kept").is_some());
+    // both fields are checked together: put the period back first
+    h.get_by_label("drive period")
+        .set_text_value_accesskit("2*pi/W");
+    h.run_steps(3);
+    assert!(h.query_by_label_contains("the drive is kept").is_none());
     h.get_by_label("drive damping")
         .set_text_value_accesskit("-1");
     h.run_steps(3);
