@@ -4,7 +4,13 @@
 //! `Scene`; the explorer can draw the same `Scene` with its own plot widget,
 //! so the palette and the marker shapes defined here are the project's one look.
 
+mod drive;
 mod levels;
+
+pub use drive::{
+    FAINT_SEPARATRIX_COLOUR, FAINT_SEPARATRIX_WIDTH, MELNIKOV_WIDTH, SECTION_DOT, ZERO_MARKER,
+    start_colour, threshold_sentence,
+};
 
 use crate::core::analysis::Analysis;
 use crate::core::backbone::{Backbone, FrequencyShift};
@@ -116,7 +122,7 @@ pub enum MarkerShape {
     Diamond,
     /// A filled square (bifurcation points).
     Square,
-    /// A small filled disc (the computed points of a backbone).
+    /// A small filled disc (a backbone's computed points, a point cloud's points).
     Dot,
 }
 
@@ -262,6 +268,8 @@ pub enum CurveRole {
     Potential,
     /// A Bohr–Sommerfeld level n, drawn between its turning points.
     QuantumLevel { n: usize },
+    /// The Melnikov function of one connection over a drive period.
+    Melnikov,
 }
 
 impl CurveRole {
@@ -282,6 +290,7 @@ impl CurveRole {
             CurveRole::Guide => "guide",
             CurveRole::Potential => "potential",
             CurveRole::QuantumLevel { .. } => "quantum-level",
+            CurveRole::Melnikov => "melnikov",
         }
     }
 }
@@ -316,6 +325,8 @@ pub enum MarkRole {
     Cusp,
     /// A computed point of a curve (a backbone's closed orbits).
     Sample,
+    /// A simple zero of a function drawn on the figure (the Melnikov function's).
+    Zero,
 }
 
 /// One point mark, optionally labelled.
@@ -377,7 +388,18 @@ impl ColourScale {
     }
 }
 
-/// A whole figure. Layers draw in this order: curves (as listed), marks, then labels of marks.
+/// A set of unconnected points drawn as dots of one colour and size (the
+/// points of one start's stroboscopic section).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Cloud {
+    pub points: Vec<[f64; 2]>,
+    pub colour: Rgb,
+    /// Diameter of each dot in points.
+    pub size: f64,
+}
+
+/// A whole figure. Layers draw in this order: curves (as listed), clouds
+/// (as listed), marks, then labels of marks.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Scene {
     /// The headline: the session's title, or what the figure shows.
@@ -388,6 +410,8 @@ pub struct Scene {
     pub y: Axis,
     pub curves: Vec<Curve>,
     pub marks: Vec<Mark>,
+    /// Point clouds, drawn over the curves and under the marks.
+    pub clouds: Vec<Cloud>,
     pub colour_scale: Option<ColourScale>,
     pub legend: Vec<LegendEntry>,
 }
@@ -488,6 +512,7 @@ impl Scene {
             },
             curves,
             marks,
+            clouds: Vec::new(),
             colour_scale: if hi > lo { Some(scale) } else { None },
             legend,
         }
@@ -823,6 +848,7 @@ impl Scene {
             y,
             curves,
             marks,
+            clouds: Vec::new(),
             colour_scale: None,
             legend,
         }
@@ -917,6 +943,7 @@ impl Scene {
             y,
             curves,
             marks,
+            clouds: Vec::new(),
             colour_scale: None,
             legend,
         }
@@ -998,6 +1025,7 @@ impl Scene {
             y,
             curves,
             marks,
+            clouds: Vec::new(),
             colour_scale: None,
             legend,
         }

@@ -91,6 +91,7 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
     use phasewright::core::Cancel;
     use phasewright::request::{FoldsRequest, SweepRequest};
     let dir = tempfile::tempdir().expect("temp dir");
+    let mut driven = 0;
     for (name, text) in EXAMPLES {
         let (session, _) = phasewright::session::load(text).expect("example loads");
         let (mut h, _data) = harness(session);
@@ -119,11 +120,33 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
         )
         .ok();
         assert_eq!(shown.backbone, rendered, "{name}: backbone");
+        assert_eq!(
+            shown.section,
+            phasewright::request::SectionRequest::from_session(&saved, &[]).ok(),
+            "{name}: section"
+        );
+        assert_eq!(
+            shown.melnikov,
+            phasewright::request::MelnikovRequest::from_session(&saved, &sys).ok(),
+            "{name}: Melnikov function"
+        );
+        if saved.drive.is_some() {
+            driven += 1;
+            assert!(
+                shown.section.is_some() && shown.melnikov.is_some(),
+                "{name}: a driven example has a section and a Melnikov function"
+            );
+            // the export makes its figure from the same request
+            let data =
+                phasewright::render::section_of(&saved, &sys, &saved.view, &[], &Cancel::never());
+            assert!(data.is_ok(), "{name}: {:?}", data.err());
+        }
         assert!(
             shown.sweep.is_some() || names.is_empty(),
             "{name}: a formula with parameters always has a diagram"
         );
     }
+    assert!(driven >= 2, "only {driven} driven examples");
 }
 
 fn menu(h: &mut Harness<'static, Explorer>, top: &str, item: &str) {

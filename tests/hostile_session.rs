@@ -19,13 +19,15 @@ use proptest::prelude::*;
 use proptest::test_runner::{Config, FileFailurePersistence};
 use serde_json::Value;
 
-const EXAMPLES: [&str; 7] = [
+const EXAMPLES: [&str; 9] = [
     include_str!("../sessions/barrier-crossing.json"),
     include_str!("../sessions/biased-resonator.json"),
     include_str!("../sessions/bond-ladder.json"),
     include_str!("../sessions/diatomic-bond.json"),
+    include_str!("../sessions/driven-resonator.json"),
     include_str!("../sessions/imperfect-strut.json"),
     include_str!("../sessions/loaded-strut.json"),
+    include_str!("../sessions/shaken-lattice.json"),
     include_str!("../sessions/tilted-lattice.json"),
 ];
 
@@ -89,6 +91,21 @@ fn within_caps(s: &Session) -> Result<(), TestCaseError> {
     }
     if let Some(n) = s.backbone.as_ref().and_then(|b| b.energies) {
         prop_assert!((MIN_BACKBONE_ENERGIES..=MAX_BACKBONE_ENERGIES).contains(&n));
+    }
+    if let Some(d) = &s.drive {
+        use phasewright::session::drive::{MAX_SECTION_LATTICE, MAX_SECTION_PERIODS};
+        prop_assert!(
+            d.periods
+                .is_none_or(|n| (1..=MAX_SECTION_PERIODS).contains(&n))
+        );
+        prop_assert!(
+            d.lattice
+                .is_none_or(|n| (1..=MAX_SECTION_LATTICE).contains(&n))
+        );
+        // a drive that loads has a period > 0 and a damping ≥ 0, or is off
+        if let Ok(Some(v)) = s.drive() {
+            prop_assert!(v.period > 0.0 && v.damping >= 0.0);
+        }
     }
     Ok(())
 }

@@ -689,11 +689,16 @@ fn diagram_png_has_the_bifurcation_marker_colour_at_the_saddle_node() {
 }
 
 /// The views a session's settings allow (a backbone needs a center in view,
-/// which every example has, and an H without t).
+/// which every example has, and an H without t or a drive that names H₀;
+/// a section and a Melnikov function need a drive).
 fn views_of(session: &phasewright::session::Session) -> Vec<&'static str> {
     let mut views = vec!["portrait"];
-    if !session.system().unwrap().depends_on_time() {
+    if !session.system().unwrap().depends_on_time() || session.drive.is_some() {
         views.push("backbone");
+    }
+    if session.drive.is_some() {
+        views.push("section");
+        views.push("melnikov");
     }
     if session.sweep.is_some() {
         views.push("sweep");
@@ -711,6 +716,7 @@ fn views_of(session: &phasewright::session::Session) -> Vec<&'static str> {
 fn render_command_draws_every_session_in_every_view_its_settings_allow() {
     let dir = tempfile::tempdir().unwrap();
     let mut diagrams = 0;
+    let mut driven = 0;
     for path in session_files() {
         let (session, _) = phasewright::session::load_file(&path).unwrap();
         for view in views_of(&session) {
@@ -736,6 +742,7 @@ fn render_command_draws_every_session_in_every_view_its_settings_allow() {
                 "sweep" => "branch",
                 "folds" => "fold",
                 "levels" => "quantum-level",
+                "section" => "cloud",
                 other => other,
             };
             let curves = doc
@@ -748,9 +755,11 @@ fn render_command_draws_every_session_in_every_view_its_settings_allow() {
                 path.display()
             );
             diagrams += usize::from(view == "sweep");
+            driven += usize::from(view == "section");
         }
     }
     assert!(diagrams >= 4, "only {diagrams} sessions have a sweep");
+    assert!(driven >= 2, "only {driven} sessions have a drive");
 }
 
 #[test]
@@ -1057,4 +1066,164 @@ fn levels_figure_draws_each_level_between_its_turning_points() {
     }
     assert!(scene.caption.contains("not spectroscopic values"));
     assert!(scene.curves.iter().any(|c| c.role == CurveRole::Potential));
+}
+
+#[test]
+fn melnikov_figure_marks_the_zeros_and_states_the_closed_form_threshold() {
+    // Driven double well q'' = q − q³ − δq' + γ cos(ωt), H = p²/2 − q²/2 +
+    // q⁴/4 − γ q cos(ωt): M(t₀) = −4δ/3 ± √2·π·γ·ω·sech(πω/2)·sin(ωt₀), so
+    // the threshold is γ = δ·4 cosh(πω/2)/(3√2 π ω) and above it each loop's
+    // M has two simple zeros per period (J. Guckenheimer and P. Holmes,
+    // Nonlinear Oscillations, Dynamical Systems, and Bifurcations of Vector
+    // Fields, 1983, §4.5).
+    use phasewright::render::{View, ViewData, view_data, view_scene};
+    use phasewright::scene::{CurveRole, MarkRole};
+    let (w, delta) = (1.0f64, 0.25f64);
+    let threshold = delta * 4.0 * (std::f64::consts::PI * w / 2.0).cosh()
+        / (3.0 * 2f64.sqrt() * std::f64::consts::PI * w);
+    let (mut s, _) =
+        phasewright::session::Session::from_formula("p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)")
+            .unwrap();
+    s.view = phasewright::core::window::Window::new(-2.0, 2.0, -1.5, 1.5).unwrap();
+    for p in &mut s.parameters {
+        p.value = if p.name == "W" { w } else { 0.3 };
+    }
+    s.drive = Some(phasewright::session::drive::DriveSettings {
+        period: "2*pi/W".into(),
+        damping: Some(format!("{delta}")),
+        amplitude: Some("F".into()),
+        ..Default::default()
+    });
+    let sys = s.system().unwrap();
+    let data = view_data(
+        &s,
+        &sys,
+        &s.view,
+        View::Melnikov,
+        &Overrides::default(),
+        &Cancel::never(),
+    )
+    .unwrap();
+    let ViewData::Melnikov(m) = &data else {
+        panic!("not a Melnikov result")
+    };
+    let found = m.threshold_amplitude.unwrap();
+    assert!(
+        (found - threshold).abs() < 1e-8 * threshold,
+        "{found} against {threshold}"
+    );
+    let scene = view_scene(&s, &sys, &data, View::Melnikov);
+    assert!(
+        scene.title.contains(&phasewright::numbers::caption(found)),
+        "{}",
+        scene.title
+    );
+    let curves = scene.curves_with("melnikov").count();
+    assert_eq!(curves, 2, "one curve per loop");
+    // F = 0.3 is above the threshold (about 0.188): two zeros on each loop, each on M = 0
+    let zeros: Vec<_> = scene
+        .marks
+        .iter()
+        .filter(|k| k.role == MarkRole::Zero)
+        .collect();
+    assert_eq!(zeros.len(), 4);
+    for z in zeros {
+        assert_eq!(z.at[1], 0.0);
+        assert!(z.at[0] >= 0.0 && z.at[0] <= 2.0 * std::f64::consts::PI / w);
+    }
+    // each curve's largest value: F·√2·π·ω·sech(πω/2) − 4δ/3 (same source)
+    let peak = 0.3 * 2f64.sqrt() * std::f64::consts::PI * w
+        / (std::f64::consts::PI * w / 2.0).cosh()
+        - 4.0 * delta / 3.0;
+    for c in scene
+        .curves
+        .iter()
+        .filter(|c| c.role == CurveRole::Melnikov)
+    {
+        let top = c
+            .points
+            .iter()
+            .map(|p| p[1])
+            .fold(f64::NEG_INFINITY, f64::max);
+        // 64 samples a period: the sampled peak is within 1 − cos(π/64) of the true one
+        assert!(
+            top <= peak + 1e-9 && top > peak - 2e-3,
+            "{top} against {peak}"
+        );
+    }
+    let svg = to_svg(&scene, FigureSize::default());
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let zeros = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("g") && has_class(n, "zero"))
+        .count();
+    assert_eq!(zeros, 4);
+}
+
+#[test]
+fn section_figure_draws_each_start_as_a_cloud_over_the_faint_separatrices() {
+    // The undriven double well H₀ = p²/2 − q²/2 + q⁴/4 has its separatrix at
+    // H₀ = 0 (closed form: the saddle at the origin); the section shows one
+    // cloud per start with every point's q and p as computed.
+    use phasewright::render::{View, ViewData, view_data, view_scene};
+    let (mut s, _) =
+        phasewright::session::Session::from_formula("p^2/2 - q^2/2 + q^4/4 - F*q*cos(W*t)")
+            .unwrap();
+    s.view = phasewright::core::window::Window::new(-2.0, 2.0, -1.5, 1.5).unwrap();
+    for p in &mut s.parameters {
+        p.value = if p.name == "W" { 1.2 } else { 0.02 };
+    }
+    s.drive = Some(phasewright::session::drive::DriveSettings {
+        period: "2*pi/W".into(),
+        periods: Some(20),
+        lattice: Some(3),
+        ..Default::default()
+    });
+    // vertices refined onto the exact level, so the check below is tight
+    s.levels.refine = true;
+    let sys = s.system().unwrap();
+    let data = view_data(
+        &s,
+        &sys,
+        &s.view,
+        View::Section,
+        &Overrides::default(),
+        &Cancel::never(),
+    )
+    .unwrap();
+    let ViewData::Section(d) = &data else {
+        panic!("not a section")
+    };
+    let scene = view_scene(&s, &sys, &data, View::Section);
+    let with_points = d
+        .section
+        .orbits
+        .iter()
+        .filter(|o| !o.points.is_empty())
+        .count();
+    assert_eq!(scene.clouds.len(), with_points);
+    assert!(with_points >= 5, "{with_points} of 9 starts stayed in view");
+    let seps: Vec<_> = scene.curves_with("separatrix").collect();
+    assert!(!seps.is_empty());
+    for c in &seps {
+        assert_eq!(c.colour, phasewright::scene::FAINT_SEPARATRIX_COLOUR);
+        for p in &c.points {
+            let h0 = p[1] * p[1] / 2.0 - p[0] * p[0] / 2.0 + p[0].powi(4) / 4.0;
+            assert!(h0.abs() < 1e-6, "{p:?} is off H₀ = 0");
+        }
+    }
+    let svg = to_svg(&scene, FigureSize::default());
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let dots: usize = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("path") && has_class(n, "cloud"))
+        .map(|n| {
+            n.attribute("data-points")
+                .unwrap()
+                .parse::<usize>()
+                .unwrap()
+        })
+        .sum();
+    let points: usize = d.section.orbits.iter().map(|o| o.points.len()).sum();
+    assert_eq!(dots, points);
 }

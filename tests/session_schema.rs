@@ -655,6 +655,65 @@ fn backbone() -> BoxedStrategy<Value> {
     )
 }
 
+/// The drive section. Its expressions are constants that evaluate to a
+/// valid period (> 0) and damping (≥ 0) whatever the formula's parameters,
+/// and the amplitude is left out: what they mean is the loader's alone.
+fn drive() -> BoxedStrategy<Value> {
+    let period = field(
+        proptest::sample::select(vec!["2*pi", " 6.5 ", "2*pi/1.2", "3"])
+            .prop_map(|e| json!(e))
+            .boxed(),
+        prop_oneof![white_space(), wrong_type()].boxed(),
+    );
+    let damping = field(
+        prop_oneof![
+            proptest::sample::select(vec!["0", "0.088", "1/8"]).prop_map(|e| json!(e)),
+            Just(Value::Null),
+        ]
+        .boxed(),
+        prop_oneof![Just(json!(0.1)), Just(json!(true)), Just(json!([]))].boxed(),
+    );
+    let count = |hi: u64| {
+        field(
+            prop_oneof![whole(0, hi), Just(Value::Null)].boxed(),
+            wrong_type(),
+        )
+    };
+    let enabled = field(any::<bool>().prop_map(|b| json!(b)).boxed(), wrong_type());
+    field(
+        (
+            required(period),
+            optional(damping),
+            optional(count(200_000)),
+            optional(count(300)),
+            optional(enabled),
+        )
+            .prop_map(|(p, d, n, l, e)| {
+                let mut m = Map::new();
+                let fields = [
+                    ("period", p),
+                    ("damping", d),
+                    ("periods", n),
+                    ("lattice", l),
+                    ("enabled", e),
+                ];
+                for (k, v) in fields {
+                    if let Some(v) = v {
+                        m.insert(k.into(), v);
+                    }
+                }
+                Value::Object(m)
+            })
+            .boxed(),
+        prop_oneof![
+            wrong_type(),
+            Just(json!({ "damping": "0.1" })),
+            Just(json!(["2*pi", "0.1"])),
+        ]
+        .boxed(),
+    )
+}
+
 fn session_value() -> impl Strategy<Value = Value> {
     let format = field(
         Just(json!("phasewright-session")).boxed(),
@@ -695,6 +754,7 @@ fn session_value() -> impl Strategy<Value = Value> {
         optional(sweep()),
         optional(folds()),
         optional(backbone()),
+        optional(drive()),
     );
     (head, body).prop_map(|(h, b)| {
         let mut m = Map::new();
@@ -711,6 +771,7 @@ fn session_value() -> impl Strategy<Value = Value> {
             ("sweep", b.5),
             ("folds", b.6),
             ("backbone", b.7),
+            ("drive", b.8),
         ];
         for (k, v) in fields {
             if let Some(v) = v {

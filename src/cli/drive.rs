@@ -3,7 +3,6 @@
 
 use super::*;
 use crate::core::melnikov::Melnikov;
-use crate::request::MelnikovRequest;
 
 /// Which drive: flags that replace the session's `drive` settings.
 #[derive(Debug, Clone, Default, Args)]
@@ -91,8 +90,8 @@ pub struct MelnikovArgs {
 pub fn run_melnikov(args: &MelnikovArgs) -> Result<String, CliError> {
     let r = resolve_driven(&args.system, &args.drive)?;
     print_warnings(&r.warnings);
-    let m = melnikov_of(&r.session, &r.system, &r.window, &Cancel::never())
-        .map_err(|e| CliError(format!("melnikov: {e}")))?;
+    let m = render::melnikov_of(&r.session, &r.system, &r.window, &Cancel::never())
+        .map_err(|e| view_error(&e, "melnikov"))?;
     Ok(emit(
         &r,
         &args.output,
@@ -100,16 +99,6 @@ pub fn run_melnikov(args: &MelnikovArgs) -> Result<String, CliError> {
         || render::table::melnikov_table(&m),
         || melnikov_text(&r, &m),
     ))
-}
-
-/// The Melnikov analysis `session` describes.
-pub fn melnikov_of(
-    session: &Session,
-    sys: &System,
-    window: &Window,
-    cancel: &Cancel,
-) -> Result<Melnikov, String> {
-    MelnikovRequest::from_session(session, sys)?.run(sys, window, cancel)
 }
 
 /// The Melnikov analysis as readable text.

@@ -17,6 +17,10 @@ pub enum FigureView {
     Folds,
     /// Bohr–Sommerfeld levels over H along the center's line (the session's quantum.hbar, or --hbar).
     Levels,
+    /// The stroboscopic section of a driven system (the session's drive, or --period …).
+    Section,
+    /// The Melnikov function over one drive period, its zeros and threshold (the session's drive, or --period …).
+    Melnikov,
 }
 
 /// Which relation a backbone figure plots.
@@ -51,6 +55,9 @@ pub struct RenderArgs {
     pub folds: FoldFlags,
     #[command(flatten)]
     pub backbone: BackboneFlags,
+    /// Section and Melnikov: the drive (replacing the session's).
+    #[command(flatten)]
+    pub drive: DriveFlags,
     /// Levels: Planck's constant ħ, a number or an expression over the
     /// parameters (default: the session's quantum.hbar).
     #[arg(long, value_name = "EXPR", allow_hyphen_values = true)]
@@ -89,6 +96,8 @@ impl FigureView {
             FigureView::Diagram => View::Diagram,
             FigureView::Folds => View::Folds,
             FigureView::Levels => View::Levels,
+            FigureView::Section => View::Section,
+            FigureView::Melnikov => View::Melnikov,
             FigureView::Backbone => View::Backbone(match plot {
                 PlotArg::PeriodEnergy => BackbonePlot::PeriodEnergy,
                 PlotArg::FrequencyAmplitude => BackbonePlot::FrequencyAmplitude,
@@ -116,7 +125,10 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
         )));
     }
     let size = FigureSize::parse(&args.size).map_err(|e| CliError(format!("--size: {e}")))?;
-    let mut r = args.system.resolve()?;
+    let mut r = match view {
+        View::Section | View::Melnikov => drive::resolve_driven(&args.system, &args.drive)?,
+        _ => args.system.resolve()?,
+    };
     let command = match view {
         View::Diagram => {
             args.sweep.apply(&mut r.session)?;
@@ -132,6 +144,8 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
         }
         View::Levels => levels::apply_hbar(&mut r.session, args.hbar.as_deref(), "--figure levels"),
         View::Portrait => "--figure portrait".to_string(),
+        View::Section => "--figure section".to_string(),
+        View::Melnikov => "--figure melnikov".to_string(),
     };
     print_warnings(&r.warnings);
     let data = compute(&r, &command, |s, sys, w, c| {

@@ -31,7 +31,8 @@ impl Explorer {
             | Command::LaunchOrbit { .. }
             | Command::DeleteOrbit(_)
             | Command::EditOrbit { .. }
-            | Command::SetPanes { .. } => self.apply_edit(command),
+            | Command::SetPanes { .. }
+            | Command::SetDrive { .. } => self.apply_edit(command),
             Command::Guarded(_)
             | Command::Confirmed(_)
             | Command::OpenFile(_)
@@ -186,6 +187,15 @@ impl Explorer {
                 if settings != PaneSettings::of(&self.doc.session) {
                     self.edit(EditKind::Panes, dragging);
                     settings.store(&mut self.doc.session);
+                }
+            }
+            Command::SetDrive { drive, typing } => {
+                if drive != self.doc.session.drive {
+                    self.edit(EditKind::Drive, false);
+                    if !typing {
+                        self.doc.history.seal();
+                    }
+                    self.doc.session.drive = drive;
                 }
             }
             _ => {}

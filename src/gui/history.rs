@@ -14,6 +14,8 @@ pub enum EditKind {
     Orbits,
     /// Settings of the diagram panes.
     Panes,
+    /// The drive section (period, damping, on or off).
+    Drive,
     /// Never coalesces (load, new, restore, delete).
     Other,
 }

@@ -16,6 +16,10 @@ pub struct MenuState<'a> {
     pub has_sweep: bool,
     /// The fold pane has a parameter plane to show.
     pub has_folds: bool,
+    /// The session has a drive to make a section of.
+    pub has_section: bool,
+    /// The session has a drive with a known amplitude for a Melnikov function.
+    pub has_melnikov: bool,
 }
 
 pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
@@ -172,6 +176,8 @@ fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
             true,
         ),
         ("Fold curves", View::Folds, st.has_folds),
+        ("Stroboscopic section", View::Section, st.has_section),
+        ("Melnikov function", View::Melnikov, st.has_melnikov),
     ];
     for (name, view, enabled) in views {
         ui.add_enabled_ui(enabled, |ui| {

@@ -41,7 +41,8 @@ pub use formula_panel::EDITOR_LABEL;
 pub use plot_panel::PLOT_LABEL;
 pub use tables_panel::{equilibrium_rows, orbit_row, well_rows};
 pub use views_panel::{
-    BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, PaneRequests, PaneSettings,
+    BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, MELNIKOV_LABEL, PaneRequests,
+    PaneSettings, SECTION_LABEL,
 };
 
 use chrome::{ANNOUNCE_HOLD_SECONDS, Chrome};
@@ -128,6 +129,11 @@ pub enum Command {
     SetPanes {
         settings: PaneSettings,
         dragging: bool,
+    },
+    /// A new drive section (None removes it); `typing` coalesces a burst of keys.
+    SetDrive {
+        drive: Option<crate::session::DriveSettings>,
+        typing: bool,
     },
     Guarded(Guarded),
     Confirmed(Guarded),
@@ -317,11 +323,23 @@ impl Explorer {
         })
     }
 
-    /// Open a pane: "diagram", "folds" or "backbone" (tests).
+    /// The section the section pane shows.
+    pub fn section(&self) -> Option<&crate::render::SectionData> {
+        self.views.section()
+    }
+
+    /// The Melnikov function the Melnikov pane shows.
+    pub fn melnikov(&self) -> Option<&crate::core::melnikov::Melnikov> {
+        self.views.melnikov()
+    }
+
+    /// Open a pane: "diagram", "folds", "backbone", "section" or "melnikov" (tests).
     pub fn show_pane(&mut self, name: &str) {
         self.views.tab = match name {
             "folds" => views_panel::Tab::Folds,
             "backbone" => views_panel::Tab::Backbone,
+            "section" => views_panel::Tab::Section,
+            "melnikov" => views_panel::Tab::Melnikov,
             _ => views_panel::Tab::Diagram,
         };
     }
@@ -431,6 +449,8 @@ impl Explorer {
                     dark: self.chrome.dark,
                     has_sweep: exportable.sweep.is_some(),
                     has_folds: exportable.folds.is_some(),
+                    has_section: exportable.section.is_some(),
+                    has_melnikov: exportable.melnikov.is_some(),
                 },
             ));
         });
@@ -468,7 +488,9 @@ impl Explorer {
                     }
                     ui.add_space(8.0);
                     let unused = self.unused_parameters();
+                    self.params.marks = self.threshold_marks();
                     commands.extend(self.params.ui(ui, &self.doc.session.parameters, &unused));
+                    commands.extend(self.params.drive_ui(ui, &self.doc.session));
                 });
             });
         egui::Panel::right("diagram-panes")
@@ -583,6 +605,29 @@ impl Explorer {
             }
         });
         out
+    }
+
+    /// The Melnikov threshold on the drive amplitude's slider, while the
+    /// Melnikov function shown is that of the session's drive.
+    fn threshold_marks(&self) -> Vec<params_panel::SliderMark> {
+        let Some(m) = self.views.melnikov() else {
+            return Vec::new();
+        };
+        let current = self
+            .doc
+            .session
+            .drive()
+            .ok()
+            .flatten()
+            .is_some_and(|d| d.period == m.period && d.damping == m.damping);
+        match m.threshold_amplitude {
+            Some(a) if current && m.damping > 0.0 => vec![params_panel::SliderMark {
+                param: m.amplitude.clone(),
+                value: a,
+                caption: crate::scene::threshold_sentence(m),
+            }],
+            _ => Vec::new(),
+        }
     }
 
     /// The system the session describes, if its formula compiles.

@@ -1,14 +1,33 @@
 //! Parameter rows: for each parameter a slider, its value, its range (min and
 //! max) and an optional step. A range with min ≥ max is refused with a message.
+//! Below them the Drive area: the drive's period and damping as expressions,
+//! on or off (`drive_ui`).
 
-use crate::session::Parameter;
+use crate::session::{DriveSettings, Parameter, Session};
 
 use super::Command;
+
+/// A value marked on a parameter's slider with a dashed line, and a
+/// caption under it (the drive amplitude's Melnikov threshold).
+#[derive(Clone, Debug, PartialEq)]
+pub struct SliderMark {
+    pub param: String,
+    pub value: f64,
+    pub caption: String,
+}
 
 #[derive(Default)]
 pub struct ParamsPanel {
     /// The last refused range edit: parameter name and the message.
     refused: Option<(String, String)>,
+    /// Marks drawn on the sliders this frame (set by the explorer).
+    pub marks: Vec<SliderMark>,
+    /// The drive's period and damping as typed, and the drive they were
+    /// last synced from (a change in the session, e.g. an undo, resets them).
+    drive_text: [String; 2],
+    drive_seen: Option<Option<DriveSettings>>,
+    /// Why the typed drive was not taken.
+    drive_problem: Option<String>,
 }
 
 impl ParamsPanel {
@@ -54,6 +73,9 @@ impl ParamsPanel {
             .add(slider)
             .on_hover_text(format!("{} = {}", par.name, par.value));
         accessible_name(&r, egui::Role::Slider, &format!("{} slider", par.name));
+        for m in self.marks.iter().filter(|m| m.param == par.name) {
+            mark_slider(ui, &r, par, m);
+        }
         // The slider snaps to its step in binary (2.3 becomes 2.3000000000000003
         // on the first frame); that is not an edit, and a dragged value is kept
         // at the step's decimals so files stay as people write them.
@@ -165,4 +187,144 @@ pub fn snap_to_step(value: f64, step: Option<f64>) -> f64 {
         .unwrap_or(15);
     let text = format!("{value:.decimals$}");
     text.parse().unwrap_or(value)
+}
+
+/// A dashed line across the slider `r` of `par` at the mark's value (when
+/// it lies in the slider's range) and the mark's caption under the slider.
+fn mark_slider(ui: &mut egui::Ui, r: &egui::Response, par: &Parameter, m: &SliderMark) {
+    let span = par.max - par.min;
+    if span > 0.0 && m.value >= par.min && m.value <= par.max {
+        let rect = r.rect;
+        // the slider's rail runs between its handle's half-widths
+        let inset = rect.height() / 2.0;
+        let t = ((m.value - par.min) / span) as f32;
+        let x = rect.left() + inset + t * (rect.width() - 2.0 * inset);
+        let stroke = egui::Stroke::new(2.0, ui.visuals().warn_fg_color);
+        ui.painter().extend(egui::Shape::dashed_line(
+            &[
+                egui::pos2(x, rect.top() - 2.0),
+                egui::pos2(x, rect.bottom() + 2.0),
+            ],
+            stroke,
+            3.0,
+            2.0,
+        ));
+    }
+    ui.small(egui::RichText::new(&m.caption).color(ui.visuals().warn_fg_color));
+}
+
+impl ParamsPanel {
+    /// The Drive area: on or off, the period and the damping as
+    /// expressions over the parameters. An edit that evaluates is a session
+    /// edit (undoable); one that does not is kept in its field with the
+    /// message in place, and the session keeps its drive.
+    pub fn drive_ui(&mut self, ui: &mut egui::Ui, session: &Session) -> Vec<Command> {
+        let mut commands = Vec::new();
+        if self.drive_seen.as_ref() != Some(&session.drive) {
+            self.drive_text = match &session.drive {
+                Some(d) => [d.period.clone(), d.damping.clone().unwrap_or_default()],
+                None => [String::new(), String::new()],
+            };
+            self.drive_seen = Some(session.drive.clone());
+            self.drive_problem = None;
+        }
+        ui.separator();
+        ui.strong("Drive");
+        let Some(current) = &session.drive else {
+            ui.small("None: H is analysed as written, time frozen at t = 0.");
+            let r = ui.button("Add a drive");
+            accessible_name(&r, egui::Role::Button, "Add a drive");
+            if r.clicked() {
+                commands.push(Command::SetDrive {
+                    drive: Some(DriveSettings {
+                        period: "2*pi".to_string(),
+                        enabled: true,
+                        ..DriveSettings::default()
+                    }),
+                    typing: false,
+                });
+            }
+            return commands;
+        };
+        let mut on = current.enabled;
+        let r = ui.checkbox(&mut on, "drive on");
+        accessible_name(&r, egui::Role::CheckBox, "drive on");
+        if r.changed() {
+            commands.push(Command::SetDrive {
+                drive: Some(DriveSettings {
+                    enabled: on,
+                    ..current.clone()
+                }),
+                typing: false,
+            });
+        }
+        let mut typed = false;
+        egui::Grid::new("drive-grid").num_columns(2).show(ui, |ui| {
+            for (k, (label, hint)) in [("period", "e.g. 2*pi/W"), ("damping", "none")]
+                .into_iter()
+                .enumerate()
+            {
+                ui.label(label);
+                let r = ui.add(
+                    egui::TextEdit::singleline(&mut self.drive_text[k])
+                        .hint_text(hint)
+                        .desired_width(f32::INFINITY)
+                        .font(egui::TextStyle::Monospace),
+                );
+                accessible_name(&r, egui::Role::TextInput, &format!("drive {label}"));
+                typed |= r.changed();
+                ui.end_row();
+            }
+        });
+        if typed {
+            let damping = self.drive_text[1].trim();
+            let candidate = DriveSettings {
+                period: self.drive_text[0].clone(),
+                damping: (!damping.is_empty()).then(|| self.drive_text[1].clone()),
+                ..current.clone()
+            };
+            let mut trial = session.clone();
+            trial.drive = Some(candidate.clone());
+            let checked = if candidate.period.trim().is_empty() {
+                Err("drive.period: is empty; give the drive period, e.g. \"2*pi/W\"".to_string())
+            } else {
+                // a drive switched off is checked as if it were on
+                if let Some(d) = trial.drive.as_mut() {
+                    d.enabled = true;
+                }
+                trial.drive().map(|_| ()).map_err(|e| e.to_string())
+            };
+            match checked {
+                Ok(()) => {
+                    self.drive_problem = None;
+                    commands.push(Command::SetDrive {
+                        drive: Some(candidate),
+                        typing: true,
+                    });
+                }
+                Err(e) => self.drive_problem = Some(format!("{e}; the drive is kept as it was")),
+            }
+        }
+        if let Some(problem) = &self.drive_problem {
+            ui.colored_label(ui.visuals().error_fg_color, problem);
+        } else if let Ok(Some(d)) = session.drive() {
+            ui.small(format!(
+                "period {}, damping {}{}",
+                crate::numbers::caption(d.period),
+                crate::numbers::caption(d.damping),
+                d.amplitude
+                    .as_ref()
+                    .map_or(String::new(), |a| format!(", amplitude {a}"))
+            ));
+        }
+        let r = ui.small_button("Remove the drive");
+        accessible_name(&r, egui::Role::Button, "Remove the drive");
+        if r.clicked() {
+            commands.push(Command::SetDrive {
+                drive: None,
+                typing: false,
+            });
+        }
+        commands
+    }
 }

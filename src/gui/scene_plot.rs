@@ -90,6 +90,13 @@ struct ViewCurve {
     arrow_to: Vec<PlotPoint>,
 }
 
+/// A point cloud: dots of one colour and diameter.
+struct ViewCloud {
+    points: Vec<PlotPoint>,
+    colour: Rgb,
+    size: f32,
+}
+
 /// Marks sharing one style, drawn as one egui_plot item.
 struct MarkGroup {
     style: MarkerStyle,
@@ -106,6 +113,7 @@ struct ViewLabel {
 #[derive(Default)]
 pub struct SceneView {
     curves: Vec<ViewCurve>,
+    clouds: Vec<ViewCloud>,
     marks: Vec<MarkGroup>,
     labels: Vec<ViewLabel>,
     pub legend: Vec<LegendEntry>,
@@ -175,8 +183,18 @@ impl SceneView {
                 });
             }
         }
+        let clouds = scene
+            .clouds
+            .iter()
+            .map(|c| ViewCloud {
+                points: to_points(&c.points),
+                colour: c.colour,
+                size: c.size as f32,
+            })
+            .collect();
         SceneView {
             curves,
+            clouds,
             marks,
             labels,
             legend: scene.legend.clone(),
@@ -216,6 +234,16 @@ impl SceneView {
                         .allow_hover(false),
                 );
             }
+        }
+        for c in &self.clouds {
+            pui.points(
+                Points::new("", c.points.as_slice())
+                    .shape(egui_plot::MarkerShape::Circle)
+                    .filled(true)
+                    .radius(c.size / 2.0)
+                    .color(look.colour(c.colour))
+                    .allow_hover(false),
+            );
         }
         for g in &self.marks {
             marker_items(pui, g.style, g.points.as_slice(), look);

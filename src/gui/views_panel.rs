@@ -1,6 +1,9 @@
 //! The panes beside the portrait: the bifurcation diagram (equilibria against
 //! a swept parameter), the fold curve in the plane of two parameters, and the
-//! backbone of a center (period against energy, frequency against amplitude).
+//! backbone of a center (period against energy, frequency against amplitude),
+//! and for a driven session the stroboscopic section (`section.rs` in the
+//! core; coarse while a slider is dragged, refined after) and the Melnikov
+//! function over one drive period.
 //! Their numbers come from the core (`continuation::sweep`,
 //! `folds::fold_curves`, `backbone::backbone`) run on the pane lanes of
 //! `worker.rs`; their figures are the scenes of `src/scene.rs` drawn through
@@ -12,16 +15,21 @@ use crate::core::backbone::Backbone;
 use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
+use crate::core::melnikov::Melnikov;
 use crate::core::system::System;
 use crate::numbers::{clean, label as label_number};
+use crate::render::{SectionData, section_colours};
 use crate::request::{
-    BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_of, range_of,
+    BackboneRequest, FoldsRequest, MelnikovRequest, Overrides, SectionRequest, SweepRequest,
+    centers_of, range_of, undriven,
 };
 use crate::scene::{BackbonePlot, Scene};
 use crate::session::{BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
 use egui_plot::{Plot, PlotBounds};
 use std::sync::{Arc, Mutex};
 use std::time::Duration;
+
+mod drive;
 
 use super::params_panel::accessible_name;
 use super::scene_plot::{self, Look, SceneView};
@@ -33,6 +41,8 @@ pub const DIAGRAM_LABEL: &str = "Sweep: equilibria against a parameter";
 pub const FOLDS_LABEL: &str = "Fold curves";
 pub const BACKBONE_LABEL: &str = "Backbone: period against energy";
 pub const FREQUENCY_LABEL: &str = "Backbone: frequency against amplitude";
+pub const SECTION_LABEL: &str = "Stroboscopic section";
+pub const MELNIKOV_LABEL: &str = "Melnikov function";
 
 /// The session's settings of the panes, edited together.
 #[derive(Clone, Debug, PartialEq, Default)]
@@ -65,6 +75,8 @@ pub enum Tab {
     Diagram,
     Folds,
     Backbone,
+    Section,
+    Melnikov,
 }
 
 /// What the panes read from the explorer each frame.
@@ -84,6 +96,10 @@ pub struct PaneRequests {
     pub sweep: Option<SweepRequest>,
     pub folds: Option<FoldsRequest>,
     pub backbone: Option<BackboneRequest>,
+    /// The section and the Melnikov function of a driven session (None
+    /// without a drive, or while its expressions are bad).
+    pub section: Option<SectionRequest>,
+    pub melnikov: Option<MelnikovRequest>,
 }
 
 fn value_of(params: &[Parameter], name: &str) -> Option<f64> {
@@ -143,7 +159,15 @@ pub fn resolve(inp: &Inputs) -> PaneRequests {
     PaneRequests {
         sweep: SweepRequest::from_session(inp.session, &names),
         folds: FoldsRequest::from_session(inp.session, &names),
-        backbone: BackboneRequest::from_session(inp.session, &centers(inp.analysis), &overrides),
+        backbone: BackboneRequest::from_session(inp.session, &centers(inp.analysis), &overrides)
+            .map(|b| match inp.system {
+                Some(sys) => b.with_undriven(inp.session, sys),
+                None => b,
+            }),
+        section: SectionRequest::from_session(inp.session, &[]).ok(),
+        melnikov: inp
+            .system
+            .and_then(|sys| MelnikovRequest::from_session(inp.session, sys).ok()),
     }
 }
 
@@ -167,9 +191,11 @@ impl Figure {
 pub struct ViewsPanel {
     pub tab: Tab,
     lanes: Vec<Lane>,
-    shown: [Option<ViewComputed>; 3],
-    last_spec: [Option<ViewSpec>; 3],
-    figures: [Figure; 3],
+    shown: [Option<ViewComputed>; 5],
+    last_spec: [Option<ViewSpec>; 5],
+    figures: [Figure; 5],
+    /// The connection drawn heavier in the Melnikov pane.
+    connection: Option<usize>,
     /// A refused settings edit and why.
     refused: Option<String>,
 }
@@ -186,6 +212,7 @@ impl ViewsPanel {
             shown: Default::default(),
             last_spec: Default::default(),
             figures: Default::default(),
+            connection: None,
             refused: None,
         })
     }
@@ -284,17 +311,65 @@ impl ViewsPanel {
         }
     }
 
-    /// Start the jobs whose inputs changed: the diagram always (its
-    /// bifurcations are announced on the portrait), the others while their
-    /// tab is open.
-    pub fn submit_if_changed(&mut self, inp: &Inputs) {
-        if inp.dragging {
-            return;
+    /// The section shown in the section pane.
+    pub fn section(&self) -> Option<&SectionData> {
+        match self.shown[3].as_ref().map(|c| c.outcome.as_ref()) {
+            Some(ViewOutcome::Section(Ok(d))) => Some(d),
+            _ => None,
         }
+    }
+
+    /// The Melnikov function shown in its pane (computed whenever the
+    /// session has a drive, for the threshold on the amplitude slider).
+    pub fn melnikov(&self) -> Option<&Melnikov> {
+        match self.shown[4].as_ref().map(|c| c.outcome.as_ref()) {
+            Some(ViewOutcome::Melnikov(Ok(m))) => Some(m),
+            _ => None,
+        }
+    }
+
+    /// The section job for what is shown now: the request (coarse while a
+    /// slider or the view is dragged), H₀'s parameter and the starts' colours.
+    fn section_task(inp: &Inputs, sys: &System, req: &SectionRequest) -> ViewTask {
+        let request = if inp.dragging {
+            req.coarse()
+        } else {
+            req.clone()
+        };
+        ViewTask::Section {
+            colours: section_colours(inp.session, &request),
+            undriven: undriven(inp.session, sys)
+                .ok()
+                .flatten()
+                .map(|(name, _)| (name, inp.session.analysis_config())),
+            request,
+        }
+    }
+
+    /// Start the jobs whose inputs changed: the diagram always (its
+    /// bifurcations are announced on the portrait), the Melnikov function
+    /// whenever there is a drive (its threshold marks the amplitude
+    /// slider), the others while their tab is open. While a slider or the
+    /// view is dragged only the open section runs, coarse.
+    pub fn submit_if_changed(&mut self, inp: &Inputs) {
         let Some(sys) = inp.system else {
             return;
         };
         let r = resolve(inp);
+        if inp.dragging {
+            if self.tab == Tab::Section
+                && let Some(req) = &r.section
+            {
+                let spec = ViewSpec {
+                    source: sys.formula().source().to_string(),
+                    params: sys.params().to_vec(),
+                    window: inp.session.view,
+                    task: Self::section_task(inp, sys, req),
+                };
+                self.submit(ViewKind::Section, spec, sys);
+            }
+            return;
+        }
         let base = |task: ViewTask, fixed: &[(&str, f64)]| {
             let mut params = sys.params().to_vec();
             for (name, v) in fixed {
@@ -328,17 +403,31 @@ impl ViewsPanel {
         {
             wanted.push((ViewKind::Backbone, base(ViewTask::Backbone(b.clone()), &[])));
         }
-        for (kind, spec) in wanted {
-            let i = kind.index();
-            if self.last_spec[i].as_ref() == Some(&spec) {
-                continue;
-            }
-            let Ok(system) = System::new(sys.formula_arc().clone(), spec.params.clone()) else {
-                continue;
-            };
-            self.last_spec[i] = Some(spec.clone());
-            self.lanes[i].submit(spec, system);
+        if self.tab == Tab::Section
+            && let Some(req) = &r.section
+        {
+            let task = Self::section_task(inp, sys, req);
+            wanted.push((ViewKind::Section, base(task, &[])));
         }
+        if let Some(m) = &r.melnikov {
+            wanted.push((ViewKind::Melnikov, base(ViewTask::Melnikov(m.clone()), &[])));
+        }
+        for (kind, spec) in wanted {
+            self.submit(kind, spec, sys);
+        }
+    }
+
+    /// Send `spec` to its lane unless it is the job sent last.
+    fn submit(&mut self, kind: ViewKind, spec: ViewSpec, sys: &System) {
+        let i = kind.index();
+        if self.last_spec[i].as_ref() == Some(&spec) {
+            return;
+        }
+        let Ok(system) = System::new(sys.formula_arc().clone(), spec.params.clone()) else {
+            return;
+        };
+        self.last_spec[i] = Some(spec.clone());
+        self.lanes[i].submit(spec, system);
     }
 
     /// The bifurcation of the shown sweep that a move of `name` from `old` to
@@ -367,6 +456,8 @@ impl ViewsPanel {
             ui.selectable_value(&mut self.tab, Tab::Diagram, "Sweep");
             ui.selectable_value(&mut self.tab, Tab::Folds, "Fold curves");
             ui.selectable_value(&mut self.tab, Tab::Backbone, "Backbone");
+            ui.selectable_value(&mut self.tab, Tab::Section, "Section");
+            ui.selectable_value(&mut self.tab, Tab::Melnikov, "Melnikov");
         });
         ui.separator();
         let r = resolve(inp);
@@ -383,6 +474,8 @@ impl ViewsPanel {
             Tab::Diagram => self.diagram_ui(ui, inp, &r, &look, &mut commands),
             Tab::Folds => self.folds_ui(ui, inp, &r, &look, &mut commands),
             Tab::Backbone => self.backbone_ui(ui, inp, &r, &look, &mut commands),
+            Tab::Section => self.section_ui(ui, inp, &r, &look, &mut commands),
+            Tab::Melnikov => self.melnikov_ui(ui, inp, &r, &look),
         }
         if let Some(msg) = &self.refused {
             ui.colored_label(ui.visuals().error_fg_color, msg);
@@ -749,13 +842,21 @@ impl ViewsPanel {
         };
         let (generation, sys) = (c.generation, c.system.clone());
         let bb = self.backbone().cloned();
+        let undriven = match &c.spec.task {
+            ViewTask::Backbone(req) => req.undriven.clone(),
+            _ => None,
+        };
         if let Some(b) = &bb {
             self.figures[2].update(generation, &[], || {
-                vec![
-                    Scene::backbone(&sys, b, BackbonePlot::PeriodEnergy),
-                    Scene::backbone(&sys, b, BackbonePlot::FrequencyAmplitude),
-                ]
+                [BackbonePlot::PeriodEnergy, BackbonePlot::FrequencyAmplitude]
+                    .map(|plot| Scene::backbone(&sys, b, plot).of_undriven(undriven.as_deref()))
+                    .to_vec()
             });
+        }
+        if let Some(name) = &undriven {
+            ui.small(format!(
+                "H depends on t, so this is the backbone of the undriven H\u{2080} ({name} = 0)."
+            ));
         }
         if self.figures[2].views.len() < 2 {
             return;
@@ -809,6 +910,18 @@ fn pane_plot(
     look: &Look,
     height: f32,
 ) -> Option<f64> {
+    pane_plot_at(ui, id, label, view, look, height).map(|p| p[0])
+}
+
+/// [`pane_plot`] returning both coordinates of a click.
+fn pane_plot_at(
+    ui: &mut egui::Ui,
+    id: &str,
+    label: &str,
+    view: &SceneView,
+    look: &Look,
+    height: f32,
+) -> Option<[f64; 2]> {
     let [x0, x1, y0, y1] = view.bounds;
     let mut clicked = None;
     let mut hovered = None;
@@ -835,7 +948,7 @@ fn pane_plot(
                 hovered = at;
             }
             if r.clicked() {
-                clicked = at.map(|p| p.x);
+                clicked = at.map(|p| [p.x, p.y]);
             }
         });
     let enabled = response.response.enabled();

@@ -10,9 +10,15 @@ use crate::core::analysis::{Analysis, AnalysisConfig, analyze};
 use crate::core::backbone::{Backbone, BackboneError};
 use crate::core::continuation::{ContinuationError, Sweep, SweepProgress};
 use crate::core::folds::{FoldCurves, FoldProgress};
+use crate::core::melnikov::Melnikov;
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::request::{BackboneRequest, FoldsRequest, SweepRequest};
+use crate::render::SectionData;
+use crate::request::{
+    BackboneRequest, FoldsRequest, MelnikovRequest, SectionRequest, SweepRequest,
+    undriven_analysis_of,
+};
+use crate::scene::Rgb;
 use crate::session::SeededOrbit;
 use std::sync::mpsc::{Receiver, Sender, channel};
 use std::sync::{Arc, Mutex};
@@ -305,10 +311,18 @@ pub enum ViewKind {
     Diagram,
     Folds,
     Backbone,
+    Section,
+    Melnikov,
 }
 
 impl ViewKind {
-    pub const ALL: [ViewKind; 3] = [ViewKind::Diagram, ViewKind::Folds, ViewKind::Backbone];
+    pub const ALL: [ViewKind; 5] = [
+        ViewKind::Diagram,
+        ViewKind::Folds,
+        ViewKind::Backbone,
+        ViewKind::Section,
+        ViewKind::Melnikov,
+    ];
 
     /// Position in [`ViewKind::ALL`].
     pub fn index(self) -> usize {
@@ -316,6 +330,8 @@ impl ViewKind {
             ViewKind::Diagram => 0,
             ViewKind::Folds => 1,
             ViewKind::Backbone => 2,
+            ViewKind::Section => 3,
+            ViewKind::Melnikov => 4,
         }
     }
 
@@ -324,6 +340,8 @@ impl ViewKind {
             ViewKind::Diagram => "phasewright-sweep",
             ViewKind::Folds => "phasewright-folds",
             ViewKind::Backbone => "phasewright-backbone",
+            ViewKind::Section => "phasewright-section",
+            ViewKind::Melnikov => "phasewright-melnikov",
         }
     }
 }
@@ -335,6 +353,14 @@ pub enum ViewTask {
     Sweep(SweepRequest),
     Folds(FoldsRequest),
     Backbone(BackboneRequest),
+    /// A section; with the drive-amplitude parameter whose zero gives H₀
+    /// (for the faint separatrices) and each start's own colour.
+    Section {
+        request: SectionRequest,
+        undriven: Option<(String, AnalysisConfig)>,
+        colours: Vec<Option<Rgb>>,
+    },
+    Melnikov(MelnikovRequest),
 }
 
 /// Everything a view job depends on; compared with the last job to decide whether to rerun.
@@ -354,6 +380,8 @@ pub enum ViewOutcome {
     Sweep(Result<Sweep, ContinuationError>),
     Folds(Result<FoldCurves, ContinuationError>),
     Backbone(Result<Backbone, BackboneError>),
+    Section(Result<SectionData, String>),
+    Melnikov(Result<Melnikov, String>),
 }
 
 impl ViewOutcome {
@@ -363,6 +391,7 @@ impl ViewOutcome {
             ViewOutcome::Sweep(Ok(s)) => s.cancelled,
             ViewOutcome::Folds(Ok(f)) => f.cancelled,
             ViewOutcome::Backbone(Ok(b)) => b.cancelled,
+            ViewOutcome::Section(Ok(d)) => d.section.cancelled,
             _ => false,
         }
     }
@@ -372,6 +401,7 @@ impl ViewOutcome {
         match self {
             ViewOutcome::Sweep(Err(e)) | ViewOutcome::Folds(Err(e)) => Some(e.to_string()),
             ViewOutcome::Backbone(Err(e)) => Some(e.to_string()),
+            ViewOutcome::Section(Err(e)) | ViewOutcome::Melnikov(Err(e)) => Some(e.clone()),
             _ => None,
         }
     }
@@ -567,7 +597,7 @@ fn lane_loop(
 }
 
 /// Run one view job through the core.
-fn run_view(job: &ViewJob, report: &dyn Fn(usize, usize, String)) -> ViewOutcome {
+fn run_view(job: &ViewJob, report: &(dyn Fn(usize, usize, String) + Sync)) -> ViewOutcome {
     let sys = &job.system;
     let window = &job.spec.window;
     match &job.spec.task {
@@ -593,6 +623,27 @@ fn run_view(job: &ViewJob, report: &dyn Fn(usize, usize, String)) -> ViewOutcome
             ViewOutcome::Backbone(req.run(sys, window, &job.cancel, &|done, total| {
                 report(done, total, format!("{done} of {total} energies"))
             }))
+        }
+        ViewTask::Section {
+            request,
+            undriven,
+            colours,
+        } => ViewOutcome::Section(
+            request
+                .run(sys, &job.cancel, &|done, total| {
+                    report(done, total, format!("{done} of {total} starts"))
+                })
+                .map(|section| SectionData {
+                    section,
+                    undriven: undriven.as_ref().and_then(|(a, cfg)| {
+                        undriven_analysis_of(sys, a, window, cfg, &job.cancel)
+                    }),
+                    colours: colours.clone(),
+                }),
+        ),
+        ViewTask::Melnikov(req) => {
+            report(0, 1, "tracing the connections".to_string());
+            ViewOutcome::Melnikov(req.run(sys, window, &job.cancel))
         }
     }
 }

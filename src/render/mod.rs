@@ -13,13 +13,16 @@ use crate::core::analysis::{Analysis, analyze};
 use crate::core::backbone::Backbone;
 use crate::core::continuation::Sweep;
 use crate::core::folds::FoldCurves;
+use crate::core::melnikov::Melnikov;
 use crate::core::orbit::{Orbit, integrate_orbit};
+use crate::core::section::Section;
 use crate::core::system::System;
 use crate::core::window::Window;
 use crate::numbers;
 use crate::request::{
-    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
-    centers_and_degenerate_in_view, centers_in_view, seeded_orbit_request,
+    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, Overrides,
+    SectionRequest, SweepRequest, centers_and_degenerate_in_view, centers_in_view,
+    seeded_orbit_request, undriven, undriven_analysis,
 };
 use crate::scene::{BackbonePlot, Rgb, Scene};
 use crate::session::Session;
@@ -130,6 +133,10 @@ pub enum View {
     /// The Bohr–Sommerfeld levels of every well in view over H along the
     /// center's line p = p_c (the session's `quantum.hbar`).
     Levels,
+    /// The stroboscopic section of a driven system (the session's `drive`).
+    Section,
+    /// The Melnikov function over one drive period (the session's `drive`).
+    Melnikov,
 }
 
 impl View {
@@ -141,6 +148,8 @@ impl View {
             View::Backbone(_) => "backbone",
             View::Folds => "folds",
             View::Levels => "levels",
+            View::Section => "section",
+            View::Melnikov => "melnikov",
         }
     }
 }
@@ -153,6 +162,18 @@ pub enum ViewData {
     Backbone(Backbone),
     Folds(FoldCurves),
     Levels(LevelsResult),
+    Section(SectionData),
+    Melnikov(Melnikov),
+}
+
+/// What a section figure is made from: the section, the analysis of the
+/// undriven H₀ (its separatrices drawn faintly behind; None when H₀ is not
+/// known) and each start's own colour (the seeded orbits').
+#[derive(Clone, Debug)]
+pub struct SectionData {
+    pub section: Section,
+    pub undriven: Option<Analysis>,
+    pub colours: Vec<Option<Rgb>>,
 }
 
 /// Why a view could not be made.
@@ -179,6 +200,9 @@ impl fmt::Display for ViewError {
             ViewError::MissingSettings(View::Levels) => {
                 f.write_str("the session sets no ħ for the levels (quantum.hbar)")
             }
+            ViewError::MissingSettings(View::Section | View::Melnikov) => f.write_str(
+                "the session has no drive (a \"drive\" section with the period, or --period)",
+            ),
             ViewError::MissingSettings(v) => write!(f, "the session has no {} settings", v.name()),
             ViewError::Refused { view, message } => write!(f, "{}: {message}", view.name()),
             ViewError::Figure(e) => write!(f, "{e}"),
@@ -209,7 +233,73 @@ pub fn view_data(
             ViewData::Backbone(backbone_of(session, sys, window, overrides, cancel)?)
         }
         View::Levels => ViewData::Levels(levels_of(session, sys, window, cancel)?),
+        View::Section => ViewData::Section(section_of(session, sys, window, &[], cancel)?),
+        View::Melnikov => ViewData::Melnikov(melnikov_of(session, sys, window, cancel)?),
     })
+}
+
+/// The section the session describes (with `extra` starts after its own),
+/// with H₀'s analysis over `window` and the starts' colours.
+pub fn section_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    extra: &[[f64; 2]],
+    cancel: &Cancel,
+) -> Result<SectionData, ViewError> {
+    let req = section_request_of(session, extra)?;
+    let section = req
+        .run(sys, cancel, &|_, _| {})
+        .map_err(refused(View::Section))?;
+    Ok(SectionData {
+        section,
+        undriven: undriven_analysis(session, sys, window, cancel),
+        colours: section_colours(session, &req),
+    })
+}
+
+/// The section request of `session`; a session without a drive is missing its settings.
+pub fn section_request_of(
+    session: &Session,
+    extra: &[[f64; 2]],
+) -> Result<SectionRequest, ViewError> {
+    if matches!(session.drive(), Ok(None)) {
+        return Err(ViewError::MissingSettings(View::Section));
+    }
+    SectionRequest::from_session(session, extra).map_err(refused(View::Section))
+}
+
+/// Each start's own colour: none for the lattice, the seeded orbits' from
+/// the session, none for extra starts.
+pub fn section_colours(session: &Session, req: &SectionRequest) -> Vec<Option<Rgb>> {
+    let seeded: Vec<Option<Rgb>> = session
+        .orbits
+        .iter()
+        .map(|o| o.colour.as_deref().and_then(Rgb::parse_hex))
+        .collect();
+    let lattice = req.starts.len().saturating_sub(seeded.len());
+    let mut out = vec![None; req.starts.len()];
+    for (k, c) in seeded.into_iter().enumerate() {
+        if let Some(slot) = out.get_mut(lattice + k) {
+            *slot = c;
+        }
+    }
+    out
+}
+
+/// The Melnikov function the session describes.
+pub fn melnikov_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<Melnikov, ViewError> {
+    if matches!(session.drive(), Ok(None)) {
+        return Err(ViewError::MissingSettings(View::Melnikov));
+    }
+    MelnikovRequest::from_session(session, sys)
+        .and_then(|r| r.run(sys, window, cancel))
+        .map_err(refused(View::Melnikov))
 }
 
 fn refused(view: View) -> impl Fn(String) -> ViewError {
@@ -255,12 +345,14 @@ pub fn backbone_request_of(
     cancel: &Cancel,
 ) -> Result<BackboneRequest, ViewError> {
     let in_view = centers_in_view(session, sys, window, cancel);
-    BackboneRequest::from_session(session, &in_view, overrides).ok_or_else(|| {
-        refused(View::Backbone(BackbonePlot::default()))(
-            "there is no center in view, so no well to follow; give a point near a center"
-                .to_string(),
-        )
-    })
+    BackboneRequest::from_session(session, &in_view, overrides)
+        .map(|r| r.with_undriven(session, sys))
+        .ok_or_else(|| {
+            refused(View::Backbone(BackbonePlot::default()))(
+                "there is no center in view, so no well to follow; give a point near a center"
+                    .to_string(),
+            )
+        })
 }
 
 /// The backbone of the well the session's `backbone` settings name (the
@@ -334,7 +426,8 @@ pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) 
                 View::Backbone(plot) => plot,
                 _ => BackbonePlot::default(),
             };
-            Scene::backbone(sys, b, plot)
+            let amplitude = undriven(session, sys).ok().flatten().map(|(n, _)| n);
+            Scene::backbone(sys, b, plot).of_undriven(amplitude.as_deref())
         }
         ViewData::Levels(l) => Scene::levels(
             sys,
@@ -342,6 +435,14 @@ pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) 
             l.hbar,
             [session.view.qmin, session.view.qmax],
         ),
+        ViewData::Section(d) => Scene::section(
+            sys,
+            &d.section,
+            d.undriven.as_ref(),
+            &session.view,
+            &d.colours,
+        ),
+        ViewData::Melnikov(m) => Scene::melnikov(sys, m),
     }
 }
 
@@ -377,6 +478,8 @@ pub fn view_table(sys: &System, data: &ViewData, which: PortraitTable) -> Table 
         }
         ViewData::Backbone(b) => table::backbone_table(b).with_parameters(&params),
         ViewData::Levels(l) => table::levels_table(l).with_parameters(&params),
+        ViewData::Section(d) => table::section_table(&d.section).with_parameters(&params),
+        ViewData::Melnikov(m) => table::melnikov_table(m).with_parameters(&params),
     }
 }
 

@@ -5,8 +5,8 @@
 
 use crate::numbers::{coordinate as num, tick as tick_label};
 use crate::scene::{
-    Arrow, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape, MarkerStyle,
-    PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
+    Arrow, Cloud, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape,
+    MarkerStyle, PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
 };
 use std::fmt::Write;
 
@@ -167,6 +167,9 @@ pub fn to_svg(scene: &Scene, size: FigureSize) -> String {
     );
     for c in &scene.curves {
         write_curve(&mut out, scene, &l, c);
+    }
+    for c in &scene.clouds {
+        write_cloud(&mut out, scene, &l, c);
     }
     let _ = writeln!(out, "</g>");
     for m in &scene.marks {
@@ -352,6 +355,29 @@ fn write_curve(out: &mut String, scene: &Scene, l: &Layout, c: &Curve) {
     }
 }
 
+/// A point cloud as one path of dots: each point a very short stroke with
+/// round caps as wide as the dot.
+fn write_cloud(out: &mut String, scene: &Scene, l: &Layout, c: &Cloud) {
+    let mut d = String::with_capacity(16 * c.points.len());
+    let mut count = 0usize;
+    for p in &c.points {
+        let (x, y) = (l.px(scene, p[0]), l.py(scene, p[1]));
+        if x.is_finite() && y.is_finite() {
+            let _ = write!(d, "M{} {}h0.01", num(x), num(y));
+            count += 1;
+        }
+    }
+    if count == 0 {
+        return;
+    }
+    let _ = writeln!(
+        out,
+        r#"<path class="cloud" data-points="{count}" d="{d}" stroke="{}" stroke-width="{}" stroke-linecap="round"/>"#,
+        c.colour.hex(),
+        num(c.size)
+    );
+}
+
 fn write_arrow(out: &mut String, scene: &Scene, l: &Layout, a: &Arrow, colour: Rgb) {
     let (x, y) = (l.px(scene, a.at[0]), l.py(scene, a.at[1]));
     let dx = a.direction[0] / scene.x.span() * (l.right - l.left);
@@ -450,6 +476,7 @@ fn write_mark(out: &mut String, scene: &Scene, l: &Layout, m: &Mark) {
         MarkRole::Bifurcation => "mark bifurcation".to_string(),
         MarkRole::Cusp => "mark cusp".to_string(),
         MarkRole::Sample => "mark sample".to_string(),
+        MarkRole::Zero => "mark zero".to_string(),
     };
     let _ = write!(
         out,

@@ -9,10 +9,13 @@
 //!   the amplitude parameter it names, else the one parameter that switches
 //!   the drive off ([`drive_amplitude_parameter`]); the connections of H₀
 //!   (H at zero amplitude) found by the portrait's analysis of H₀ over the
-//!   view.
+//!   view;
+//! - **H₀** (the undriven system, [`undriven`]): H with the amplitude
+//!   parameter at 0, for the Melnikov function, the faint separatrices
+//!   behind a section and the backbone of a driven session.
 
 use crate::core::Cancel;
-use crate::core::analysis::{AnalysisConfig, analyze};
+use crate::core::analysis::{Analysis, AnalysisConfig, analyze};
 use crate::core::integrate::Method;
 use crate::core::melnikov::{Melnikov, drive_amplitude_parameter, melnikov};
 use crate::core::orbit::BOUNDS_FACTOR;
@@ -41,10 +44,7 @@ impl MelnikovRequest {
             "the session has no drive (a \"drive\" section with the period, or --period)"
                 .to_string()
         })?;
-        let amplitude = match drive.amplitude {
-            Some(a) => a,
-            None => drive_amplitude_parameter(sys)?,
-        };
+        let amplitude = amplitude_parameter(session, sys)?;
         Ok(MelnikovRequest {
             amplitude,
             period: drive.period,
@@ -80,6 +80,55 @@ impl MelnikovRequest {
             connections,
         ))
     }
+}
+
+/// The parameter that sets the drive's strength: the one the session's
+/// drive section names (on or off), else the one found from the formula
+/// ([`drive_amplitude_parameter`]); an error says why there is none.
+pub fn amplitude_parameter(session: &Session, sys: &System) -> Result<String, String> {
+    match session.drive.as_ref().and_then(|d| d.amplitude.clone()) {
+        Some(a) => Ok(a),
+        None => drive_amplitude_parameter(sys),
+    }
+}
+
+/// H₀, the undriven system (H with the drive amplitude at 0), with the
+/// amplitude's name: `Ok(None)` when H does not depend on t (it is its own
+/// H₀), an error when it does and no amplitude parameter is known.
+pub fn undriven(session: &Session, sys: &System) -> Result<Option<(String, System)>, String> {
+    if !sys.depends_on_time() {
+        return Ok(None);
+    }
+    let name = amplitude_parameter(session, sys)?;
+    let k = sys.formula().param_index(&name).ok_or_else(|| {
+        format!("the formula has no parameter named '{name}' (the drive amplitude)")
+    })?;
+    Ok(Some((name, sys.with_param(k, 0.0))))
+}
+
+/// The analysis of H₀ over `window` (for the separatrices drawn faintly
+/// behind a section); None when H₀ is not known.
+pub fn undriven_analysis(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Option<Analysis> {
+    let (name, _) = undriven(session, sys).ok().flatten()?;
+    undriven_analysis_of(sys, &name, window, &session.analysis_config(), cancel)
+}
+
+/// The analysis of `sys` with parameter `amplitude` at 0 over `window`;
+/// None when the formula has no such parameter.
+pub fn undriven_analysis_of(
+    sys: &System,
+    amplitude: &str,
+    window: &Window,
+    cfg: &AnalysisConfig,
+    cancel: &Cancel,
+) -> Option<Analysis> {
+    let k = sys.formula().param_index(amplitude)?;
+    Some(analyze(&sys.with_param(k, 0.0), window, cfg, cancel))
 }
 
 /// The stroboscopic section of the session's driven system.

@@ -14,7 +14,9 @@
 //! - **backbone**: a saved center follows its well (the center in view nearest
 //!   to it, in units of the view's sides, since parameters move centers); with
 //!   no saved center, the center the user selected, else the first center in
-//!   view (equilibria in the table's order).
+//!   view (equilibria in the table's order). A driven session's backbone
+//!   is that of H₀ (the drive amplitude at 0, see [`undriven`]): the
+//!   centers are still found in H as shown, and followed into H₀'s wells.
 //!
 //! - **levels**: ħ from the session's `quantum.hbar` at the current parameter
 //!   values (no `quantum` section, no levels); every center in view, in the
@@ -32,7 +34,10 @@
 
 mod drive;
 
-pub use drive::{MelnikovRequest, SectionRequest};
+pub use drive::{
+    MelnikovRequest, SectionRequest, amplitude_parameter, undriven, undriven_analysis,
+    undriven_analysis_of,
+};
 
 use crate::core::Cancel;
 use crate::core::backbone::{Backbone, BackboneConfig, BackboneError, backbone};
@@ -77,6 +82,9 @@ pub struct FoldsRequest {
 pub struct BackboneRequest {
     pub center: [f64; 2],
     pub cfg: BackboneConfig,
+    /// The drive-amplitude parameter set to 0 before the backbone is
+    /// computed (H depends on t; the backbone is that of H₀).
+    pub undriven: Option<String>,
 }
 
 /// The Bohr–Sommerfeld levels of every well in view.
@@ -251,7 +259,16 @@ impl BackboneRequest {
         Some(BackboneRequest {
             center,
             cfg: session.backbone_config(),
+            undriven: None,
         })
+    }
+
+    /// The same request on H₀ when `sys` depends on t and its drive
+    /// amplitude is known (named by the session or found in the formula);
+    /// unchanged otherwise, and the core then says why it cannot go on.
+    pub fn with_undriven(mut self, session: &Session, sys: &System) -> BackboneRequest {
+        self.undriven = undriven(session, sys).ok().flatten().map(|(name, _)| name);
+        self
     }
 
     pub fn run(
@@ -261,7 +278,21 @@ impl BackboneRequest {
         cancel: &Cancel,
         progress: &dyn Fn(usize, usize),
     ) -> Result<Backbone, BackboneError> {
-        backbone(sys, self.center, window, &self.cfg, cancel, progress)
+        let k = self
+            .undriven
+            .as_ref()
+            .and_then(|name| sys.formula().param_index(name));
+        match k {
+            Some(k) => backbone(
+                &sys.with_param(k, 0.0),
+                self.center,
+                window,
+                &self.cfg,
+                cancel,
+                progress,
+            ),
+            None => backbone(sys, self.center, window, &self.cfg, cancel, progress),
+        }
     }
 }
 

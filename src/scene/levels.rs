@@ -81,6 +81,7 @@ impl Scene {
             y,
             curves,
             marks: Vec::new(),
+            clouds: Vec::new(),
             colour_scale: None,
             legend,
         }

@@ -136,6 +136,13 @@ impl Session {
             }
             return Ok(());
         };
+        // checked on or off: a blank period is no drive at all
+        if d.period.trim().is_empty() {
+            return Err(SessionError::new(
+                "drive.period",
+                "is empty; give the drive period, e.g. \"2*pi/W\"",
+            ));
+        }
         if let Some(a) = &d.amplitude
             && formula.param_index(a).is_none()
         {
