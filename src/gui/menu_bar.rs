@@ -16,6 +16,8 @@ pub struct MenuState<'a> {
     pub has_sweep: bool,
     /// The fold pane has a parameter plane to show.
     pub has_folds: bool,
+    /// The session has a good ħ and a well in view (levels to export).
+    pub has_levels: bool,
 }
 
 pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
@@ -172,6 +174,7 @@ fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
             true,
         ),
         ("Fold curves", View::Folds, st.has_folds),
+        ("Levels", View::Levels, st.has_levels),
     ];
     for (name, view, enabled) in views {
         ui.add_enabled_ui(enabled, |ui| {

@@ -167,10 +167,9 @@ impl SceneView {
                 labels.push(ViewLabel {
                     at,
                     text: text.clone(),
-                    colour: if m.role == MarkRole::Bifurcation {
-                        m.style.colour
-                    } else {
-                        crate::scene::INK
+                    colour: match m.role {
+                        MarkRole::Bifurcation | MarkRole::QuantumLevel { .. } => m.style.colour,
+                        _ => crate::scene::INK,
                     },
                 });
             }
@@ -257,6 +256,7 @@ fn marker_items<'a>(
         MarkerShape::Cross => (egui_plot::MarkerShape::Cross, false),
         MarkerShape::Diamond => (egui_plot::MarkerShape::Diamond, true),
         MarkerShape::Square => (egui_plot::MarkerShape::Square, true),
+        MarkerShape::Dot => (egui_plot::MarkerShape::Circle, true),
     };
     pui.points(
         Points::new("", points)
@@ -308,6 +308,9 @@ pub fn paint_marker(painter: &Painter, centre: Pos2, style: MarkerStyle, look: &
                 0.0,
                 colour,
             );
+        }
+        MarkerShape::Dot => {
+            painter.circle_filled(centre, r, colour);
         }
     }
 }

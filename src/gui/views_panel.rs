@@ -15,10 +15,13 @@ use crate::core::folds::FoldCurves;
 use crate::core::system::System;
 use crate::numbers::{clean, label as label_number};
 use crate::request::{
-    BackboneRequest, FoldsRequest, Overrides, SweepRequest, centers_of, range_of,
+    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
+    centers_of, range_of,
 };
 use crate::scene::{BackbonePlot, Scene};
-use crate::session::{BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
+use crate::session::{
+    BackboneSettings, FoldSettings, Parameter, QuantumSettings, Session, SweepSettings,
+};
 use egui_plot::{Plot, PlotBounds};
 use std::sync::{Arc, Mutex};
 use std::time::Duration;
@@ -40,6 +43,8 @@ pub struct PaneSettings {
     pub sweep: Option<SweepSettings>,
     pub folds: Option<FoldSettings>,
     pub backbone: Option<BackboneSettings>,
+    /// ħ and whether the quantized orbits are drawn on the portrait.
+    pub quantum: Option<QuantumSettings>,
 }
 
 impl PaneSettings {
@@ -48,6 +53,7 @@ impl PaneSettings {
             sweep: session.sweep.clone(),
             folds: session.folds.clone(),
             backbone: session.backbone.clone(),
+            quantum: session.quantum.clone(),
         }
     }
 
@@ -56,6 +62,7 @@ impl PaneSettings {
         session.sweep = self.sweep;
         session.folds = self.folds;
         session.backbone = self.backbone;
+        session.quantum = self.quantum;
     }
 }
 
@@ -84,6 +91,9 @@ pub struct PaneRequests {
     pub sweep: Option<SweepRequest>,
     pub folds: Option<FoldsRequest>,
     pub backbone: Option<BackboneRequest>,
+    /// The levels behind the quantized orbits and the levels table (none
+    /// without ħ, or while its expression is bad).
+    pub levels: Option<LevelsRequest>,
 }
 
 fn value_of(params: &[Parameter], name: &str) -> Option<f64> {
@@ -144,6 +154,11 @@ pub fn resolve(inp: &Inputs) -> PaneRequests {
         sweep: SweepRequest::from_session(inp.session, &names),
         folds: FoldsRequest::from_session(inp.session, &names),
         backbone: BackboneRequest::from_session(inp.session, &centers(inp.analysis), &overrides),
+        levels: inp.analysis.and_then(|a| {
+            LevelsRequest::for_equilibria(inp.session, &a.equilibria)
+                .ok()
+                .flatten()
+        }),
     }
 }
 
@@ -164,12 +179,15 @@ impl Figure {
     }
 }
 
+/// One lane per kind of view job.
+const LANES: usize = ViewKind::ALL.len();
+
 pub struct ViewsPanel {
     pub tab: Tab,
     lanes: Vec<Lane>,
-    shown: [Option<ViewComputed>; 3],
-    last_spec: [Option<ViewSpec>; 3],
-    figures: [Figure; 3],
+    shown: [Option<ViewComputed>; LANES],
+    last_spec: [Option<ViewSpec>; LANES],
+    figures: [Figure; LANES],
     /// A refused settings edit and why.
     refused: Option<String>,
 }
@@ -284,16 +302,54 @@ impl ViewsPanel {
         }
     }
 
+    /// The newest levels (quantized orbits and table) with their generation.
+    pub fn levels(&self) -> Option<(u64, &LevelsResult)> {
+        let c = self.shown[ViewKind::Levels.index()].as_ref()?;
+        match c.outcome.as_ref() {
+            ViewOutcome::Levels(l) => Some((c.generation, l)),
+            _ => None,
+        }
+    }
+
+    /// Start the levels job when its request changed: also while a slider
+    /// or the view is dragged when the quantized orbits are on the portrait
+    /// (they follow the drag; the job takes a millisecond or two).
+    fn submit_levels_if_changed(&mut self, inp: &Inputs, sys: &System) {
+        if inp.dragging && !inp.session.levels_on_portrait() {
+            return;
+        }
+        let i = ViewKind::Levels.index();
+        let Some(req) = resolve(inp).levels else {
+            // No ħ, a bad one, or nothing analysed yet: show no levels.
+            self.lanes[i].cancel();
+            self.shown[i] = None;
+            self.last_spec[i] = None;
+            return;
+        };
+        let spec = ViewSpec {
+            source: sys.formula().source().to_string(),
+            params: sys.params().to_vec(),
+            window: inp.session.view,
+            task: ViewTask::Levels(req),
+        };
+        if self.last_spec[i].as_ref() == Some(&spec) {
+            return;
+        }
+        self.last_spec[i] = Some(spec.clone());
+        self.lanes[i].submit(spec, sys.clone());
+    }
+
     /// Start the jobs whose inputs changed: the diagram always (its
     /// bifurcations are announced on the portrait), the others while their
     /// tab is open.
     pub fn submit_if_changed(&mut self, inp: &Inputs) {
-        if inp.dragging {
-            return;
-        }
         let Some(sys) = inp.system else {
             return;
         };
+        self.submit_levels_if_changed(inp, sys);
+        if inp.dragging {
+            return;
+        }
         let r = resolve(inp);
         let base = |task: ViewTask, fixed: &[(&str, f64)]| {
             let mut params = sys.params().to_vec();

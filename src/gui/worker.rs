@@ -1,6 +1,7 @@
 //! The explorer's background work, so the UI thread never waits. The portrait
 //! worker is one named thread that runs analyses and orbit integrations; each
-//! diagram pane (sweep, fold curve, backbone) has its own [`Lane`]. Jobs carry
+//! diagram pane (sweep, fold curve, backbone) and the quantized orbits over
+//! the portrait have their own [`Lane`]. Jobs carry
 //! a generation number; a thread always runs the newest pending job, stale
 //! results are dropped by the UI, and a running job is cancelled through
 //! `core::Cancel` when a newer one arrives.
@@ -12,7 +13,7 @@ use crate::core::continuation::{ContinuationError, Sweep, SweepProgress};
 use crate::core::folds::{FoldCurves, FoldProgress};
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::request::{BackboneRequest, FoldsRequest, SweepRequest};
+use crate::request::{BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, SweepRequest};
 use crate::session::SeededOrbit;
 use std::sync::mpsc::{Receiver, Sender, channel};
 use std::sync::{Arc, Mutex};
@@ -305,10 +306,17 @@ pub enum ViewKind {
     Diagram,
     Folds,
     Backbone,
+    /// The quantized orbits over the portrait and the levels table.
+    Levels,
 }
 
 impl ViewKind {
-    pub const ALL: [ViewKind; 3] = [ViewKind::Diagram, ViewKind::Folds, ViewKind::Backbone];
+    pub const ALL: [ViewKind; 4] = [
+        ViewKind::Diagram,
+        ViewKind::Folds,
+        ViewKind::Backbone,
+        ViewKind::Levels,
+    ];
 
     /// Position in [`ViewKind::ALL`].
     pub fn index(self) -> usize {
@@ -316,6 +324,7 @@ impl ViewKind {
             ViewKind::Diagram => 0,
             ViewKind::Folds => 1,
             ViewKind::Backbone => 2,
+            ViewKind::Levels => 3,
         }
     }
 
@@ -324,6 +333,7 @@ impl ViewKind {
             ViewKind::Diagram => "phasewright-sweep",
             ViewKind::Folds => "phasewright-folds",
             ViewKind::Backbone => "phasewright-backbone",
+            ViewKind::Levels => "phasewright-levels",
         }
     }
 }
@@ -335,6 +345,7 @@ pub enum ViewTask {
     Sweep(SweepRequest),
     Folds(FoldsRequest),
     Backbone(BackboneRequest),
+    Levels(LevelsRequest),
 }
 
 /// Everything a view job depends on; compared with the last job to decide whether to rerun.
@@ -354,6 +365,7 @@ pub enum ViewOutcome {
     Sweep(Result<Sweep, ContinuationError>),
     Folds(Result<FoldCurves, ContinuationError>),
     Backbone(Result<Backbone, BackboneError>),
+    Levels(LevelsResult),
 }
 
 impl ViewOutcome {
@@ -363,6 +375,7 @@ impl ViewOutcome {
             ViewOutcome::Sweep(Ok(s)) => s.cancelled,
             ViewOutcome::Folds(Ok(f)) => f.cancelled,
             ViewOutcome::Backbone(Ok(b)) => b.cancelled,
+            ViewOutcome::Levels(l) => l.wells.iter().any(|w| w.cancelled),
             _ => false,
         }
     }
@@ -594,5 +607,6 @@ fn run_view(job: &ViewJob, report: &dyn Fn(usize, usize, String)) -> ViewOutcome
                 report(done, total, format!("{done} of {total} energies"))
             }))
         }
+        ViewTask::Levels(req) => ViewOutcome::Levels(req.run(sys, window, &job.cancel)),
     }
 }

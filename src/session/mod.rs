@@ -312,6 +312,7 @@ fn field_template() -> serde_json::Value {
     });
     s.quantum = Some(QuantumSettings {
         hbar: String::new(),
+        on_portrait: false,
     });
     serde_json::to_value(&s).unwrap_or(serde_json::Value::Null)
 }
