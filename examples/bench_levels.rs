@@ -43,7 +43,7 @@ fn main() {
     bench("bond-ladder.json (Morse)", &example);
     let mut big = Session::blank("p^2/2 + 8*(1-exp(-0.5*q))^2");
     big.view = phasewright::core::window::Window::new(-2.0, 40.0, -5.0, 5.0).expect("window");
-    big.quantum = Some(session::QuantumSettings { hbar: "0.1".into() });
+    big.quantum = Some(session::QuantumSettings::new("0.1"));
     big.validate().expect("valid");
     bench("Morse D = 8, a = 0.5, ħ = 0.1", &big);
     println!("target: the example's levels in under 5 ms (median)");

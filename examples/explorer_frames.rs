@@ -3,7 +3,9 @@
 //! each bundled example is dragged from one end of its range to the other.
 //! Each frame is timed from input to tessellated triangles (what the UI
 //! thread does before the GPU draws); the worker's job times come from the
-//! results it returns. Run: `cargo run --release --example explorer_frames`.
+//! results it returns. A session with ħ runs twice, with its quantized
+//! orbits on the portrait ("levels on", computed on their own lane while the
+//! slider moves) and off. Run: `cargo run --release --example explorer_frames`.
 
 use phasewright::gui::{EXAMPLES, Explorer};
 use std::time::{Duration, Instant};
@@ -21,9 +23,10 @@ fn percentile(sorted: &[f64], q: f64) -> f64 {
 
 fn main() {
     println!(
-        "{:<24} {:>8} {:>8} {:>8} {:>10} {:>10} {:>9}",
+        "{:<28} {:>8} {:>8} {:>8} {:>10} {:>10} {:>9}",
         "example", "ui mean", "ui p95", "ui max", "updates/s", "coarse job", "fine job"
     );
+    let mut runs = Vec::new();
     for (name, text) in EXAMPLES {
         let session = match phasewright::session::load(text) {
             Ok((s, _)) => s,
@@ -32,6 +35,21 @@ fn main() {
                 continue;
             }
         };
+        let name = name.trim_end_matches(".json").to_string();
+        if session.quantum.is_some() {
+            for on in [true, false] {
+                let mut s = session.clone();
+                if let Some(q) = s.quantum.as_mut() {
+                    q.on_portrait = on;
+                }
+                let label = format!("{name} (levels {})", if on { "on" } else { "off" });
+                runs.push((label, s));
+            }
+        } else {
+            runs.push((name, session));
+        }
+    }
+    for (name, session) in runs {
         let Some(par) = session.parameters.first().cloned() else {
             println!("{name}: no parameter to drag");
             continue;
@@ -103,8 +121,8 @@ fn main() {
             coarse_ms.iter().sum::<f64>() / coarse_ms.len() as f64
         };
         println!(
-            "{:<24} {:>6.2}ms {:>6.2}ms {:>6.2}ms {:>10.1} {:>8.1}ms {:>7.1}ms",
-            name.trim_end_matches(".json"),
+            "{:<28} {:>6.2}ms {:>6.2}ms {:>6.2}ms {:>10.1} {:>8.1}ms {:>7.1}ms",
+            name,
             mean,
             percentile(&ui_ms, 0.95),
             percentile(&ui_ms, 1.0),

@@ -122,7 +122,8 @@ pub enum MarkerShape {
     Diamond,
     /// A filled square (bifurcation points).
     Square,
-    /// A small filled disc (a backbone's computed points, a point cloud's points).
+    /// A small filled disc (a backbone's computed points, a point cloud's
+    /// points, the anchor of a quantized orbit's label).
     Dot,
 }
 
@@ -225,6 +226,14 @@ pub const POTENTIAL_COLOUR: Rgb = Rgb(0x2b, 0x2d, 0x42);
 /// Colour of a Bohr–Sommerfeld level.
 pub const QUANTUM_COLOUR: Rgb = Rgb(0xb0, 0x4a, 0x1e);
 pub const QUANTUM_WIDTH: f64 = 1.3;
+/// Width of a quantized orbit drawn over a portrait (thinner than an orbit).
+pub const QUANTUM_ORBIT_WIDTH: f64 = 1.0;
+/// Marker at the top of a labelled quantized orbit.
+pub const QUANTUM_LABEL_MARKER: MarkerStyle = MarkerStyle {
+    shape: MarkerShape::Dot,
+    colour: QUANTUM_COLOUR,
+    size: 4.0,
+};
 /// Samples of the potential curve across the window.
 const POTENTIAL_SAMPLES: usize = 600;
 /// Colour of guide lines (current parameter value, escape energy).
@@ -327,6 +336,8 @@ pub enum MarkRole {
     Sample,
     /// A simple zero of a function drawn on the figure (the Melnikov function's).
     Zero,
+    /// The label of quantized orbit n on a portrait.
+    QuantumLevel { n: usize },
 }
 
 /// One point mark, optionally labelled.

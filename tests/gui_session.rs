@@ -84,7 +84,7 @@ fn an_orbit_stopped_at_the_bounds_is_integrated_again_when_the_view_grows() {
 }
 
 /// Whatever the panes show can be re-made from the saved file: for every
-/// example, the requests the explorer's diagram, fold and backbone panes run
+/// example, the requests the explorer's diagram, fold, backbone and levels panes run
 /// equal the ones `render` builds from the file the explorer saved.
 #[test]
 fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file() {
@@ -141,6 +141,19 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
                 phasewright::render::section_of(&saved, &sys, &saved.view, &[], &Cancel::never());
             assert!(data.is_ok(), "{name}: {:?}", data.err());
         }
+        let levels = phasewright::render::levels_request_of(
+            &saved,
+            &sys,
+            &saved.view,
+            &Cancel::never(),
+        )
+        .ok();
+        assert_eq!(shown.levels, levels, "{name}: levels");
+        assert_eq!(
+            shown.levels.is_some(),
+            saved.quantum.is_some(),
+            "{name}: a session with ħ has levels in view"
+        );
         assert!(
             shown.sweep.is_some() || names.is_empty(),
             "{name}: a formula with parameters always has a diagram"

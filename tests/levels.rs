@@ -455,3 +455,94 @@ fn a_sheared_oscillator_takes_the_orbit_path_and_keeps_the_harmonic_levels() {
         assert_eq!(lv.turning_points, None);
     }
 }
+
+/// The levels of `src` with each level's closed curve traced (`points` per curve).
+fn run_with_curves(src: &str, center: [f64; 2], window: [f64; 4], hbar: f64) -> WellLevels {
+    let sys = System::from_source(src, &[]).expect("formula compiles");
+    let [a, b, c, d] = window;
+    let w = Window::new(a, b, c, d).expect("window");
+    let cfg = LevelsConfig {
+        curve_points: 120,
+        ..LevelsConfig::default()
+    };
+    levels(&sys, center, &w, hbar, &cfg, &Cancel::never()).expect("levels")
+}
+
+#[test]
+fn each_quantized_orbit_is_the_closed_level_curve_at_its_energy() {
+    // Morse H = p²/2m + D(1 − e^(−aq))² with m = 0.8, D = 6, a = 1.6, ħ = 0.16:
+    // the closed curve of level n is the set H = Eₙ with Eₙ from the Morse
+    // closed form (P. M. Morse, Phys. Rev. 34 (1929) 57); on the arcs
+    // p = ±√(2m(E − V(q))) the curve reaches p = 0 at the turning points
+    // V(q±) = Eₙ and its highest point √(2mEₙ) over the bottom q = 0
+    // (definition of a level curve of a separable H, common practice).
+    let (m, dd, a, hbar) = (0.8_f64, 6.0_f64, 1.6_f64, 0.16_f64);
+    let l = run_with_curves(
+        "p^2/(2*0.8) + 6*(1 - exp(-1.6*q))^2",
+        [0.0, 0.0],
+        [-0.6, 6.0, -3.5, 3.5],
+        hbar,
+    );
+    assert_eq!(l.method, BackboneMethod::Quadrature);
+    assert_eq!(l.curves.len(), l.levels.len());
+    assert!(l.levels.len() >= 10, "{} levels", l.levels.len());
+    let omega = a * (2.0 * dd / m).sqrt();
+    let h = |q: f64, p: f64| p * p / (2.0 * m) + dd * (1.0 - (-a * q).exp()).powi(2);
+    for (lv, curve) in l.levels.iter().zip(&l.curves) {
+        let x = hbar * omega * (lv.n as f64 + 0.5);
+        let exact = x - x * x / (4.0 * dd);
+        assert!(curve.len() >= 100, "n = {}: {} points", lv.n, curve.len());
+        assert_eq!(curve.first(), curve.last(), "n = {}: not closed", lv.n);
+        for &[q, p] in curve {
+            assert!(
+                (h(q, p) - exact).abs() < 1e-8 * dd,
+                "n = {}: H({q}, {p}) = {} vs {exact}",
+                lv.n,
+                h(q, p)
+            );
+        }
+        let top = curve.iter().map(|c| c[1]).fold(f64::MIN, f64::max);
+        let bottom = curve.iter().map(|c| c[1]).fold(f64::MAX, f64::min);
+        let peak = (2.0 * m * exact).sqrt();
+        assert!(rel(top, peak) < 1e-2, "n = {}: top {top} vs {peak}", lv.n);
+        assert!(rel(-bottom, peak) < 1e-2, "n = {}: bottom {bottom}", lv.n);
+    }
+    // Without asking, no curves are traced.
+    assert!(
+        run("p^2/2 + q^2/2", [0.0, 0.0], [-2.0, 2.0, -2.0, 2.0], 0.2)
+            .curves
+            .is_empty()
+    );
+}
+
+#[test]
+fn a_quantized_orbit_on_the_orbit_path_stays_on_its_level() {
+    // The sheared oscillator H = ((p + q/2)² + q²)/2 (the oscillator after a
+    // canonical shear, closed form): level n is the ellipse H = ħ(n + ½),
+    // traced here by one period of the orbit.
+    let hbar = 0.2;
+    let l = run_with_curves(
+        "((p + q/2)^2 + q^2)/2",
+        [0.0, 0.0],
+        [-2.0, 2.0, -3.0, 3.0],
+        hbar,
+    );
+    assert_eq!(l.method, BackboneMethod::Orbit);
+    assert_eq!(l.curves.len(), l.levels.len());
+    let h = |q: f64, p: f64| ((p + q / 2.0).powi(2) + q * q) / 2.0;
+    for (lv, curve) in l.levels.iter().zip(&l.curves) {
+        let exact = hbar * (lv.n as f64 + 0.5);
+        assert!(curve.len() >= 60, "n = {}: {} points", lv.n, curve.len());
+        let ends = (curve[0][0] - curve[curve.len() - 1][0])
+            .hypot(curve[0][1] - curve[curve.len() - 1][1]);
+        assert!(ends < 1e-6, "n = {}: ends {ends} apart", lv.n);
+        for &[q, p] in curve {
+            assert!(
+                rel(h(q, p), exact) < 1e-6,
+                "n = {}: H = {} vs {exact}",
+                lv.n,
+                h(q, p)
+            );
+        }
+    }
+}

@@ -1030,9 +1030,7 @@ fn levels_figure_draws_each_level_between_its_turning_points() {
     use phasewright::scene::CurveRole;
     let (mut s, _) = phasewright::session::Session::from_formula("p^2/2 + q^2/2").unwrap();
     s.view = phasewright::core::window::Window::new(-2.0, 2.0, -3.0, 3.0).unwrap();
-    s.quantum = Some(phasewright::session::QuantumSettings {
-        hbar: "0.25".into(),
-    });
+    s.quantum = Some(phasewright::session::QuantumSettings::new("0.25"));
     let sys = s.system().unwrap();
     let cancel = phasewright::core::Cancel::never();
     let data = view_data(

@@ -714,6 +714,31 @@ fn drive() -> BoxedStrategy<Value> {
     )
 }
 
+/// The `quantum` section: ħ as positive numbers written as expressions (the
+/// loader's check that ħ comes out positive is no schema rule), the switch of
+/// the quantized orbits.
+fn quantum() -> BoxedStrategy<Value> {
+    let hbar = field(
+        prop_oneof![Just(json!("0.1")), Just(json!("0.05*2")), Just(json!("1e-3"))].boxed(),
+        wrong_type(),
+    );
+    let on = field(any::<bool>().prop_map(|b| json!(b)).boxed(), wrong_type());
+    field(
+        (required(hbar), optional(on))
+            .prop_map(|(h, o)| {
+                let mut m = Map::new();
+                for (k, v) in [("hbar", h), ("on_portrait", o)] {
+                    if let Some(v) = v {
+                        m.insert(k.into(), v);
+                    }
+                }
+                Value::Object(m)
+            })
+            .boxed(),
+        wrong_type(),
+    )
+}
+
 fn session_value() -> impl Strategy<Value = Value> {
     let format = field(
         Just(json!("phasewright-session")).boxed(),
@@ -755,6 +780,7 @@ fn session_value() -> impl Strategy<Value = Value> {
         optional(folds()),
         optional(backbone()),
         optional(drive()),
+        optional(quantum()),
     );
     (head, body).prop_map(|(h, b)| {
         let mut m = Map::new();
@@ -772,6 +798,7 @@ fn session_value() -> impl Strategy<Value = Value> {
             ("folds", b.6),
             ("backbone", b.7),
             ("drive", b.8),
+            ("quantum", b.9),
         ];
         for (k, v) in fields {
             if let Some(v) = v {

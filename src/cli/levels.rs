@@ -50,8 +50,10 @@ pub fn run_levels(args: &LevelsArgs) -> Result<String, CliError> {
 pub(super) fn apply_hbar(session: &mut Session, hbar: Option<&str>, otherwise: &str) -> String {
     match hbar {
         Some(h) => {
+            let on_portrait = session.quantum.as_ref().is_none_or(|q| q.on_portrait);
             session.quantum = Some(QuantumSettings {
-                hbar: h.to_string(),
+                on_portrait,
+                ..QuantumSettings::new(h)
             });
             format!("--hbar {h}")
         }

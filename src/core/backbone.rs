@@ -664,6 +664,49 @@ impl<'a> WellOrbits<'a> {
         }
     }
 
+    /// The closed orbit at depth σ(E − E_c) = `depth` as a polyline of about
+    /// `points` points, for drawing: on the quadrature path the two arcs
+    /// p = p_c ± √(2m W(q)) between the turning points `ends` (those the
+    /// level search returned), sampled at q = q_mid − (Δ/2) cos θ so that
+    /// the points gather where the curve turns; on the orbit path the orbit
+    /// over one period, thinned. None where there is no closed orbit.
+    pub fn closed_curve(
+        &self,
+        depth: f64,
+        ends: (f64, f64),
+        points: usize,
+    ) -> Option<Vec<[f64; 2]>> {
+        if !(depth > 0.0 && depth <= self.top) || points < 8 {
+            return None;
+        }
+        let w = &self.well;
+        if !self.quadratic {
+            let mut out = Vec::with_capacity(points + 2);
+            if w.omega0 > 0.0 {
+                w.orbit_path(depth, self.limits, self.max_orbit_steps, Some((&mut out, points)))?;
+            }
+            return (out.len() >= 3).then_some(out);
+        }
+        let (qm, qp) = ends;
+        let (mid, half) = (0.5 * (qm + qp), 0.5 * (qp - qm));
+        if !(half > 0.0 && half.is_finite()) {
+            return None;
+        }
+        let two_m = 2.0 / self.hpp.abs();
+        let arc = points / 2;
+        let mut out = Vec::with_capacity(2 * arc + 1);
+        for side in [1.0, -1.0] {
+            for k in 0..arc {
+                let theta = PI * k as f64 / arc as f64;
+                let q = mid - side * half * theta.cos();
+                let room = (depth - w.depth_q(q).0).max(0.0);
+                out.push([q, w.pc + side * (two_m * room).sqrt()]);
+            }
+        }
+        out.push(out[0]);
+        Some(out)
+    }
+
     /// The action under the barrier on one side (quadrature path, a barrier
     /// top there): ∫ |p| dq from the turning point at `depth` (below the
     /// top) to the barrier top, |p| = √(2m σ(H(q, p_c) − E)) with
@@ -946,6 +989,18 @@ impl Well<'_> {
 
     /// One period of the orbit through the point right of the center on p = p_c.
     fn orbit_row(&self, depth: f64, limits: (f64, f64), max_steps: usize) -> Option<BackboneRow> {
+        self.orbit_path(depth, limits, max_steps, None)
+    }
+
+    /// [`Well::orbit_row`], also recording about `record.1` points of the
+    /// orbit into `record.0` when asked (for drawing it).
+    fn orbit_path(
+        &self,
+        depth: f64,
+        limits: (f64, f64),
+        max_steps: usize,
+        mut record: Option<(&mut Vec<[f64; 2]>, usize)>,
+    ) -> Option<BackboneRow> {
         let q0 = self.turning_point(depth, self.qc, limits.1)?;
         let field = |s: [f64; 3]| {
             let j = self.sys.jet(s[0], s[1]);
@@ -972,7 +1027,15 @@ impl Well<'_> {
         let mut t = 0.0;
         let (mut qmin, mut qmax) = (q0, q0);
         let mut prev = [start, start];
+        let every = record
+            .as_ref()
+            .map_or(usize::MAX, |r| (ORBIT_STEPS_PER_PERIOD as usize / r.1.max(1)).max(1));
         for step in 0..max_steps {
+            if step % every == 0
+                && let Some((out, _)) = record.as_mut()
+            {
+                out.push([s[0], s[1]]);
+            }
             let next = rk4(s, dt);
             // Parabolic refinement of a q-extremum at the middle of three samples.
             let (a, b, c) = (prev[1][0], s[0], next[0]);
@@ -1019,6 +1082,9 @@ impl Well<'_> {
                 let action = fin[2].abs() / (2.0 * PI);
                 if !(period.is_finite() && period > 0.0) {
                     return None;
+                }
+                if let Some((out, _)) = record.as_mut() {
+                    out.push([start[0], start[1]]);
                 }
                 return Some(BackboneRow {
                     energy: self.ec + self.sigma * depth,

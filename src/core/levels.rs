@@ -29,6 +29,11 @@
 //! fails there) with the quadrature tolerance 1e-11 (else 1e-9); so the count is the number of n ≥ 0 with
 //! ħ(n + ½) < I(E_top), exact unless ħ(n + ½) falls within that sliver.
 //!
+//! For drawing, each level's closed curve H = Eₙ (the quantized orbit) is
+//! traced from the same well when [`LevelsConfig::curve_points`] asks: the
+//! arcs p = p_c ± √(2m(Eₙ − H(q, p_c))) between the level's turning points,
+//! or the orbit over one period.
+//!
 //! The rule is exact for the harmonic oscillator and the Morse potential and
 //! accurate to O(ħ²) relative corrections otherwise; it is an estimate of
 //! the quantum levels, best for large n and for levels well below the top.
@@ -117,6 +122,9 @@ pub struct LevelsConfig {
     pub max_iterations: usize,
     /// The well's quadrature tolerance, orbit step cap and saddle search.
     pub well: BackboneConfig,
+    /// Points of each level's closed curve (the quantized orbit, for
+    /// drawing); 0 (the default) draws none.
+    pub curve_points: usize,
 }
 
 impl Default for LevelsConfig {
@@ -125,6 +133,7 @@ impl Default for LevelsConfig {
             max_levels: MAX_LEVELS,
             max_iterations: 100,
             well: BackboneConfig::default(),
+            curve_points: 0,
         }
     }
 }
@@ -182,6 +191,11 @@ pub struct WellLevels {
     /// The levels found, n = 0, 1, … (all `count` unless capped, cancelled or failed).
     pub levels: Vec<Level>,
     pub splitting: Option<Splitting>,
+    /// The closed curve H = Eₙ of each level in `levels`, in their order,
+    /// when [`LevelsConfig::curve_points`] asks for them (empty where none
+    /// could be traced); drawing only, left out of the serialised levels.
+    #[serde(skip)]
+    pub curves: Vec<Vec<[f64; 2]>>,
     pub diagnostics: Vec<Diagnostic>,
     pub cancelled: bool,
 }
@@ -337,6 +351,21 @@ pub fn levels(
     let splitting = found
         .first()
         .and_then(|l0| splitting(sys, &well, window, hbar, l0, &mut diagnostics));
+    let mut curves = Vec::new();
+    if cfg.curve_points > 0 {
+        for l in &found {
+            if cancel.is_cancelled() {
+                cancelled = true;
+                break;
+            }
+            let depth = well.orientation() * (l.energy - well.center_energy());
+            let ends = l.turning_points.map_or((qc, qc), |[a, b]| (a, b));
+            curves.push(
+                well.closed_curve(depth, ends, cfg.curve_points)
+                    .unwrap_or_default(),
+            );
+        }
+    }
     Ok(WellLevels {
         center: well.center(),
         center_energy: well.center_energy(),
@@ -348,6 +377,7 @@ pub fn levels(
         count,
         levels: found,
         splitting,
+        curves,
         diagnostics,
         cancelled,
     })

@@ -31,6 +31,7 @@ impl Explorer {
             | Command::LaunchOrbit { .. }
             | Command::DeleteOrbit(_)
             | Command::EditOrbit { .. }
+            | Command::ShowLevels(_)
             | Command::SetPanes { .. }
             | Command::SetDrive { .. } => self.apply_edit(command),
             Command::Guarded(_)
@@ -182,6 +183,16 @@ impl Explorer {
                     self.edit(EditKind::Orbits, dragging);
                     self.doc.session.orbits[index] = orbit;
                 }
+            }
+            Command::ShowLevels(on) => {
+                let mut settings = PaneSettings::of(&self.doc.session);
+                if let Some(q) = settings.quantum.as_mut() {
+                    q.on_portrait = on;
+                }
+                self.apply_edit(Command::SetPanes {
+                    settings,
+                    dragging: false,
+                });
             }
             Command::SetPanes { settings, dragging } => {
                 if settings != PaneSettings::of(&self.doc.session) {

@@ -20,6 +20,8 @@ pub struct MenuState<'a> {
     pub has_section: bool,
     /// The session has a drive with a known amplitude for a Melnikov function.
     pub has_melnikov: bool,
+    /// The session has a good ħ and a well in view (levels to export).
+    pub has_levels: bool,
 }
 
 pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
@@ -178,6 +180,7 @@ fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
         ("Fold curves", View::Folds, st.has_folds),
         ("Stroboscopic section", View::Section, st.has_section),
         ("Melnikov function", View::Melnikov, st.has_melnikov),
+        ("Levels", View::Levels, st.has_levels),
     ];
     for (name, view, enabled) in views {
         ui.add_enabled_ui(enabled, |ui| {

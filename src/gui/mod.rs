@@ -39,7 +39,8 @@ pub use document::Document;
 pub use files::{DATA_DIR_ENV, EXAMPLES, NO_NATIVE_DIALOG_ENV};
 pub use formula_panel::EDITOR_LABEL;
 pub use plot_panel::PLOT_LABEL;
-pub use tables_panel::{equilibrium_rows, orbit_row, well_rows};
+pub use params_panel::HBAR_LABEL;
+pub use tables_panel::{equilibrium_rows, level_rows, orbit_row, well_levels_summary, well_rows};
 pub use views_panel::{
     BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, MELNIKOV_LABEL, PaneRequests,
     PaneSettings, SECTION_LABEL,
@@ -125,6 +126,8 @@ pub enum Command {
         dragging: bool,
     },
     Select(Selection),
+    /// Draw the quantized orbits on the portrait or not (`quantum.on_portrait`).
+    ShowLevels(bool),
     /// New settings of the diagram panes (sweep, fold box, backbone center).
     SetPanes {
         settings: PaneSettings,
@@ -313,6 +316,11 @@ impl Explorer {
         self.views.backbone()
     }
 
+    /// The levels behind the quantized orbits and the levels table.
+    pub fn levels(&self) -> Option<&crate::request::LevelsResult> {
+        self.views.levels().map(|(_, l)| l)
+    }
+
     /// The bifurcation named on the portrait now, if any.
     pub fn announcement(&self) -> Option<&str> {
         self.chrome.announcement_strength(self.now).map(|_| {
@@ -432,6 +440,9 @@ impl Explorer {
             self.accept(c);
         }
         self.views.poll();
+        self.plot.levels_on = self.doc.session.quantum.as_ref().map(|q| q.on_portrait);
+        self.plot
+            .refresh_levels(self.views.levels(), &self.doc.session.view);
         self.chrome.apply_theme(&ctx);
         let mut commands = self.shortcuts(&ctx);
         self.handle_close_request(&ctx, &mut commands);
@@ -451,6 +462,7 @@ impl Explorer {
                     has_folds: exportable.folds.is_some(),
                     has_section: exportable.section.is_some(),
                     has_melnikov: exportable.melnikov.is_some(),
+                    has_levels: exportable.levels.is_some(),
                 },
             ));
         });
@@ -489,8 +501,10 @@ impl Explorer {
                     ui.add_space(8.0);
                     let unused = self.unused_parameters();
                     self.params.marks = self.threshold_marks();
+                    self.params.hbar_param = self.doc.session.hbar_parameter();
                     commands.extend(self.params.ui(ui, &self.doc.session.parameters, &unused));
                     commands.extend(self.params.drive_ui(ui, &self.doc.session));
+                    commands.extend(self.params.quantum_ui(ui, &self.doc.session));
                 });
             });
         egui::Panel::right("diagram-panes")
@@ -512,6 +526,7 @@ impl Explorer {
                     &self.doc.session.orbits,
                     &outcomes,
                     self.selection,
+                    self.views.levels().map(|(_, l)| l),
                 ));
             });
         let busy = self.portrait_busy();

@@ -1,10 +1,14 @@
 //! Parameter rows: for each parameter a slider, its value, its range (min and
 //! max) and an optional step. A range with min ≥ max is refused with a message.
 //! Below them the Drive area: the drive's period and damping as expressions,
-//! on or off (`drive_ui`).
+//! on or off (`drive_ui`). When the session sets ħ, the slider of the parameter
+//! that is ħ says so, and ħ's expression can be edited below the rows (a bad one
+//! is refused with its reason and the session keeps the old one).
 
+use crate::numbers;
 use crate::session::{DriveSettings, Parameter, Session};
 
+use super::views_panel::PaneSettings;
 use super::Command;
 
 /// A value marked on a parameter's slider with a dashed line, and a
@@ -15,6 +19,8 @@ pub struct SliderMark {
     pub value: f64,
     pub caption: String,
 }
+/// Accessible name of the ħ expression field.
+pub const HBAR_LABEL: &str = "hbar expression";
 
 #[derive(Default)]
 pub struct ParamsPanel {
@@ -28,6 +34,12 @@ pub struct ParamsPanel {
     drive_seen: Option<Option<DriveSettings>>,
     /// Why the typed drive was not taken.
     drive_problem: Option<String>,
+    /// The parameter whose slider is ħ (the session's `quantum.hbar` is its name).
+    pub hbar_param: Option<String>,
+    /// The ħ expression being typed (None: showing the session's).
+    hbar_text: Option<String>,
+    /// Why the last ħ expression typed was refused.
+    hbar_refused: Option<String>,
 }
 
 impl ParamsPanel {
@@ -60,6 +72,10 @@ impl ParamsPanel {
             ui.label(egui::RichText::new(&par.name).monospace().strong());
             if unused {
                 ui.small("(no longer in the formula; removed shortly)");
+            }
+            if self.hbar_param.as_deref() == Some(par.name.as_str()) {
+                ui.label(egui::RichText::new("= ħ").strong())
+                    .on_hover_text("This slider sets ħ for the levels (quantum.hbar)");
             }
         });
         let mut value = par.value;
@@ -162,6 +178,83 @@ impl ParamsPanel {
         {
             ui.colored_label(ui.visuals().error_fg_color, msg);
         }
+    }
+}
+
+impl ParamsPanel {
+    /// ħ when the session sets it: its value now and its expression, which
+    /// can be edited (applied as typed whenever it is good; a bad expression
+    /// is refused with the reason, stays in the field to be fixed, and the
+    /// session keeps its ħ).
+    pub fn quantum_ui(&mut self, ui: &mut egui::Ui, session: &Session) -> Vec<Command> {
+        let mut commands = Vec::new();
+        let Some(q) = &session.quantum else {
+            self.hbar_text = None;
+            self.hbar_refused = None;
+            return commands;
+        };
+        ui.separator();
+        ui.horizontal(|ui| {
+            ui.label(egui::RichText::new("ħ").monospace().strong());
+            match session.hbar() {
+                Ok(Some(h)) => {
+                    ui.label(format!("= {}", numbers::label(h)));
+                }
+                Ok(None) => {}
+                Err(e) => {
+                    ui.colored_label(ui.visuals().error_fg_color, e.problem);
+                }
+            }
+        });
+        let mut text = self.hbar_text.clone().unwrap_or_else(|| q.hbar.clone());
+        let r = ui
+            .add(
+                egui::TextEdit::singleline(&mut text)
+                    .desired_width(f32::INFINITY)
+                    .font(egui::TextStyle::Monospace),
+            )
+            .on_hover_text(
+                "ħ for the Bohr–Sommerfeld levels: a number or an expression over the \
+                 parameters, e.g. 0.1, h or 0.05*sqrt(k)",
+            );
+        accessible_name(&r, egui::Role::TextInput, HBAR_LABEL);
+        if r.changed() {
+            let mut trial = session.clone();
+            if let Some(t) = trial.quantum.as_mut() {
+                t.hbar = text.trim().to_string();
+            }
+            match trial.hbar() {
+                Ok(_) => {
+                    self.hbar_refused = None;
+                    if trial.quantum != session.quantum {
+                        let mut settings = PaneSettings::of(session);
+                        settings.quantum = trial.quantum;
+                        commands.push(Command::SetPanes {
+                            settings,
+                            dragging: false,
+                        });
+                    }
+                }
+                Err(e) => {
+                    self.hbar_refused = Some(format!(
+                        "ħ = `{}` refused: {}; ħ stays `{}`",
+                        text.trim(),
+                        e.problem,
+                        q.hbar
+                    ));
+                }
+            }
+            self.hbar_text = Some(text);
+        } else if !r.has_focus() && self.hbar_refused.is_none() {
+            // Typed and accepted: show the session's expression again (undo may change it).
+            self.hbar_text = None;
+        }
+        if let Some(msg) = &self.hbar_refused {
+            ui.colored_label(ui.visuals().error_fg_color, msg);
+        } else if let Some(name) = &self.hbar_param {
+            ui.small(format!("the {name} slider above sets ħ"));
+        }
+        commands
     }
 }
 

@@ -4,12 +4,15 @@
 //! drawn through the shared scene drawer. Converted geometry is cached per
 //! result generation; a frame only hands borrowed slices to the plot. The
 //! panel adds the interactions: hover read-out, click to launch an orbit, pan,
-//! zoom, reset, the selected row highlighted.
+//! zoom, reset, the selected row highlighted. Over the portrait, when the
+//! session has ħ and asks for them, the quantized orbits of the levels lane
+//! (`Scene::quantized_orbits`), with their on/off switch above the plot.
 
 use crate::core::equilibria::{Equilibrium, EquilibriumKind};
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::scene::{Rgb, Scene};
+use crate::request::LevelsResult;
+use crate::scene::{LegendEntry, Rgb, Scene};
 use egui_plot::{MarkerShape, Plot, PlotBounds, Points};
 
 use super::scene_plot::{self, Look, SceneView};
@@ -36,8 +39,19 @@ struct Cache {
     orbit_curves: Vec<Option<usize>>,
 }
 
+/// The quantized orbits converted from one levels result in one view.
+#[derive(Default)]
+struct Overlay {
+    key: Option<(u64, Window)>,
+    scene: SceneView,
+}
+
 pub struct PlotPanel {
     cache: Cache,
+    overlay: Overlay,
+    /// The quantized orbits' switch: None when the session sets no ħ, else
+    /// whether they are drawn (the session's `quantum.on_portrait`).
+    pub levels_on: Option<bool>,
     /// The view last put into the plot (the plot owns bounds between changes).
     applied_view: Option<Window>,
     pending_click: Option<(f64, f64, f64)>,
@@ -51,6 +65,8 @@ impl Default for PlotPanel {
     fn default() -> Self {
         PlotPanel {
             cache: Cache::default(),
+            overlay: Overlay::default(),
+            levels_on: None,
             applied_view: None,
             pending_click: None,
             launch_on_click: true,
@@ -148,6 +164,7 @@ impl PlotPanel {
     /// Drop cached geometry (a new session).
     pub fn reset(&mut self) {
         self.cache = Cache::default();
+        self.overlay = Overlay::default();
         self.applied_view = None;
         self.pending_click = None;
     }
@@ -162,6 +179,27 @@ impl PlotPanel {
         if self.cache.generation != computed.generation {
             self.cache = Cache::build(computed, colours);
         }
+    }
+
+    /// Rebuild the quantized orbits if `levels` (with its generation) or
+    /// the view is newer than what is converted.
+    pub fn refresh_levels(&mut self, levels: Option<(u64, &LevelsResult)>, view: &Window) {
+        let Some((generation, l)) = levels else {
+            self.overlay = Overlay::default();
+            return;
+        };
+        let key = Some((generation, *view));
+        if self.overlay.key != key {
+            self.overlay = Overlay {
+                key,
+                scene: SceneView::new(&Scene::quantized_orbits(view, &l.wells, l.hbar)),
+            };
+        }
+    }
+
+    /// True when the quantized orbits are drawn now.
+    fn overlay_shown(&self) -> bool {
+        self.levels_on == Some(true) && self.overlay.key.is_some()
     }
 
     #[allow(clippy::too_many_arguments)]
@@ -186,6 +224,19 @@ impl PlotPanel {
                 .clicked()
             {
                 commands.push(Command::ResetView);
+            }
+            if let Some(on) = self.levels_on {
+                let mut show = on;
+                if ui
+                    .checkbox(&mut show, "Levels")
+                    .on_hover_text(
+                        "Draw each well's quantized orbits: the level curves at the \
+                         Bohr–Sommerfeld energies Eₙ, labelled n = 0, 1, … (saved with the session)",
+                    )
+                    .changed()
+                {
+                    commands.push(Command::ShowLevels(show));
+                }
             }
             if busy {
                 ui.add(egui::Spinner::new().size(14.0))
@@ -227,6 +278,11 @@ impl PlotPanel {
             self.applied_view = Some(*view);
         }
         let mut plot_rect = None;
+        let overlay = self.overlay_shown().then_some(&self.overlay.scene);
+        let legend: Vec<LegendEntry> = match overlay {
+            Some(o) => self.cache.scene.legend.iter().chain(&o.legend).cloned().collect(),
+            None => Vec::new(),
+        };
         ui.horizontal_top(|ui| {
             let cache = &self.cache;
             let plot = Plot::new("phase-portrait")
@@ -255,6 +311,15 @@ impl PlotPanel {
                     }
                 }
                 cache.scene.draw(pui, &look);
+                if let Some(o) = overlay {
+                    o.draw(
+                        pui,
+                        &Look {
+                            emphasised: None,
+                            ..look
+                        },
+                    );
+                }
                 if let (Selection::Equilibrium(i), Some(c)) = (selection, shown)
                     && let Some(e) = c.analysis.equilibria.get(i)
                 {
@@ -313,7 +378,12 @@ impl PlotPanel {
             {
                 self.pending_click = Some((pt.x, pt.y, now));
             }
-            scene_plot::legend(ui, response.response.rect, &cache.scene.legend, &look);
+            let legend = if overlay.is_some() {
+                &legend
+            } else {
+                &cache.scene.legend
+            };
+            scene_plot::legend(ui, response.response.rect, legend, &look);
             plot_rect = Some(response.response.rect);
             scene_plot::colour_bar(
                 ui,

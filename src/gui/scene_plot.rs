@@ -175,10 +175,9 @@ impl SceneView {
                 labels.push(ViewLabel {
                     at,
                     text: text.clone(),
-                    colour: if m.role == MarkRole::Bifurcation {
-                        m.style.colour
-                    } else {
-                        crate::scene::INK
+                    colour: match m.role {
+                        MarkRole::Bifurcation | MarkRole::QuantumLevel { .. } => m.style.colour,
+                        _ => crate::scene::INK,
                     },
                 });
             }
@@ -340,6 +339,9 @@ pub fn paint_marker(painter: &Painter, centre: Pos2, style: MarkerStyle, look: &
                 0.0,
                 colour,
             );
+        }
+        MarkerShape::Dot => {
+            painter.circle_filled(centre, r, colour);
         }
     }
 }

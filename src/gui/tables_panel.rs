@@ -1,9 +1,12 @@
-//! Result tables under the plot: equilibria, wells and orbits. Each row is
+//! Result tables under the plot: equilibria, wells and orbits, and the
+//! Bohr–Sommerfeld levels of each well when the session sets ħ. Each row is
 //! selectable (the plot highlights the selected item); orbit rows can be
 //! deleted and their method and duration edited.
 
 use crate::core::analysis::Analysis;
 use crate::core::equilibria::Equilibrium;
+use crate::core::levels::WellLevels;
+use crate::request::LevelsResult;
 use crate::numbers::fixed;
 use crate::session::SeededOrbit;
 use std::sync::Arc;
@@ -18,6 +21,7 @@ pub enum Tab {
     Equilibria,
     Wells,
     Orbits,
+    Levels,
 }
 
 #[derive(Default)]
@@ -71,6 +75,54 @@ pub fn well_rows(a: &Analysis) -> Vec<[String; 4]> {
         .collect()
 }
 
+/// Text of a well's levels table: n, Eₙ, Eₙ − E₀, spacing Eₙ₊₁ − Eₙ.
+pub fn level_rows(w: &WellLevels) -> Vec<[String; 4]> {
+    let e0 = w.levels.first().map_or(f64::NAN, |l| l.energy);
+    w.levels
+        .iter()
+        .map(|l| {
+            [
+                l.n.to_string(),
+                fixed(l.energy, 6),
+                fixed(l.energy - e0, 6),
+                l.spacing.map_or("—".to_string(), |d| fixed(d, 6)),
+            ]
+        })
+        .collect()
+}
+
+/// The line above a well's levels: where it is, how many levels are bound
+/// below which energy, and the tunnelling splitting with its caution.
+pub fn well_levels_summary(w: &WellLevels) -> Vec<String> {
+    let top = match w.escape_energy {
+        Some(e) => format!("the escape energy {}", fixed(e, 6)),
+        None => format!("{} (where the well leaves the view)", fixed(w.top_energy, 6)),
+    };
+    let mut lines = vec![format!(
+        "Well at ({}, {}): {} bound level{} below {top}",
+        fixed(w.center[0], 4),
+        fixed(w.center[1], 4),
+        w.count,
+        if w.count == 1 { "" } else { "s" },
+    )];
+    if w.levels.len() < w.count {
+        lines.push(format!("the lowest {} are listed", w.levels.len()));
+    }
+    if let Some(sp) = &w.splitting {
+        lines.push(format!(
+            "Tunnelling splitting of the lowest pair with the mirror well at ({}, {}): \
+             ΔE ≈ {} (S/ħ = {:.2}). An estimate, (ħω/π)·exp(−S/ħ), for a thick barrier; \
+             not a spectroscopic value.",
+            fixed(sp.partner[0], 4),
+            fixed(sp.partner[1], 4),
+            crate::numbers::caption(sp.splitting),
+            sp.exponent
+        ));
+    }
+    lines.extend(w.diagnostics.iter().map(|d| d.message.clone()));
+    lines
+}
+
 /// Text of the orbits table: start, period, action, frequency, energy error (relative), stop reason.
 pub fn orbit_row(s: &SeededOrbit, o: Option<&OrbitOutcome>) -> [String; 6] {
     let num = |v: Option<f64>| v.map_or("—".to_string(), |x| format!("{x:.5}"));
@@ -102,8 +154,12 @@ impl TablesPanel {
         orbits: &[SeededOrbit],
         outcomes: &[Option<Arc<OrbitOutcome>>],
         selection: Selection,
+        levels: Option<&LevelsResult>,
     ) -> Vec<Command> {
         let mut commands = Vec::new();
+        if levels.is_none() && self.tab == Tab::Levels {
+            self.tab = Tab::Equilibria;
+        }
         ui.horizontal(|ui| {
             let ne = analysis.map_or(0, |a| a.equilibria.len());
             let nw = analysis.map_or(0, |a| a.wells.len());
@@ -114,6 +170,10 @@ impl TablesPanel {
                 Tab::Orbits,
                 format!("Orbits ({})", orbits.len()),
             );
+            if let Some(l) = levels {
+                let n: usize = l.wells.iter().map(|w| w.count).sum();
+                ui.selectable_value(&mut self.tab, Tab::Levels, format!("Levels ({n})"));
+            }
         });
         ui.separator();
         // Scrolling both ways keeps a table wider than the panel inside it: a
@@ -155,6 +215,11 @@ impl TablesPanel {
                     );
                 }
                 Tab::Orbits => self.orbit_table(ui, orbits, outcomes, selection, &mut commands),
+                Tab::Levels => {
+                    if let Some(l) = levels {
+                        levels_tables(ui, l);
+                    }
+                }
             });
         commands
     }
@@ -251,6 +316,50 @@ impl TablesPanel {
                     ui.end_row();
                 }
             });
+    }
+}
+
+/// Each well's levels under its summary; the wells that gave none, with why.
+fn levels_tables(ui: &mut egui::Ui, l: &LevelsResult) {
+    ui.small(format!(
+        "Bohr–Sommerfeld levels, I(Eₙ) = ħ(n + ½) with ħ = {}: semiclassical estimates \
+         for an idealised model, not spectroscopic values.",
+        crate::numbers::caption(l.hbar)
+    ));
+    if l.wells.is_empty() && l.refused.is_empty() {
+        ui.label("No well in view: the levels need a center.");
+    }
+    for (k, w) in l.wells.iter().enumerate() {
+        ui.add_space(4.0);
+        for line in well_levels_summary(w) {
+            ui.label(line);
+        }
+        egui::Grid::new(("levels-table", k))
+            .striped(true)
+            .num_columns(4)
+            .show(ui, |ui| {
+                for h in ["n", "Eₙ", "Eₙ − E₀", "spacing Eₙ₊₁ − Eₙ"] {
+                    ui.strong(h);
+                }
+                ui.end_row();
+                for row in level_rows(w) {
+                    for cell in row {
+                        ui.label(cell);
+                    }
+                    ui.end_row();
+                }
+            });
+    }
+    for r in &l.refused {
+        ui.colored_label(
+            ui.visuals().warn_fg_color,
+            format!(
+                "Center at ({}, {}): no levels: {}",
+                fixed(r.center[0], 4),
+                fixed(r.center[1], 4),
+                r.problem
+            ),
+        );
     }
 }
 

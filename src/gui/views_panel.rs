@@ -20,11 +20,13 @@ use crate::core::system::System;
 use crate::numbers::{clean, label as label_number};
 use crate::render::{SectionData, section_colours};
 use crate::request::{
-    BackboneRequest, FoldsRequest, MelnikovRequest, Overrides, SectionRequest, SweepRequest,
-    centers_of, range_of, undriven,
+    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, Overrides,
+    SectionRequest, SweepRequest, centers_of, range_of, undriven,
 };
 use crate::scene::{BackbonePlot, Scene};
-use crate::session::{BackboneSettings, FoldSettings, Parameter, Session, SweepSettings};
+use crate::session::{
+    BackboneSettings, FoldSettings, Parameter, QuantumSettings, Session, SweepSettings,
+};
 use egui_plot::{Plot, PlotBounds};
 use std::sync::{Arc, Mutex};
 use std::time::Duration;
@@ -50,6 +52,8 @@ pub struct PaneSettings {
     pub sweep: Option<SweepSettings>,
     pub folds: Option<FoldSettings>,
     pub backbone: Option<BackboneSettings>,
+    /// ħ and whether the quantized orbits are drawn on the portrait.
+    pub quantum: Option<QuantumSettings>,
 }
 
 impl PaneSettings {
@@ -58,6 +62,7 @@ impl PaneSettings {
             sweep: session.sweep.clone(),
             folds: session.folds.clone(),
             backbone: session.backbone.clone(),
+            quantum: session.quantum.clone(),
         }
     }
 
@@ -66,6 +71,7 @@ impl PaneSettings {
         session.sweep = self.sweep;
         session.folds = self.folds;
         session.backbone = self.backbone;
+        session.quantum = self.quantum;
     }
 }
 
@@ -100,6 +106,9 @@ pub struct PaneRequests {
     /// without a drive, or while its expressions are bad).
     pub section: Option<SectionRequest>,
     pub melnikov: Option<MelnikovRequest>,
+    /// The levels behind the quantized orbits and the levels table (none
+    /// without ħ, or while its expression is bad).
+    pub levels: Option<LevelsRequest>,
 }
 
 fn value_of(params: &[Parameter], name: &str) -> Option<f64> {
@@ -168,6 +177,11 @@ pub fn resolve(inp: &Inputs) -> PaneRequests {
         melnikov: inp
             .system
             .and_then(|sys| MelnikovRequest::from_session(inp.session, sys).ok()),
+        levels: inp.analysis.and_then(|a| {
+            LevelsRequest::for_equilibria(inp.session, &a.equilibria)
+                .ok()
+                .flatten()
+        }),
     }
 }
 
@@ -188,12 +202,15 @@ impl Figure {
     }
 }
 
+/// One lane per kind of view job.
+const LANES: usize = ViewKind::ALL.len();
+
 pub struct ViewsPanel {
     pub tab: Tab,
     lanes: Vec<Lane>,
-    shown: [Option<ViewComputed>; 5],
-    last_spec: [Option<ViewSpec>; 5],
-    figures: [Figure; 5],
+    shown: [Option<ViewComputed>; LANES],
+    last_spec: [Option<ViewSpec>; LANES],
+    figures: [Figure; LANES],
     /// The connection drawn heavier in the Melnikov pane.
     connection: Option<usize>,
     /// A refused settings edit and why.
@@ -313,8 +330,17 @@ impl ViewsPanel {
 
     /// The section shown in the section pane.
     pub fn section(&self) -> Option<&SectionData> {
-        match self.shown[3].as_ref().map(|c| c.outcome.as_ref()) {
+        match self.shown[ViewKind::Section.index()].as_ref().map(|c| c.outcome.as_ref()) {
             Some(ViewOutcome::Section(Ok(d))) => Some(d),
+            _ => None,
+        }
+    }
+
+    /// The newest levels (quantized orbits and table) with their generation.
+    pub fn levels(&self) -> Option<(u64, &LevelsResult)> {
+        let c = self.shown[ViewKind::Levels.index()].as_ref()?;
+        match c.outcome.as_ref() {
+            ViewOutcome::Levels(l) => Some((c.generation, l)),
             _ => None,
         }
     }
@@ -322,7 +348,7 @@ impl ViewsPanel {
     /// The Melnikov function shown in its pane (computed whenever the
     /// session has a drive, for the threshold on the amplitude slider).
     pub fn melnikov(&self) -> Option<&Melnikov> {
-        match self.shown[4].as_ref().map(|c| c.outcome.as_ref()) {
+        match self.shown[ViewKind::Melnikov.index()].as_ref().map(|c| c.outcome.as_ref()) {
             Some(ViewOutcome::Melnikov(Ok(m))) => Some(m),
             _ => None,
         }
@@ -346,6 +372,34 @@ impl ViewsPanel {
         }
     }
 
+    /// Start the levels job when its request changed: also while a slider
+    /// or the view is dragged when the quantized orbits are on the portrait
+    /// (they follow the drag; the job takes a millisecond or two).
+    fn submit_levels_if_changed(&mut self, inp: &Inputs, sys: &System) {
+        if inp.dragging && !inp.session.levels_on_portrait() {
+            return;
+        }
+        let i = ViewKind::Levels.index();
+        let Some(req) = resolve(inp).levels else {
+            // No ħ, a bad one, or nothing analysed yet: show no levels.
+            self.lanes[i].cancel();
+            self.shown[i] = None;
+            self.last_spec[i] = None;
+            return;
+        };
+        let spec = ViewSpec {
+            source: sys.formula().source().to_string(),
+            params: sys.params().to_vec(),
+            window: inp.session.view,
+            task: ViewTask::Levels(req),
+        };
+        if self.last_spec[i].as_ref() == Some(&spec) {
+            return;
+        }
+        self.last_spec[i] = Some(spec.clone());
+        self.lanes[i].submit(spec, sys.clone());
+    }
+
     /// Start the jobs whose inputs changed: the diagram always (its
     /// bifurcations are announced on the portrait), the Melnikov function
     /// whenever there is a drive (its threshold marks the amplitude
@@ -355,6 +409,7 @@ impl ViewsPanel {
         let Some(sys) = inp.system else {
             return;
         };
+        self.submit_levels_if_changed(inp, sys);
         let r = resolve(inp);
         if inp.dragging {
             if self.tab == Tab::Section

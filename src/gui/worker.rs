@@ -1,6 +1,7 @@
 //! The explorer's background work, so the UI thread never waits. The portrait
 //! worker is one named thread that runs analyses and orbit integrations; each
-//! diagram pane (sweep, fold curve, backbone) has its own [`Lane`]. Jobs carry
+//! diagram pane (sweep, fold curve, backbone) and the quantized orbits over
+//! the portrait have their own [`Lane`]. Jobs carry
 //! a generation number; a thread always runs the newest pending job, stale
 //! results are dropped by the UI, and a running job is cancelled through
 //! `core::Cancel` when a newer one arrives.
@@ -15,7 +16,8 @@ use crate::core::system::System;
 use crate::core::window::Window;
 use crate::render::SectionData;
 use crate::request::{
-    BackboneRequest, FoldsRequest, MelnikovRequest, SectionRequest, SweepRequest,
+    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, SectionRequest,
+    SweepRequest,
     undriven_analysis_of,
 };
 use crate::scene::Rgb;
@@ -313,15 +315,18 @@ pub enum ViewKind {
     Backbone,
     Section,
     Melnikov,
+    /// The quantized orbits over the portrait and the levels table.
+    Levels,
 }
 
 impl ViewKind {
-    pub const ALL: [ViewKind; 5] = [
+    pub const ALL: [ViewKind; 6] = [
         ViewKind::Diagram,
         ViewKind::Folds,
         ViewKind::Backbone,
         ViewKind::Section,
         ViewKind::Melnikov,
+        ViewKind::Levels,
     ];
 
     /// Position in [`ViewKind::ALL`].
@@ -332,6 +337,7 @@ impl ViewKind {
             ViewKind::Backbone => 2,
             ViewKind::Section => 3,
             ViewKind::Melnikov => 4,
+            ViewKind::Levels => 5,
         }
     }
 
@@ -342,6 +348,7 @@ impl ViewKind {
             ViewKind::Backbone => "phasewright-backbone",
             ViewKind::Section => "phasewright-section",
             ViewKind::Melnikov => "phasewright-melnikov",
+            ViewKind::Levels => "phasewright-levels",
         }
     }
 }
@@ -361,6 +368,7 @@ pub enum ViewTask {
         colours: Vec<Option<Rgb>>,
     },
     Melnikov(MelnikovRequest),
+    Levels(LevelsRequest),
 }
 
 /// Everything a view job depends on; compared with the last job to decide whether to rerun.
@@ -382,6 +390,7 @@ pub enum ViewOutcome {
     Backbone(Result<Backbone, BackboneError>),
     Section(Result<SectionData, String>),
     Melnikov(Result<Melnikov, String>),
+    Levels(LevelsResult),
 }
 
 impl ViewOutcome {
@@ -392,6 +401,7 @@ impl ViewOutcome {
             ViewOutcome::Folds(Ok(f)) => f.cancelled,
             ViewOutcome::Backbone(Ok(b)) => b.cancelled,
             ViewOutcome::Section(Ok(d)) => d.section.cancelled,
+            ViewOutcome::Levels(l) => l.wells.iter().any(|w| w.cancelled),
             _ => false,
         }
     }
@@ -645,5 +655,6 @@ fn run_view(job: &ViewJob, report: &(dyn Fn(usize, usize, String) + Sync)) -> Vi
             report(0, 1, "tracing the connections".to_string());
             ViewOutcome::Melnikov(req.run(sys, window, &job.cancel))
         }
+        ViewTask::Levels(req) => ViewOutcome::Levels(req.run(sys, window, &job.cancel)),
     }
 }

@@ -37,6 +37,9 @@ pub struct PortraitData {
     pub orbits: Vec<Orbit>,
     /// The session's colour of each orbit, if it has one.
     pub colours: Vec<Option<Rgb>>,
+    /// The quantized orbits of every well in view, when the session asks
+    /// for them on the portrait (`quantum.on_portrait`) and its ħ is good.
+    pub levels: Option<LevelsResult>,
 }
 
 /// Analyse a session in `window` (usually its view) and integrate its orbits.
@@ -56,16 +59,28 @@ pub fn portrait_data(
         orbits.push(integrate_orbit(sys, &req, cancel));
         colours.push(seed.colour.as_deref().and_then(Rgb::parse_hex));
     }
+    let levels = if session.levels_on_portrait() {
+        LevelsRequest::for_equilibria(session, &analysis.equilibria)
+            .ok()
+            .flatten()
+            .map(|r| r.run(sys, window, cancel))
+    } else {
+        None
+    };
     PortraitData {
         analysis,
         orbits,
         colours,
+        levels,
     }
 }
 
 /// The portrait scene of computed data: level curves, equilibria, orbits, the session's title.
 pub fn portrait_scene(session: &Session, sys: &System, data: &PortraitData) -> Scene {
     let mut scene = Scene::portrait(sys, &data.analysis).with_title(&session.title);
+    if let Some(l) = &data.levels {
+        scene.add_quantized_orbits(&l.wells, l.hbar);
+    }
     for (orbit, colour) in data.orbits.iter().zip(&data.colours) {
         scene.add_orbit(&orbit_points(orbit), *colour);
     }
@@ -369,6 +384,22 @@ pub fn backbone_of(
         .map_err(|e| refused(View::Backbone(BackbonePlot::default()))(e.to_string()))
 }
 
+/// The levels request for `session` in `window`: its ħ, every center and
+/// degenerate equilibrium in view; refused when the ħ expression is bad or
+/// missing.
+pub fn levels_request_of(
+    session: &Session,
+    sys: &System,
+    window: &Window,
+    cancel: &Cancel,
+) -> Result<LevelsRequest, ViewError> {
+    let (centers, degenerate) = centers_and_degenerate_in_view(session, sys, window, cancel);
+    Ok(LevelsRequest::from_session(session, &centers)
+        .map_err(|e| refused(View::Levels)(e.to_string()))?
+        .ok_or(ViewError::MissingSettings(View::Levels))?
+        .with_degenerate(&degenerate))
+}
+
 /// The levels of every well in `window` for the session's ħ; refused when
 /// its expression is bad, when no center is in view, or when no well gives
 /// levels.
@@ -378,12 +409,7 @@ pub fn levels_of(
     window: &Window,
     cancel: &Cancel,
 ) -> Result<LevelsResult, ViewError> {
-    let (centers, degenerate) = centers_and_degenerate_in_view(session, sys, window, cancel);
-    let request = LevelsRequest::from_session(session, &centers)
-        .map_err(|e| refused(View::Levels)(e.to_string()))?
-        .ok_or(ViewError::MissingSettings(View::Levels))?
-        .with_degenerate(&degenerate);
-    let result = request.run(sys, window, cancel);
+    let result = levels_request_of(session, sys, window, cancel)?.run(sys, window, cancel);
     if result.wells.is_empty() && result.refused.is_empty() {
         return Err(refused(View::Levels)(
             "there is no center in view, so no well to quantize; widen the window".to_string(),

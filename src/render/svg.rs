@@ -461,6 +461,12 @@ fn marker_shape(style: &MarkerStyle, x: f64, y: f64) -> String {
             num(y - r),
             num(style.size)
         ),
+        MarkerShape::Dot => format!(
+            r#"<circle cx="{}" cy="{}" r="{}" fill="{c}"/>"#,
+            num(x),
+            num(y),
+            num(r)
+        ),
     }
 }
 
@@ -477,6 +483,7 @@ fn write_mark(out: &mut String, scene: &Scene, l: &Layout, m: &Mark) {
         MarkRole::Cusp => "mark cusp".to_string(),
         MarkRole::Sample => "mark sample".to_string(),
         MarkRole::Zero => "mark zero".to_string(),
+        MarkRole::QuantumLevel { n } => format!(r#"mark quantum-level" data-n="{n}"#),
     };
     let _ = write!(
         out,
@@ -497,7 +504,11 @@ fn write_mark(out: &mut String, scene: &Scene, l: &Layout, m: &Mark) {
             r#"<text x="{}" y="{}" font-size="{TICK_SIZE}" text-anchor="{anchor}" fill="{}" stroke="{}" stroke-width="3" paint-order="stroke">{}</text>"#,
             num(lx),
             num(y - m.style.size * 0.6),
-            INK.hex(),
+            match m.role {
+                MarkRole::QuantumLevel { .. } => m.style.colour,
+                _ => INK,
+            }
+            .hex(),
             PAPER.hex(),
             escape(label)
         );

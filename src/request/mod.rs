@@ -21,7 +21,9 @@
 //! - **levels**: ħ from the session's `quantum.hbar` at the current parameter
 //!   values (no `quantum` section, no levels); every center in view, in the
 //!   table's order, each with its own well, then every degenerate equilibrium
-//!   that is a minimum or maximum of H (the bottom of q⁴/4); the core's level cap.
+//!   that is a minimum or maximum of H (the bottom of q⁴/4); the core's level
+//!   cap; each level's closed curve traced with [`LEVEL_CURVE_POINTS`] points
+//!   (the explorer's overlay and the portrait figure draw them).
 //!
 //! - **seeded orbits**: start, method and duration from the session, the
 //!   damping of its drive section (none without one); the
@@ -98,6 +100,9 @@ pub struct LevelsRequest {
     pub degenerate: Vec<[f64; 2]>,
     pub cfg: LevelsConfig,
 }
+
+/// Points of each quantized orbit's closed curve in a levels request.
+pub const LEVEL_CURVE_POINTS: usize = 160;
 
 /// The slider range of parameter `name`, if listed.
 pub fn range_of(params: &[Parameter], name: &str) -> Option<(f64, f64)> {
@@ -209,12 +214,17 @@ pub fn centers_and_degenerate_in_view(
 ) -> (Vec<[f64; 2]>, Vec<[f64; 2]>) {
     let cfg = session.analysis_config();
     let found = find_equilibria(sys, window, &cfg.equilibria, cancel).0;
-    let degenerate = found
+    wells_of(&found)
+}
+
+/// The centers and the degenerate equilibria among `equilibria`, in their order.
+pub fn wells_of(equilibria: &[Equilibrium]) -> (Vec<[f64; 2]>, Vec<[f64; 2]>) {
+    let degenerate = equilibria
         .iter()
         .filter(|e| e.kind == EquilibriumKind::Degenerate)
         .map(|e| [e.q, e.p])
         .collect();
-    (centers_of(&found), degenerate)
+    (centers_of(equilibria), degenerate)
 }
 
 /// The centers in `window` as the portrait's analysis finds them (the same
@@ -309,8 +319,21 @@ impl LevelsRequest {
             hbar,
             centers: in_view.to_vec(),
             degenerate: Vec::new(),
-            cfg: LevelsConfig::default(),
+            cfg: LevelsConfig {
+                curve_points: LEVEL_CURVE_POINTS,
+                ..LevelsConfig::default()
+            },
         }))
+    }
+
+    /// The levels `session` describes for the wells among `equilibria` (an
+    /// analysis of the view): its centers, then its degenerate equilibria.
+    pub fn for_equilibria(
+        session: &Session,
+        equilibria: &[Equilibrium],
+    ) -> Result<Option<LevelsRequest>, SessionError> {
+        let (centers, degenerate) = wells_of(equilibria);
+        Ok(LevelsRequest::from_session(session, &centers)?.map(|r| r.with_degenerate(&degenerate)))
     }
 
     /// The same request with the degenerate equilibria in view added as

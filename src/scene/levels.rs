@@ -1,7 +1,13 @@
-//! The figure of a well's Bohr–Sommerfeld levels.
+//! The figure of a well's Bohr–Sommerfeld levels, and the quantized orbits
+//! drawn over a portrait.
 
 use super::*;
 use crate::core::levels::WellLevels;
+use crate::core::window::Window;
+
+/// A quantized orbit's label is left out when its anchor lies within this
+/// fraction of the view's height of the label below it (crowded levels).
+const LEVEL_LABEL_GAP: f64 = 0.035;
 
 impl Scene {
     /// The ladder of Bohr–Sommerfeld levels: H(q, p_c) along the line through
@@ -84,6 +90,76 @@ impl Scene {
             clouds: Vec::new(),
             colour_scale: None,
             legend,
+        }
+    }
+
+    /// The quantized orbits of `wells` alone over `window` (the explorer
+    /// draws them over its portrait; see [`Scene::add_quantized_orbits`]).
+    pub fn quantized_orbits(window: &Window, wells: &[WellLevels], hbar: f64) -> Scene {
+        let mut scene = Scene {
+            title: "Quantized orbits".to_string(),
+            caption: String::new(),
+            x: range_axis("q", window.qmin, window.qmax),
+            y: range_axis("p", window.pmin, window.pmax),
+            curves: Vec::new(),
+            marks: Vec::new(),
+            colour_scale: None,
+            legend: Vec::new(),
+        };
+        scene.add_quantized_orbits(wells, hbar);
+        scene
+    }
+
+    /// Add each well's quantized orbits to a portrait: the closed level
+    /// curves at Eₙ as the levels request traced them, thin, in the levels'
+    /// colour, labelled n = 0, 1, … at their highest point in p (a label
+    /// that would crowd the one below it is left out), and a legend entry
+    /// with ħ.
+    pub fn add_quantized_orbits(&mut self, wells: &[WellLevels], hbar: f64) {
+        let gap = LEVEL_LABEL_GAP * self.y.span().abs();
+        let mut any = false;
+        for w in wells {
+            let mut last_label: Option<f64> = None;
+            for (l, curve) in w.levels.iter().zip(&w.curves) {
+                let points: Vec<[f64; 2]> = curve
+                    .iter()
+                    .copied()
+                    .filter(|p| p[0].is_finite() && p[1].is_finite())
+                    .collect();
+                let Some(&top) = points.iter().max_by(|a, b| a[1].total_cmp(&b[1])) else {
+                    continue;
+                };
+                if points.len() < 3 {
+                    continue;
+                }
+                any = true;
+                self.curves.push(Curve {
+                    role: CurveRole::QuantumLevel { n: l.n },
+                    points,
+                    closed: true,
+                    colour: QUANTUM_COLOUR,
+                    width: QUANTUM_ORBIT_WIDTH,
+                    dashed: false,
+                    arrows: Vec::new(),
+                });
+                if last_label.is_none_or(|p| (top[1] - p).abs() >= gap) {
+                    last_label = Some(top[1]);
+                    self.marks.push(Mark {
+                        at: top,
+                        role: MarkRole::QuantumLevel { n: l.n },
+                        style: QUANTUM_LABEL_MARKER,
+                        label: Some(format!("n = {}", l.n)),
+                    });
+                }
+            }
+        }
+        if any {
+            self.legend.push(line_entry(
+                format!("quantized orbits (\u{127} = {})", numbers::caption(hbar)),
+                QUANTUM_COLOUR,
+                QUANTUM_ORBIT_WIDTH,
+                false,
+            ));
         }
     }
 }

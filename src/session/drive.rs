@@ -59,11 +59,11 @@ pub struct DriveSettings {
     pub enabled: bool,
 }
 
-fn yes() -> bool {
+pub(super) fn yes() -> bool {
     true
 }
 
-fn is_yes(b: &bool) -> bool {
+pub(super) fn is_yes(b: &bool) -> bool {
     *b
 }
 

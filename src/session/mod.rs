@@ -314,6 +314,7 @@ fn field_template() -> serde_json::Value {
     });
     s.quantum = Some(QuantumSettings {
         hbar: String::new(),
+        on_portrait: false,
     });
     let mut known = serde_json::to_value(&s).unwrap_or(serde_json::Value::Null);
     // older names still read (serde aliases)
