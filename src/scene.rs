@@ -4,6 +4,7 @@
 //! `Scene`; the explorer can draw the same `Scene` with its own plot widget,
 //! so the palette and the marker shapes defined here are the project's one look.
 
+mod basin;
 mod levels;
 
 use crate::core::analysis::Analysis;
@@ -238,6 +239,10 @@ pub enum CurveRole {
     Potential,
     /// A Bohr–Sommerfeld level n, drawn between its turning points.
     QuantumLevel { n: usize },
+    /// An integrity measure against the drive amplitude (global or local).
+    Integrity { local: bool },
+    /// The Melnikov threshold amplitude on an erosion curve's axis.
+    Threshold,
 }
 
 impl CurveRole {
@@ -258,6 +263,9 @@ impl CurveRole {
             CurveRole::Guide => "guide",
             CurveRole::Potential => "potential",
             CurveRole::QuantumLevel { .. } => "quantum-level",
+            CurveRole::Integrity { local: false } => "integrity",
+            CurveRole::Integrity { local: true } => "local-integrity",
+            CurveRole::Threshold => "threshold",
         }
     }
 }
@@ -351,7 +359,24 @@ impl ColourScale {
     }
 }
 
-/// A whole figure. Layers draw in this order: curves (as listed), marks, then labels of marks.
+/// A raster of equal cells over a rectangle in data coordinates (a
+/// safe-basin mask), drawn under the curves: each cell filled with its
+/// colour or left empty.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CellRaster {
+    /// The lower-left corner (q, p) of the first cell.
+    pub origin: [f64; 2],
+    /// Width and height of one cell.
+    pub cell: [f64; 2],
+    pub columns: usize,
+    pub rows: usize,
+    /// One entry per cell, row-major from the bottom row, q fastest; `None`
+    /// leaves the cell empty.
+    pub fills: Vec<Option<Rgb>>,
+}
+
+/// A whole figure. Layers draw in this order: cell rasters, curves (as
+/// listed), marks, then labels of marks.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Scene {
     /// The headline: the session's title, or what the figure shows.
@@ -364,6 +389,8 @@ pub struct Scene {
     pub marks: Vec<Mark>,
     pub colour_scale: Option<ColourScale>,
     pub legend: Vec<LegendEntry>,
+    /// Filled cell rasters under the curves (safe-basin masks).
+    pub rasters: Vec<CellRaster>,
 }
 
 /// Arrows per orbit, spread evenly along its length.
@@ -464,6 +491,7 @@ impl Scene {
             marks,
             colour_scale: if hi > lo { Some(scale) } else { None },
             legend,
+            rasters: Vec::new(),
         }
     }
 
@@ -799,6 +827,7 @@ impl Scene {
             marks,
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 
@@ -873,6 +902,7 @@ impl Scene {
             marks: Vec::new(),
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 
@@ -954,6 +984,7 @@ impl Scene {
             marks,
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 }

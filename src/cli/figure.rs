@@ -15,6 +15,10 @@ pub enum FigureView {
     Folds,
     /// Bohr–Sommerfeld levels over H along the center's line (the session's quantum.hbar, or --hbar).
     Levels,
+    /// The safe basins of the wells under the session's drive (its basin section).
+    Basin,
+    /// The integrity of the safe basins against the drive amplitude, with the Melnikov threshold.
+    Erosion,
 }
 
 /// Which relation a backbone figure plots.
@@ -87,6 +91,8 @@ impl FigureView {
             FigureView::Diagram => View::Diagram,
             FigureView::Folds => View::Folds,
             FigureView::Levels => View::Levels,
+            FigureView::Basin => View::Basin,
+            FigureView::Erosion => View::Erosion,
             FigureView::Backbone => View::Backbone(match plot {
                 PlotArg::PeriodEnergy => BackbonePlot::PeriodEnergy,
                 PlotArg::FrequencyAmplitude => BackbonePlot::FrequencyAmplitude,
@@ -130,6 +136,8 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
         }
         View::Levels => levels::apply_hbar(&mut r.session, args.hbar.as_deref(), "--view levels"),
         View::Portrait => "--view portrait".to_string(),
+        View::Basin => "--view basin".to_string(),
+        View::Erosion => "--view erosion".to_string(),
     };
     print_warnings(&r.warnings);
     let data = compute(&r, &command, |s, sys, w, c| {

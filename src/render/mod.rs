@@ -11,6 +11,7 @@ pub use svg::{FigureSize, to_svg};
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, analyze};
 use crate::core::backbone::Backbone;
+use crate::core::basin::{Basin, Erosion};
 use crate::core::continuation::Sweep;
 use crate::core::folds::FoldCurves;
 use crate::core::orbit::{Orbit, integrate_orbit};
@@ -18,7 +19,7 @@ use crate::core::system::System;
 use crate::core::window::Window;
 use crate::numbers;
 use crate::request::{
-    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
+    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
     centers_and_degenerate_in_view, centers_in_view, seeded_orbit_request,
 };
 use crate::scene::{BackbonePlot, Rgb, Scene};
@@ -130,6 +131,12 @@ pub enum View {
     /// The Bohr–Sommerfeld levels of every well in view over H along the
     /// center's line p = p_c (the session's `quantum.hbar`).
     Levels,
+    /// The safe basins of the wells under the drive (the session's `drive`
+    /// and `basin`).
+    Basin,
+    /// The integrity measures against the drive amplitude, with the
+    /// Melnikov threshold.
+    Erosion,
 }
 
 impl View {
@@ -141,6 +148,8 @@ impl View {
             View::Backbone(_) => "backbone",
             View::Folds => "folds",
             View::Levels => "levels",
+            View::Basin => "basin",
+            View::Erosion => "erosion",
         }
     }
 }
@@ -153,6 +162,16 @@ pub enum ViewData {
     Backbone(Backbone),
     Folds(FoldCurves),
     Levels(LevelsResult),
+    Basin(BasinData),
+    Erosion(Erosion),
+}
+
+/// A safe basin with the undriven separatrices drawn behind it.
+#[derive(Clone, Debug)]
+pub struct BasinData {
+    pub basin: Basin,
+    /// The separatrix polylines of H₀ over the window.
+    pub separatrices: Vec<Vec<[f64; 2]>>,
 }
 
 /// Why a view could not be made.
@@ -209,6 +228,41 @@ pub fn view_data(
             ViewData::Backbone(backbone_of(session, sys, window, overrides, cancel)?)
         }
         View::Levels => ViewData::Levels(levels_of(session, sys, window, cancel)?),
+        View::Basin => {
+            let request = BasinRequest::from_session(session, sys).map_err(refused(view))?;
+            ViewData::Basin(basin_data(session, sys, &request, cancel, &|_, _| {})?)
+        }
+        View::Erosion => ViewData::Erosion(
+            ErosionRequest::from_session(session, sys)
+                .and_then(|r| r.run(sys, cancel, &|_, _| {}))
+                .map_err(refused(view))?,
+        ),
+    })
+}
+
+/// The safe basin `request` asks for, with the separatrices of H₀ (from
+/// the portrait's analysis of H₀ over the request's window).
+pub fn basin_data(
+    session: &Session,
+    sys: &System,
+    request: &BasinRequest,
+    cancel: &Cancel,
+    progress: &(dyn Fn(usize, usize) + Sync),
+) -> Result<BasinData, ViewError> {
+    let basin = request
+        .run(sys, cancel, progress)
+        .map_err(refused(View::Basin))?;
+    let h0 = request.undriven(sys).map_err(refused(View::Basin))?;
+    let a = analyze(&h0, &request.window, &session.analysis_config(), cancel);
+    let separatrices = a
+        .curves
+        .iter()
+        .filter(|c| c.is_separatrix)
+        .map(|c| c.points.clone())
+        .collect();
+    Ok(BasinData {
+        basin,
+        separatrices,
     })
 }
 
@@ -342,6 +396,8 @@ pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) 
             l.hbar,
             [session.view.qmin, session.view.qmax],
         ),
+        ViewData::Basin(b) => Scene::basin(sys, &b.basin, &b.separatrices),
+        ViewData::Erosion(e) => Scene::erosion(sys, e, value(&e.amplitude)),
     }
 }
 
@@ -377,6 +433,10 @@ pub fn view_table(sys: &System, data: &ViewData, which: PortraitTable) -> Table 
         }
         ViewData::Backbone(b) => table::backbone_table(b).with_parameters(&params),
         ViewData::Levels(l) => table::levels_table(l).with_parameters(&params),
+        ViewData::Basin(b) => table::basin_table(&b.basin).with_parameters(&params),
+        ViewData::Erosion(e) => {
+            table::erosion_table(e).with_parameters(&others(&params, &[&e.amplitude]))
+        }
     }
 }
 

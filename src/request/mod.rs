@@ -30,8 +30,10 @@
 //! A request is plain data compared by value: the explorer reruns a pane's job
 //! only when its request changes.
 
+mod basin;
 mod drive;
 
+pub use basin::{BasinRequest, ErosionRequest};
 pub use drive::{MelnikovRequest, SectionRequest};
 
 use crate::core::Cancel;

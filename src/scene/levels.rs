@@ -83,6 +83,7 @@ impl Scene {
             marks: Vec::new(),
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 }
