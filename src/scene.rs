@@ -5,6 +5,7 @@
 //! so the palette and the marker shapes defined here are the project's one look.
 
 mod drive;
+mod basin;
 mod levels;
 
 pub use drive::{
@@ -279,6 +280,10 @@ pub enum CurveRole {
     QuantumLevel { n: usize },
     /// The Melnikov function of one connection over a drive period.
     Melnikov,
+    /// An integrity measure against the drive amplitude (global or local).
+    Integrity { local: bool },
+    /// The Melnikov threshold amplitude on an erosion curve's axis.
+    Threshold,
 }
 
 impl CurveRole {
@@ -300,6 +305,9 @@ impl CurveRole {
             CurveRole::Potential => "potential",
             CurveRole::QuantumLevel { .. } => "quantum-level",
             CurveRole::Melnikov => "melnikov",
+            CurveRole::Integrity { local: false } => "integrity",
+            CurveRole::Integrity { local: true } => "local-integrity",
+            CurveRole::Threshold => "threshold",
         }
     }
 }
@@ -409,8 +417,24 @@ pub struct Cloud {
     pub size: f64,
 }
 
-/// A whole figure. Layers draw in this order: curves (as listed), clouds
-/// (as listed), marks, then labels of marks.
+/// A raster of equal cells over a rectangle in data coordinates (a
+/// safe-basin mask), drawn under the curves: each cell filled with its
+/// colour or left empty.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CellRaster {
+    /// The lower-left corner (q, p) of the first cell.
+    pub origin: [f64; 2],
+    /// Width and height of one cell.
+    pub cell: [f64; 2],
+    pub columns: usize,
+    pub rows: usize,
+    /// One entry per cell, row-major from the bottom row, q fastest; `None`
+    /// leaves the cell empty.
+    pub fills: Vec<Option<Rgb>>,
+}
+
+/// A whole figure. Layers draw in this order: cell rasters, curves (as
+/// listed), clouds (as listed), marks, then labels of marks.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Scene {
     /// The headline: the session's title, or what the figure shows.
@@ -425,6 +449,8 @@ pub struct Scene {
     pub clouds: Vec<Cloud>,
     pub colour_scale: Option<ColourScale>,
     pub legend: Vec<LegendEntry>,
+    /// Filled cell rasters under the curves (safe-basin masks).
+    pub rasters: Vec<CellRaster>,
 }
 
 /// Arrows per orbit, spread evenly along its length.
@@ -526,6 +552,7 @@ impl Scene {
             clouds: Vec::new(),
             colour_scale: if hi > lo { Some(scale) } else { None },
             legend,
+            rasters: Vec::new(),
         }
     }
 
@@ -862,6 +889,7 @@ impl Scene {
             clouds: Vec::new(),
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 
@@ -957,6 +985,7 @@ impl Scene {
             clouds: Vec::new(),
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 
@@ -1039,6 +1068,7 @@ impl Scene {
             clouds: Vec::new(),
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 }

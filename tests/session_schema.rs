@@ -739,6 +739,59 @@ fn quantum() -> BoxedStrategy<Value> {
     )
 }
 
+fn basin() -> BoxedStrategy<Value> {
+    let count = |hi: u64| {
+        field(
+            prop_oneof![whole(0, hi), Just(Value::Null)].boxed(),
+            wrong_type(),
+        )
+    };
+    let center = field(
+        prop_oneof![
+            (-3.0..3.0f64, -3.0..3.0f64).prop_map(|(q, p)| json!([q, p])),
+            Just(Value::Null),
+        ]
+        .boxed(),
+        prop_oneof![Just(json!([1.0])), wrong_type()].boxed(),
+    );
+    // the loader refuses from == to, which a schema cannot state: keep them apart
+    let range = prop_oneof![
+        (-1.0..1.0f64, prop_oneof![0.01..2.0f64, -2.0..-0.01f64])
+            .prop_map(|(a, d)| (Some(json!(a)), Some(json!(a + d)))),
+        (-1.0..1.0f64).prop_map(|a| (Some(json!(a)), None)),
+        (-1.0..1.0f64).prop_map(|a| (None, Some(json!(a)))),
+        Just((None, None)),
+        wrong_type().prop_map(|w| (Some(w), None)),
+    ];
+    field(
+        (
+            optional(count(2000)),
+            optional(count(200_000)),
+            optional(center),
+            range,
+            optional(count(2000)),
+        )
+            .prop_map(|(lattice, periods, center, (from, to), values)| {
+                let mut m = Map::new();
+                for (k, v) in [
+                    ("lattice", lattice),
+                    ("periods", periods),
+                    ("center", center),
+                    ("from", from),
+                    ("to", to),
+                    ("values", values),
+                ] {
+                    if let Some(v) = v {
+                        m.insert(k.into(), v);
+                    }
+                }
+                Value::Object(m)
+            })
+            .boxed(),
+        wrong_type(),
+    )
+}
+
 fn session_value() -> impl Strategy<Value = Value> {
     let format = field(
         Just(json!("phasewright-session")).boxed(),
@@ -781,6 +834,7 @@ fn session_value() -> impl Strategy<Value = Value> {
         optional(backbone()),
         optional(drive()),
         optional(quantum()),
+        optional(basin()),
     );
     (head, body).prop_map(|(h, b)| {
         let mut m = Map::new();
@@ -799,6 +853,7 @@ fn session_value() -> impl Strategy<Value = Value> {
             ("backbone", b.7),
             ("drive", b.8),
             ("quantum", b.9),
+            ("basin", b.10),
         ];
         for (k, v) in fields {
             if let Some(v) = v {

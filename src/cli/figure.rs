@@ -21,6 +21,10 @@ pub enum FigureView {
     Section,
     /// The Melnikov function over one drive period, its zeros and threshold (the session's drive, or --period …).
     Melnikov,
+    /// The safe basins of the wells under the session's drive (its basin section).
+    Basin,
+    /// The integrity of the safe basins against the drive amplitude, with the Melnikov threshold.
+    Erosion,
 }
 
 /// Which relation a backbone figure plots.
@@ -98,6 +102,8 @@ impl FigureView {
             FigureView::Levels => View::Levels,
             FigureView::Section => View::Section,
             FigureView::Melnikov => View::Melnikov,
+            FigureView::Basin => View::Basin,
+            FigureView::Erosion => View::Erosion,
             FigureView::Backbone => View::Backbone(match plot {
                 PlotArg::PeriodEnergy => BackbonePlot::PeriodEnergy,
                 PlotArg::FrequencyAmplitude => BackbonePlot::FrequencyAmplitude,
@@ -146,6 +152,8 @@ pub fn run_render(args: &RenderArgs) -> Result<String, CliError> {
         View::Portrait => "--figure portrait".to_string(),
         View::Section => "--figure section".to_string(),
         View::Melnikov => "--figure melnikov".to_string(),
+        View::Basin => "--figure basin".to_string(),
+        View::Erosion => "--figure erosion".to_string(),
     };
     print_warnings(&r.warnings);
     let data = compute(&r, &command, |s, sys, w, c| {

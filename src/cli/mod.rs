@@ -9,6 +9,7 @@
 //! `text` (plain-text output) shared by them.
 
 mod analyze;
+mod basin;
 mod diagrams;
 mod drive;
 mod figure;
@@ -19,6 +20,7 @@ mod system;
 mod text;
 
 pub use analyze::*;
+pub use basin::{BasinArgs, BasinFlags, ErosionArgs, run_basin, run_erosion};
 pub use diagrams::*;
 pub use drive::*;
 pub use figure::*;
@@ -89,6 +91,12 @@ pub enum Command {
     Melnikov(MelnikovArgs),
     /// The stroboscopic section of a driven H: the state every drive period from each start.
     Section(SectionArgs),
+    /// The safe basin of each well under the drive: the starts that stay in
+    /// the well for N drive periods, the safe area and the integrity measures.
+    Basin(BasinArgs),
+    /// The integrity measures of the safe basins against the drive
+    /// amplitude, with the Melnikov threshold.
+    Erosion(ErosionArgs),
     /// Draw a figure (SVG or PNG by the output's extension).
     Render(RenderArgs),
 }
@@ -128,6 +136,8 @@ pub fn run(command: &Command) -> Result<String, CliError> {
         Command::Levels(args) => run_levels(args),
         Command::Melnikov(args) => run_melnikov(args),
         Command::Section(args) => run_section(args),
+        Command::Basin(args) => run_basin(args),
+        Command::Erosion(args) => run_erosion(args),
         Command::Render(args) => run_render(args),
         Command::Open { .. } => Err(CliError(
             "`open` starts the desktop explorer; it has no text output".to_string(),

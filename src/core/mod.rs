@@ -2,6 +2,7 @@
 //! crate, the command-line parser, or the file system (tests/architecture.rs checks).
 pub mod analysis;
 pub mod backbone;
+pub mod basin;
 pub mod continuation;
 pub mod contour;
 pub mod equilibria;

@@ -11,6 +11,7 @@ pub use svg::{FigureSize, to_svg};
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, analyze};
 use crate::core::backbone::Backbone;
+use crate::core::basin::{Basin, Erosion};
 use crate::core::continuation::Sweep;
 use crate::core::folds::FoldCurves;
 use crate::core::melnikov::Melnikov;
@@ -20,7 +21,7 @@ use crate::core::system::System;
 use crate::core::window::Window;
 use crate::numbers;
 use crate::request::{
-    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, Overrides,
+    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, Overrides,
     SectionRequest, SweepRequest, centers_and_degenerate_in_view, centers_in_view,
     seeded_orbit_request, undriven, undriven_analysis,
 };
@@ -152,6 +153,12 @@ pub enum View {
     Section,
     /// The Melnikov function over one drive period (the session's `drive`).
     Melnikov,
+    /// The safe basins of the wells under the drive (the session's `drive`
+    /// and `basin`).
+    Basin,
+    /// The integrity measures against the drive amplitude, with the
+    /// Melnikov threshold.
+    Erosion,
 }
 
 impl View {
@@ -165,6 +172,8 @@ impl View {
             View::Levels => "levels",
             View::Section => "section",
             View::Melnikov => "melnikov",
+            View::Basin => "basin",
+            View::Erosion => "erosion",
         }
     }
 }
@@ -179,6 +188,8 @@ pub enum ViewData {
     Levels(LevelsResult),
     Section(SectionData),
     Melnikov(Melnikov),
+    Basin(BasinData),
+    Erosion(Erosion),
 }
 
 /// What a section figure is made from: the section, the analysis of the
@@ -189,6 +200,14 @@ pub struct SectionData {
     pub section: Section,
     pub undriven: Option<Analysis>,
     pub colours: Vec<Option<Rgb>>,
+}
+
+/// A safe basin with the undriven separatrices drawn behind it.
+#[derive(Clone, Debug)]
+pub struct BasinData {
+    pub basin: Basin,
+    /// The separatrix polylines of H₀ over the window.
+    pub separatrices: Vec<Vec<[f64; 2]>>,
 }
 
 /// Why a view could not be made.
@@ -250,6 +269,41 @@ pub fn view_data(
         View::Levels => ViewData::Levels(levels_of(session, sys, window, cancel)?),
         View::Section => ViewData::Section(section_of(session, sys, window, &[], cancel)?),
         View::Melnikov => ViewData::Melnikov(melnikov_of(session, sys, window, cancel)?),
+        View::Basin => {
+            let request = BasinRequest::from_session(session, sys).map_err(refused(view))?;
+            ViewData::Basin(basin_data(session, sys, &request, cancel, &|_, _| {})?)
+        }
+        View::Erosion => ViewData::Erosion(
+            ErosionRequest::from_session(session, sys)
+                .and_then(|r| r.run(sys, cancel, &|_, _| {}))
+                .map_err(refused(view))?,
+        ),
+    })
+}
+
+/// The safe basin `request` asks for, with the separatrices of H₀ (from
+/// the portrait's analysis of H₀ over the request's window).
+pub fn basin_data(
+    session: &Session,
+    sys: &System,
+    request: &BasinRequest,
+    cancel: &Cancel,
+    progress: &(dyn Fn(usize, usize) + Sync),
+) -> Result<BasinData, ViewError> {
+    let basin = request
+        .run(sys, cancel, progress)
+        .map_err(refused(View::Basin))?;
+    let h0 = request.undriven(sys).map_err(refused(View::Basin))?;
+    let a = analyze(&h0, &request.window, &session.analysis_config(), cancel);
+    let separatrices = a
+        .curves
+        .iter()
+        .filter(|c| c.is_separatrix)
+        .map(|c| c.points.clone())
+        .collect();
+    Ok(BasinData {
+        basin,
+        separatrices,
     })
 }
 
@@ -469,6 +523,8 @@ pub fn view_scene(session: &Session, sys: &System, data: &ViewData, view: View) 
             &d.colours,
         ),
         ViewData::Melnikov(m) => Scene::melnikov(sys, m),
+        ViewData::Basin(b) => Scene::basin(sys, &b.basin, &b.separatrices),
+        ViewData::Erosion(e) => Scene::erosion(sys, e, value(&e.amplitude)),
     }
 }
 
@@ -506,6 +562,10 @@ pub fn view_table(sys: &System, data: &ViewData, which: PortraitTable) -> Table 
         ViewData::Levels(l) => table::levels_table(l).with_parameters(&params),
         ViewData::Section(d) => table::section_table(&d.section).with_parameters(&params),
         ViewData::Melnikov(m) => table::melnikov_table(m).with_parameters(&params),
+        ViewData::Basin(b) => table::basin_table(&b.basin).with_parameters(&params),
+        ViewData::Erosion(e) => {
+            table::erosion_table(e).with_parameters(&others(&params, &[&e.amplitude]))
+        }
     }
 }
 

@@ -5,7 +5,7 @@
 
 use crate::numbers::{coordinate as num, tick as tick_label};
 use crate::scene::{
-    Arrow, Cloud, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape,
+    Arrow, CellRaster, Cloud, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape,
     MarkerStyle, PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
 };
 use std::fmt::Write;
@@ -165,6 +165,9 @@ pub fn to_svg(scene: &Scene, size: FigureSize) -> String {
         out,
         r#"<g clip-path="url(#plot-area)" fill="none" stroke-linejoin="round" stroke-linecap="round">"#
     );
+    for r in &scene.rasters {
+        write_raster(&mut out, scene, &l, r);
+    }
     for c in &scene.curves {
         write_curve(&mut out, scene, &l, c);
     }
@@ -310,6 +313,45 @@ fn path_data(scene: &Scene, l: &Layout, points: &[[f64; 2]], closed: bool) -> St
         d.push('Z');
     }
     d
+}
+
+/// A cell raster as one filled rectangle per run of equal cells in a row.
+fn write_raster(out: &mut String, scene: &Scene, l: &Layout, r: &CellRaster) {
+    let _ = writeln!(out, r#"<g class="cells" stroke="none">"#);
+    for j in 0..r.rows {
+        let row = &r.fills[(j * r.columns).min(r.fills.len())..((j + 1) * r.columns).min(r.fills.len())];
+        let mut i = 0;
+        while i < row.len() {
+            let Some(colour) = row[i] else {
+                i += 1;
+                continue;
+            };
+            let start = i;
+            while i < row.len() && row[i] == Some(colour) {
+                i += 1;
+            }
+            let (q0, q1) = (
+                r.origin[0] + start as f64 * r.cell[0],
+                r.origin[0] + i as f64 * r.cell[0],
+            );
+            let (p0, p1) = (
+                r.origin[1] + j as f64 * r.cell[1],
+                r.origin[1] + (j + 1) as f64 * r.cell[1],
+            );
+            let (x0, x1) = (l.px(scene, q0), l.px(scene, q1));
+            let (y0, y1) = (l.py(scene, p1), l.py(scene, p0));
+            let _ = writeln!(
+                out,
+                r#"<rect x="{}" y="{}" width="{}" height="{}" fill="{}"/>"#,
+                num(x0),
+                num(y0),
+                num(x1 - x0),
+                num(y1 - y0),
+                colour.hex()
+            );
+        }
+    }
+    let _ = writeln!(out, "</g>");
 }
 
 fn write_curve(out: &mut String, scene: &Scene, l: &Layout, c: &Curve) {

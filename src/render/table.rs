@@ -5,6 +5,7 @@
 //! empty CSV field and a JSON null.
 
 use crate::core::backbone::Backbone;
+use crate::core::basin::{Basin, Erosion};
 use crate::core::continuation::Sweep;
 use crate::core::equilibria::{DegenerateShape, Equilibrium};
 use crate::core::folds::FoldCurves;
@@ -476,6 +477,66 @@ pub fn section_table(s: &Section) -> Table {
                 Cell::Integer(k as i64),
                 pt[0].into(),
                 pt[1].into(),
+            ]);
+        }
+    }
+    t
+}
+
+/// A safe basin's mask: one row per lattice start (q fastest, rows of p
+/// from the bottom), the well it started in (empty when in none), the drive
+/// periods it stayed there and whether it is safe (stayed them all).
+pub fn basin_table(b: &Basin) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("q"),
+        Column::plain("p"),
+        Column::new("well", "well"),
+        Column::new("stayed", "drive periods stayed"),
+        Column::new("safe", "safe (1) or not (0)"),
+    ]);
+    for c in 0..b.lattice * b.lattice {
+        let x = b.cell_centre(c);
+        let found = b
+            .wells
+            .iter()
+            .enumerate()
+            .find_map(|(k, w)| w.stayed.get(c).copied().flatten().map(|s| (k, s)));
+        let (well, stayed, safe) = match found {
+            Some((k, s)) => (
+                Cell::from(k + 1),
+                Cell::from(s as usize),
+                Cell::Integer(i64::from(s as usize == b.periods)),
+            ),
+            None => (Cell::Empty, Cell::Empty, Cell::Integer(0)),
+        };
+        t.push(vec![x[0].into(), x[1].into(), well, stayed, safe]);
+    }
+    t
+}
+
+/// An erosion curve: one row per amplitude and well.
+pub fn erosion_table(e: &Erosion) -> Table {
+    let mut t = Table::new(vec![
+        Column::plain("amplitude"),
+        Column::new("well", "well"),
+        Column::new("center_q", "center q"),
+        Column::new("center_p", "center p"),
+        Column::new("integrity", "global integrity"),
+        Column::new("local_integrity", "local integrity"),
+        Column::new("safe_area", "safe area"),
+        Column::new("reference_area", "undriven area"),
+    ]);
+    for p in &e.points {
+        for (k, c) in e.centers.iter().enumerate() {
+            t.push(vec![
+                p.amplitude.into(),
+                Cell::from(k + 1),
+                c[0].into(),
+                c[1].into(),
+                p.integrity.get(k).copied().into(),
+                p.local_integrity.get(k).copied().into(),
+                p.safe_area.get(k).copied().into(),
+                e.reference_area.get(k).copied().into(),
             ]);
         }
     }

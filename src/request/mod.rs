@@ -34,8 +34,10 @@
 //! A request is plain data compared by value: the explorer reruns a pane's job
 //! only when its request changes.
 
+mod basin;
 mod drive;
 
+pub use basin::{BasinRequest, ErosionRequest};
 pub use drive::{
     MelnikovRequest, SectionRequest, amplitude_parameter, undriven, undriven_analysis,
     undriven_analysis_of,

@@ -90,6 +90,7 @@ impl Scene {
             clouds: Vec::new(),
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 

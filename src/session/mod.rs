@@ -3,10 +3,12 @@
 //! loader validates every field and names the field and the problem, and
 //! `save_atomic` replaces a file so that a failed save never destroys the old one.
 
+pub mod basin;
 pub mod drive;
 mod expression;
 mod quantum;
 
+pub use basin::BasinSettings;
 pub use drive::{Drive, DriveSettings};
 pub use quantum::QuantumSettings;
 
@@ -105,6 +107,10 @@ pub struct Session {
     /// Planck's constant for the semiclassical levels of each well, if set.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub quantum: Option<QuantumSettings>,
+    /// How the safe basins of the wells under the drive are computed, if
+    /// set (see [`basin`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub basin: Option<BasinSettings>,
 }
 
 /// The sweep of one parameter: which, over what range, how finely.
@@ -315,6 +321,14 @@ fn field_template() -> serde_json::Value {
     s.quantum = Some(QuantumSettings {
         hbar: String::new(),
         on_portrait: false,
+    });
+    s.basin = Some(BasinSettings {
+        lattice: Some(1),
+        periods: Some(1),
+        center: Some([0.0, 0.0]),
+        from: Some(0.0),
+        to: Some(1.0),
+        values: Some(2),
     });
     let mut known = serde_json::to_value(&s).unwrap_or(serde_json::Value::Null);
     // older names still read (serde aliases)
@@ -584,6 +598,7 @@ impl Session {
             backbone: None,
             drive: None,
             quantum: None,
+            basin: None,
         }
     }
 
@@ -645,6 +660,7 @@ impl Session {
         self.validate_folds(&formula, &mut warnings)?;
         self.validate_backbone(&mut warnings)?;
         self.validate_drive(&formula, &mut warnings)?;
+        self.validate_basin(&mut warnings)?;
         self.hbar()?;
         Ok(warnings)
     }
