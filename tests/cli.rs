@@ -149,7 +149,7 @@ fn a_bad_session_file_exits_2_naming_the_field() {
         assert_eq!(o.status.code(), Some(2), "{cmd}");
         let err = stderr(&o);
         assert!(err.contains("bad.json"), "{err}");
-        assert!(err.contains("view.qmin"), "{err}");
+        assert!(err.contains("window.qmin"), "{err}");
     }
 }
 

@@ -214,7 +214,7 @@ fn non_finite_values_built_in_code_are_refused_by_validate() {
     assert_eq!(e.field, "parameters[1].value");
     s = Session::from_json(GOOD).expect("loads");
     s.view.pmax = f64::INFINITY;
-    assert_eq!(s.validate().expect_err("inf").field, "view.pmax");
+    assert_eq!(s.validate().expect_err("inf").field, "window.pmax");
     let mut s = Session::from_json(GOOD).expect("loads");
     s.orbits[0].duration = f64::NAN;
     assert_eq!(s.validate().expect_err("NaN").field, "orbits[0].duration");
@@ -228,10 +228,10 @@ fn window_min_not_below_max_is_refused() {
     ));
     assert_eq!(
         e.to_string(),
-        "field `view.qmin`: must be less than qmax (7 ≥ 7)"
+        "field `window.qmin`: must be less than qmax (7 ≥ 7)"
     );
     let e = error_of(&bad(r#""pmin": -3.0"#, r#""pmin": 4.0"#));
-    assert_eq!(e.field, "view.pmin");
+    assert_eq!(e.field, "window.pmin");
 }
 
 #[test]

@@ -196,7 +196,7 @@ fn edge_diagnostic(wells: &[Well]) -> Option<Diagnostic> {
     };
     Some(Diagnostic::info(format!(
         "the well around the center at (q = {:.6}, p = {:.6}) reaches the window edge at \
-         H = {edge:.6}, below its escape energy {escape:.6}{others}; widen the view to see \
+         E = {edge:.6}, below its escape energy {escape:.6}{others}; widen the window to see \
          whole wells",
         first.q, first.p
     )))
