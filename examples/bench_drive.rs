@@ -170,8 +170,13 @@ fn main() {
          a start dropped once it leaves 0 < q < 2.5, |p| < 2"
     );
     let mut basin_rows = Vec::new();
-    for steps in [16usize, 32] {
-        let cfg = config(60, 0.25, Method::Nystrom6, Some(steps));
+    for (method, steps) in [
+        (Method::Nystrom6, 16usize),
+        (Method::Nystrom6, 8),
+        (Method::Nystrom4, 8),
+        (Method::Nystrom4, 6),
+    ] {
+        let cfg = config(60, 0.25, method, Some(steps));
         let mut stayed = 0;
         let t = time_ms(3, || {
             let s = strobe_runs(
@@ -191,7 +196,7 @@ fn main() {
         });
         // the undriven, undamped energy error over every period's point of
         // the starts while they stay in the box (in recorded pieces)
-        let free_cfg = config(60, 0.0, Method::Nystrom6, Some(steps));
+        let free_cfg = config(60, 0.0, method, Some(steps));
         let recorded = Strobe {
             stays: &in_box,
             record: true,
@@ -203,11 +208,12 @@ fn main() {
             err = err.max(energy_error(&free, &s.orbits));
         }
         let throughput = (n * n * 60) as f64 / (t.median / 1e3);
+        let label = format!("{:<9} {steps:>3} steps/period", method.name());
         println!(
-            "  nystrom6 {steps:>3} steps/period: {t}   {throughput:.3e} starts x periods/s, \
+            "  {label}: {t}   {throughput:.3e} starts x periods/s, \
              {stayed} stayed; undriven energy error {err:.2e}"
         );
-        basin_rows.push((steps, t.median, throughput, err));
+        basin_rows.push((label, t.median, throughput, err));
     }
 
     // Melnikov threshold of the driven double well (δ = 0.25)
@@ -289,9 +295,9 @@ fn main() {
             peer.label,
             peer.get("stayed").unwrap_or(f64::NAN)
         );
-        for (steps, ours_ms, ours, e) in &basin_rows {
+        for (label, ours_ms, ours, e) in &basin_rows {
             println!(
-                "  nystrom6 {steps:>3} steps/period ({ours_ms:.1} ms): {:6.1}x the peer's throughput, \
+                "  {label} ({ours_ms:.1} ms): {:6.1}x the peer's throughput, \
                  energy error {} the peer's",
                 ours / rate,
                 if *e <= err { "at or below" } else { "ABOVE" }

@@ -49,7 +49,12 @@ impl MelnikovRequest {
             amplitude,
             period: drive.period,
             damping: drive.damping,
-            analysis: session.analysis_config(),
+            // the connections need the equilibria and the saddle levels, not
+            // the evenly spaced level curves a portrait draws
+            analysis: AnalysisConfig {
+                levels: 0,
+                ..session.analysis_config()
+            },
         })
     }
 
