@@ -301,7 +301,9 @@ pub enum MarkRole {
     /// A cusp of a fold curve in the parameter plane.
     Cusp,
     /// The label of quantized orbit n on a portrait.
-    QuantumLevel { n: usize },
+    QuantumLevel {
+        n: usize,
+    },
 }
 
 /// One point mark, optionally labelled.

@@ -7,8 +7,8 @@
 use crate::numbers;
 use crate::session::{Parameter, Session};
 
-use super::views_panel::PaneSettings;
 use super::Command;
+use super::views_panel::PaneSettings;
 
 /// Accessible name of the ħ expression field.
 pub const HBAR_LABEL: &str = "hbar expression";
