@@ -345,7 +345,9 @@ pub enum MarkRole {
     /// A simple zero of a function drawn on the figure (the Melnikov function's).
     Zero,
     /// The label of quantized orbit n on a portrait.
-    QuantumLevel { n: usize },
+    QuantumLevel {
+        n: usize,
+    },
 }
 
 /// One point mark, optionally labelled.

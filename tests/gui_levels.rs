@@ -49,12 +49,19 @@ fn the_bond_shows_its_quantized_orbits_and_their_switch_is_saved_and_undone() {
     let w = &levels.wells[0];
     assert_eq!(w.count, expected);
     assert_eq!(w.curves.len(), w.levels.len());
-    assert!(w.curves.iter().all(|c| c.len() > 100 && c.first() == c.last()));
+    assert!(
+        w.curves
+            .iter()
+            .all(|c| c.len() > 100 && c.first() == c.last())
+    );
     // The table lists every level, n from 0, E₀ − E₀ = 0.
     let rows = level_rows(w);
     assert_eq!(rows.len(), expected);
     assert_eq!(rows[0][0], "0");
-    assert_eq!(rows[0][2].trim_start_matches('-').trim_matches(['0', '.']), "");
+    assert_eq!(
+        rows[0][2].trim_start_matches('-').trim_matches(['0', '.']),
+        ""
+    );
 
     // The switch above the plot turns them off: a saved, undoable edit.
     assert!(h.state().doc.session.levels_on_portrait());

@@ -719,7 +719,12 @@ fn drive() -> BoxedStrategy<Value> {
 /// the quantized orbits.
 fn quantum() -> BoxedStrategy<Value> {
     let hbar = field(
-        prop_oneof![Just(json!("0.1")), Just(json!("0.05*2")), Just(json!("1e-3"))].boxed(),
+        prop_oneof![
+            Just(json!("0.1")),
+            Just(json!("0.05*2")),
+            Just(json!("1e-3"))
+        ]
+        .boxed(),
         wrong_type(),
     );
     let on = field(any::<bool>().prop_map(|b| json!(b)).boxed(), wrong_type());

@@ -683,7 +683,12 @@ impl<'a> WellOrbits<'a> {
         if !self.quadratic {
             let mut out = Vec::with_capacity(points + 2);
             if w.omega0 > 0.0 {
-                w.orbit_path(depth, self.limits, self.max_orbit_steps, Some((&mut out, points)))?;
+                w.orbit_path(
+                    depth,
+                    self.limits,
+                    self.max_orbit_steps,
+                    Some((&mut out, points)),
+                )?;
             }
             return (out.len() >= 3).then_some(out);
         }
@@ -1027,9 +1032,9 @@ impl Well<'_> {
         let mut t = 0.0;
         let (mut qmin, mut qmax) = (q0, q0);
         let mut prev = [start, start];
-        let every = record
-            .as_ref()
-            .map_or(usize::MAX, |r| (ORBIT_STEPS_PER_PERIOD as usize / r.1.max(1)).max(1));
+        let every = record.as_ref().map_or(usize::MAX, |r| {
+            (ORBIT_STEPS_PER_PERIOD as usize / r.1.max(1)).max(1)
+        });
         for step in 0..max_steps {
             if step % every == 0
                 && let Some((out, _)) = record.as_mut()

@@ -38,8 +38,8 @@ pub use dialogs::CAUTION;
 pub use document::Document;
 pub use files::{DATA_DIR_ENV, EXAMPLES, NO_NATIVE_DIALOG_ENV};
 pub use formula_panel::EDITOR_LABEL;
-pub use plot_panel::PLOT_LABEL;
 pub use params_panel::HBAR_LABEL;
+pub use plot_panel::PLOT_LABEL;
 pub use tables_panel::{equilibrium_rows, level_rows, orbit_row, well_levels_summary, well_rows};
 pub use views_panel::{
     BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, MELNIKOV_LABEL, PaneRequests,

@@ -8,8 +8,8 @@
 use crate::numbers;
 use crate::session::{DriveSettings, Parameter, Session};
 
-use super::views_panel::PaneSettings;
 use super::Command;
+use super::views_panel::PaneSettings;
 
 /// A value marked on a parameter's slider with a dashed line, and a
 /// caption under it (the drive amplitude's Melnikov threshold).

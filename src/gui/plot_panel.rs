@@ -280,7 +280,14 @@ impl PlotPanel {
         let mut plot_rect = None;
         let overlay = self.overlay_shown().then_some(&self.overlay.scene);
         let legend: Vec<LegendEntry> = match overlay {
-            Some(o) => self.cache.scene.legend.iter().chain(&o.legend).cloned().collect(),
+            Some(o) => self
+                .cache
+                .scene
+                .legend
+                .iter()
+                .chain(&o.legend)
+                .cloned()
+                .collect(),
             None => Vec::new(),
         };
         ui.horizontal_top(|ui| {

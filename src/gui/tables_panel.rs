@@ -6,8 +6,8 @@
 use crate::core::analysis::Analysis;
 use crate::core::equilibria::Equilibrium;
 use crate::core::levels::WellLevels;
-use crate::request::LevelsResult;
 use crate::numbers::fixed;
+use crate::request::LevelsResult;
 use crate::session::SeededOrbit;
 use std::sync::Arc;
 
@@ -96,7 +96,10 @@ pub fn level_rows(w: &WellLevels) -> Vec<[String; 4]> {
 pub fn well_levels_summary(w: &WellLevels) -> Vec<String> {
     let top = match w.escape_energy {
         Some(e) => format!("the escape energy {}", fixed(e, 6)),
-        None => format!("{} (where the well leaves the view)", fixed(w.top_energy, 6)),
+        None => format!(
+            "{} (where the well leaves the view)",
+            fixed(w.top_energy, 6)
+        ),
     };
     let mut lines = vec![format!(
         "Well at ({}, {}): {} bound level{} below {top}",

@@ -376,7 +376,9 @@ impl ViewsPanel {
     /// or the view is dragged when the quantized orbits are on the portrait
     /// (they follow the drag; the job takes a millisecond or two).
     fn submit_levels_if_changed(&mut self, inp: &Inputs, sys: &System) {
-        if inp.dragging && !inp.session.levels_on_portrait() {
+        // While dragging, one levels job at a time: the newest values wait
+        // for the running job instead of cancelling it every frame.
+        if inp.dragging && (!inp.session.levels_on_portrait() || self.pending(ViewKind::Levels)) {
             return;
         }
         let i = ViewKind::Levels.index();
