@@ -31,6 +31,8 @@ fn driven(extra: &[&str]) -> Vec<String> {
         "2*pi/W",
         "--damping",
         "0.088",
+        "--amplitude",
+        "F",
         "--window",
         "-1.9,1.9,-1.2,1.2",
     ]
@@ -134,11 +136,21 @@ fn erosion_text_json_and_figure() {
 fn render_basin_and_bad_flags() {
     let dir = tempfile::tempdir().unwrap();
     let png = dir.path().join("basin.png");
-    let session = concat!(env!("CARGO_MANIFEST_DIR"), "/sessions/driven-resonator.json");
+    // the example session on a small lattice (its 200 × 200 is benchmark work)
+    let example = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/sessions/driven-resonator.json"
+    ))
+    .unwrap();
+    let mut v: serde_json::Value = serde_json::from_str(&example).unwrap();
+    v["basin"]["lattice"] = serde_json::json!(24);
+    v["basin"]["periods"] = serde_json::json!(5);
+    let session = dir.path().join("small.json");
+    std::fs::write(&session, v.to_string()).unwrap();
     let svg = dir.path().join("basin.svg");
     let o = run(&[
         "render",
-        session,
+        session.to_str().unwrap(),
         "--view",
         "basin",
         "--set",
