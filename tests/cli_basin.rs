@@ -85,7 +85,11 @@ fn basin_csv_is_the_mask() {
     let header = lines.next().unwrap();
     assert!(header.starts_with("q,p,well"), "{header}");
     let rows: Vec<Vec<f64>> = lines
-        .map(|l| l.split(',').map(|c| c.parse().unwrap_or(f64::NAN)).collect())
+        .map(|l| {
+            l.split(',')
+                .map(|c| c.parse().unwrap_or(f64::NAN))
+                .collect()
+        })
         .collect();
     assert_eq!(rows.len(), 400);
     for r in &rows {
@@ -103,7 +107,17 @@ fn basin_csv_is_the_mask() {
 fn erosion_text_json_and_figure() {
     let dir = tempfile::tempdir().unwrap();
     let args = driven(&[
-        "--param", "F", "--from", "0", "--to", "0.3", "--values", "4", "--grid", "30", "--periods",
+        "--param",
+        "F",
+        "--from",
+        "0",
+        "--to",
+        "0.3",
+        "--values",
+        "4",
+        "--grid",
+        "30",
+        "--periods",
         "20",
     ]);
     let mut json = args.clone();
@@ -164,7 +178,14 @@ fn render_basin_and_bad_flags() {
     assert!(body.contains("separatrix"), "separatrix behind");
     let o = run_with(
         "basin",
-        &driven(&["--grid", "24", "--periods", "4", "-o", png.to_str().unwrap()]),
+        &driven(&[
+            "--grid",
+            "24",
+            "--periods",
+            "4",
+            "-o",
+            png.to_str().unwrap(),
+        ]),
     );
     assert!(o.status.success(), "{}", stderr(&o));
     assert!(std::fs::metadata(&png).unwrap().len() > 1000);

@@ -19,8 +19,8 @@ use crate::core::system::System;
 use crate::core::window::Window;
 use crate::numbers;
 use crate::request::{
-    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult, Overrides, SweepRequest,
-    centers_and_degenerate_in_view, centers_in_view, seeded_orbit_request,
+    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult,
+    Overrides, SweepRequest, centers_and_degenerate_in_view, centers_in_view, seeded_orbit_request,
 };
 use crate::scene::{BackbonePlot, Rgb, Scene};
 use crate::session::Session;

@@ -5,8 +5,8 @@
 
 use crate::numbers::{coordinate as num, tick as tick_label};
 use crate::scene::{
-    Arrow, CellRaster, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape, MarkerStyle,
-    PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
+    Arrow, CellRaster, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape,
+    MarkerStyle, PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
 };
 use std::fmt::Write;
 
@@ -316,7 +316,8 @@ fn path_data(scene: &Scene, l: &Layout, points: &[[f64; 2]], closed: bool) -> St
 fn write_raster(out: &mut String, scene: &Scene, l: &Layout, r: &CellRaster) {
     let _ = writeln!(out, r#"<g class="cells" stroke="none">"#);
     for j in 0..r.rows {
-        let row = &r.fills[(j * r.columns).min(r.fills.len())..((j + 1) * r.columns).min(r.fills.len())];
+        let row =
+            &r.fills[(j * r.columns).min(r.fills.len())..((j + 1) * r.columns).min(r.fills.len())];
         let mut i = 0;
         while i < row.len() {
             let Some(colour) = row[i] else {
