@@ -32,7 +32,11 @@ fn peer(script: &str, args: &[String]) -> Option<HashMap<String, f64>> {
     if std::env::var_os("PHASEWRIGHT_BENCH_NO_PYTHON").is_some() || !Path::new(script).exists() {
         return None;
     }
-    let out = Command::new("python3").arg(script).args(args).output().ok()?;
+    let out = Command::new("python3")
+        .arg(script)
+        .args(args)
+        .output()
+        .ok()?;
     if !out.status.success() {
         eprintln!(
             "peer {script} failed: {}",
@@ -69,7 +73,16 @@ fn main() {
     for f in [0.05, 0.25] {
         let s = sys.with_param(k, f);
         let t0 = Instant::now();
-        let b = basin(&s, &h0, &regions, &window, &cfg, &Cancel::never(), &|_, _| {}).unwrap();
+        let b = basin(
+            &s,
+            &h0,
+            &regions,
+            &window,
+            &cfg,
+            &Cancel::never(),
+            &|_, _| {},
+        )
+        .unwrap();
         let secs = t0.elapsed().as_secs_f64();
         steps = b.steps_per_period;
         let starts: usize = b.wells.iter().map(|w| w.starts).sum();
@@ -141,14 +154,26 @@ fn main() {
             err = err.max((e1 - e0).abs() / e0.abs().max(1.0));
         }
     }
-    println!("undriven, undamped, 60 periods at {steps} steps/period: max relative energy error {err:.3e}");
+    println!(
+        "undriven, undamped, 60 periods at {steps} steps/period: max relative energy error {err:.3e}"
+    );
 
     // the erosion curve
     let mut ec = cfg.clone();
     ec.lattice = 100;
     let amps = amplitude_range(0.0, 0.4, 40);
     let t0 = Instant::now();
-    let e = erosion(&sys, k, &amps, &regions, &window, &ec, &Cancel::never(), &|_, _| {}).unwrap();
+    let e = erosion(
+        &sys,
+        k,
+        &amps,
+        &regions,
+        &window,
+        &ec,
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .unwrap();
     let secs = t0.elapsed().as_secs_f64();
     println!(
         "erosion: 40 amplitudes F in [0, 0.4], 100x100 x 60 periods each, in {secs:.2} s ({} steps/period)",
@@ -178,7 +203,10 @@ fn main() {
         v.extend(extra.iter().map(|s| s.to_string()));
         v
     };
-    match peer(&format!("{here}/examples/peers/basin_rk4.py"), &args(0.25, &[])) {
+    match peer(
+        &format!("{here}/examples/peers/basin_rk4.py"),
+        &args(0.25, &[]),
+    ) {
         Some(p) => {
             let rate = p.get("lattice_throughput").copied().unwrap_or(f64::NAN);
             println!(
@@ -190,7 +218,9 @@ fn main() {
                 p.get("starts_in_wells").copied().unwrap_or(f64::NAN),
                 rate,
                 p.get("integrated_throughput").copied().unwrap_or(f64::NAN),
-                p.get("free_max_rel_energy_error").copied().unwrap_or(f64::NAN)
+                p.get("free_max_rel_energy_error")
+                    .copied()
+                    .unwrap_or(f64::NAN)
             );
             println!(
                 "ratio (ours / peer, lattice start-periods per second, F = 0.25): {:.1}x",
@@ -219,7 +249,9 @@ fn main() {
                 "shared peer drive_peer.py (10000 starts x 60 periods, {steps} steps, all kept): \
                  {ms:.0} ms, {rate:.3e} start-periods/s, undriven energy error {:.3e}; \
                  ratio ours (F = 0.25, lattice) / it: {:.1}x",
-                p.get("free_max_rel_energy_error").copied().unwrap_or(f64::NAN),
+                p.get("free_max_rel_energy_error")
+                    .copied()
+                    .unwrap_or(f64::NAN),
                 ours_throughput / rate
             );
         }

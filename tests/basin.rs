@@ -88,7 +88,10 @@ fn undriven_lobe_area_converges_to_four_thirds() {
         assert_eq!(well.safe, well.starts, "n = {n}");
         errors.push(err);
     }
-    assert!(errors[2] < errors[0], "refining reduces the error: {errors:?}");
+    assert!(
+        errors[2] < errors[0],
+        "refining reduces the error: {errors:?}"
+    );
     assert!(errors[2] < 2e-3, "200 × 200: {errors:?}");
 }
 
@@ -159,8 +162,7 @@ fn driven_integrity_erodes_past_the_melnikov_threshold() {
         &|_, _| {},
     )
     .unwrap();
-    let threshold =
-        delta * 4.0 * (PI * wd / 2.0).cosh() / (3.0 * 2f64.sqrt() * PI * wd);
+    let threshold = delta * 4.0 * (PI * wd / 2.0).cosh() / (3.0 * 2f64.sqrt() * PI * wd);
     let right = regions.iter().position(|r| r.center[0] > 0.5).unwrap();
     let g: Vec<f64> = e.points.iter().map(|p| p.integrity[right]).collect();
     assert_eq!(g[0], 1.0, "{g:?}");
@@ -208,7 +210,10 @@ fn basin_is_the_same_on_one_thread_and_on_all() {
         .unwrap()
         .install(run);
     assert_eq!(one, all);
-    assert!(one.wells.iter().any(|w| w.safe < w.starts), "some erosion at F = 0.2");
+    assert!(
+        one.wells.iter().any(|w| w.safe < w.starts),
+        "some erosion at F = 0.2"
+    );
 }
 
 /// Cancel stops the run and says so; the lattice and periods are checked.

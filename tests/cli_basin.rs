@@ -31,6 +31,8 @@ fn driven(extra: &[&str]) -> Vec<String> {
         "2*pi/W",
         "--damping",
         "0.088",
+        "--amplitude",
+        "F",
         "--window",
         "-1.9,1.9,-1.2,1.2",
     ]
@@ -83,7 +85,11 @@ fn basin_csv_is_the_mask() {
     let header = lines.next().unwrap();
     assert!(header.starts_with("q,p,well"), "{header}");
     let rows: Vec<Vec<f64>> = lines
-        .map(|l| l.split(',').map(|c| c.parse().unwrap_or(f64::NAN)).collect())
+        .map(|l| {
+            l.split(',')
+                .map(|c| c.parse().unwrap_or(f64::NAN))
+                .collect()
+        })
         .collect();
     assert_eq!(rows.len(), 400);
     for r in &rows {
@@ -101,7 +107,17 @@ fn basin_csv_is_the_mask() {
 fn erosion_text_json_and_figure() {
     let dir = tempfile::tempdir().unwrap();
     let args = driven(&[
-        "--param", "F", "--from", "0", "--to", "0.3", "--values", "4", "--grid", "30", "--periods",
+        "--param",
+        "F",
+        "--from",
+        "0",
+        "--to",
+        "0.3",
+        "--values",
+        "4",
+        "--grid",
+        "30",
+        "--periods",
         "20",
     ]);
     let mut json = args.clone();
@@ -134,11 +150,21 @@ fn erosion_text_json_and_figure() {
 fn render_basin_and_bad_flags() {
     let dir = tempfile::tempdir().unwrap();
     let png = dir.path().join("basin.png");
-    let session = concat!(env!("CARGO_MANIFEST_DIR"), "/sessions/driven-resonator.json");
+    // the example session on a small lattice (its 200 × 200 is benchmark work)
+    let example = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/sessions/driven-resonator.json"
+    ))
+    .unwrap();
+    let mut v: serde_json::Value = serde_json::from_str(&example).unwrap();
+    v["basin"]["lattice"] = serde_json::json!(24);
+    v["basin"]["periods"] = serde_json::json!(5);
+    let session = dir.path().join("small.json");
+    std::fs::write(&session, v.to_string()).unwrap();
     let svg = dir.path().join("basin.svg");
     let o = run(&[
         "render",
-        session,
+        session.to_str().unwrap(),
         "--view",
         "basin",
         "--set",
@@ -152,7 +178,14 @@ fn render_basin_and_bad_flags() {
     assert!(body.contains("separatrix"), "separatrix behind");
     let o = run_with(
         "basin",
-        &driven(&["--grid", "24", "--periods", "4", "-o", png.to_str().unwrap()]),
+        &driven(&[
+            "--grid",
+            "24",
+            "--periods",
+            "4",
+            "-o",
+            png.to_str().unwrap(),
+        ]),
     );
     assert!(o.status.success(), "{}", stderr(&o));
     assert!(std::fs::metadata(&png).unwrap().len() > 1000);

@@ -143,8 +143,14 @@ pub fn run_basin(args: &BasinArgs) -> Result<String, CliError> {
     let r = resolve_basin(&args.system, &args.drive, &args.basin)?;
     let request = BasinRequest::from_session(&r.session, &r.system)
         .map_err(|e| CliError(format!("basin: {e}")))?;
-    let data = render::basin_data(&r.session, &r.system, &request, &Cancel::never(), &|_, _| {})
-        .map_err(|e| view_error(&e, "basin"))?;
+    let data = render::basin_data(
+        &r.session,
+        &r.system,
+        &request,
+        &Cancel::never(),
+        &|_, _| {},
+    )
+    .map_err(|e| view_error(&e, "basin"))?;
     if args.basin.figure.is_some() {
         return args
             .basin
@@ -235,7 +241,11 @@ fn basin_text(r: &Resolved, b: &Basin) -> String {
         .enumerate()
         .map(|(k, w)| {
             vec![
-                format!("{}{}", k + 1, if w.truncated { " (cut by view)" } else { "" }),
+                format!(
+                    "{}{}",
+                    k + 1,
+                    if w.truncated { " (cut by view)" } else { "" }
+                ),
                 num(w.center[0]),
                 num(w.center[1]),
                 num(w.escape_energy),
@@ -312,7 +322,10 @@ fn erosion_text(r: &Resolved, e: &Erosion) -> String {
             );
         }
         None => {
-            let _ = writeln!(out, "\nNo Melnikov threshold (no separatrix connection found).");
+            let _ = writeln!(
+                out,
+                "\nNo Melnikov threshold (no separatrix connection found)."
+            );
         }
     }
     let _ = writeln!(out, "{CAUTION}");

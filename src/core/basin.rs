@@ -490,8 +490,7 @@ pub fn basin(
     let total: usize = starts.iter().map(Vec::len).sum();
     let done = AtomicUsize::new(0);
     let tick = |k: usize| progress(done.fetch_add(k, Ordering::Relaxed) + k, total);
-    let (stayed, cancelled) =
-        run_wells(sys, regions, &starts, window, cfg, steps, cancel, &tick)?;
+    let (stayed, cancelled) = run_wells(sys, regions, &starts, window, cfg, steps, cancel, &tick)?;
     Ok(Basin {
         window: *window,
         lattice: cfg.lattice,
@@ -573,9 +572,11 @@ pub fn erosion(
     }
     let h0 = sys.with_param(amplitude, 0.0);
     let starts = well_starts(&h0, regions, window, cfg.lattice);
-    let largest = amplitudes.iter().copied().fold(0.0, |m: f64, a| {
-        if a.abs() > m.abs() { a } else { m }
-    });
+    let largest =
+        amplitudes
+            .iter()
+            .copied()
+            .fold(0.0, |m: f64, a| if a.abs() > m.abs() { a } else { m });
     let (_, steps) = steps_per_period(&sys.with_param(amplitude, largest), window, cfg, &starts)?;
     let per: usize = starts.iter().map(Vec::len).sum();
     let total = per * amplitudes.len();

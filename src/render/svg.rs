@@ -319,7 +319,8 @@ fn path_data(scene: &Scene, l: &Layout, points: &[[f64; 2]], closed: bool) -> St
 fn write_raster(out: &mut String, scene: &Scene, l: &Layout, r: &CellRaster) {
     let _ = writeln!(out, r#"<g class="cells" stroke="none">"#);
     for j in 0..r.rows {
-        let row = &r.fills[(j * r.columns).min(r.fills.len())..((j + 1) * r.columns).min(r.fills.len())];
+        let row =
+            &r.fills[(j * r.columns).min(r.fills.len())..((j + 1) * r.columns).min(r.fills.len())];
         let mut i = 0;
         while i < row.len() {
             let Some(colour) = row[i] else {

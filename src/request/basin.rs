@@ -91,7 +91,11 @@ impl BasinRequest {
     }
 
     /// H₀ and the wells the basin is computed for.
-    pub fn wells(&self, sys: &System, cancel: &Cancel) -> Result<(System, Vec<WellRegion>), String> {
+    pub fn wells(
+        &self,
+        sys: &System,
+        cancel: &Cancel,
+    ) -> Result<(System, Vec<WellRegion>), String> {
         let h0 = self.undriven(sys)?;
         let mut regions = well_regions(&h0, &self.window, &self.analysis, cancel);
         if let Some(c) = self.center {
@@ -120,7 +124,15 @@ impl BasinRequest {
         progress: &(dyn Fn(usize, usize) + Sync),
     ) -> Result<Basin, String> {
         let (h0, regions) = self.wells(sys, cancel)?;
-        basin(sys, &h0, &regions, &self.window, &self.cfg, cancel, progress)
+        basin(
+            sys,
+            &h0,
+            &regions,
+            &self.window,
+            &self.cfg,
+            cancel,
+            progress,
+        )
     }
 }
 

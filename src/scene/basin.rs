@@ -77,10 +77,7 @@ impl Scene {
                 )),
             });
             legend.push(line_entry(
-                format!(
-                    "safe, well at q = {}",
-                    numbers::caption(well.center[0])
-                ),
+                format!("safe, well at q = {}", numbers::caption(well.center[0])),
                 basin_fill(k, true),
                 CELL_SWATCH_WIDTH,
                 false,
@@ -214,11 +211,7 @@ impl Scene {
                 false,
             ));
         }
-        let tail = format!(
-            "{n}×{n} starts, {} drive periods",
-            e.periods,
-            n = e.lattice
-        );
+        let tail = format!("{n}×{n} starts, {} drive periods", e.periods, n = e.lattice);
         Scene {
             title: "Erosion of the safe basins".to_string(),
             caption: caption_without(sys, &[&e.amplitude], &tail),

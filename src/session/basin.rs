@@ -64,7 +64,10 @@ fn clamp_count(
 impl Session {
     /// Check the basin section: finite numbers, a range that is not empty,
     /// counts within their caps (clamped with a warning).
-    pub(super) fn validate_basin(&mut self, warnings: &mut Vec<String>) -> Result<(), SessionError> {
+    pub(super) fn validate_basin(
+        &mut self,
+        warnings: &mut Vec<String>,
+    ) -> Result<(), SessionError> {
         let Some(b) = &mut self.basin else {
             return Ok(());
         };
