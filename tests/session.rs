@@ -471,6 +471,7 @@ fn session_strategy() -> impl Strategy<Value = Session> {
                 backbone: None,
                 drive: None,
                 quantum: None,
+                basin: None,
             },
         )
 }

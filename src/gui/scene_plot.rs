@@ -340,9 +340,6 @@ pub fn paint_marker(painter: &Painter, centre: Pos2, style: MarkerStyle, look: &
                 colour,
             );
         }
-        MarkerShape::Dot => {
-            painter.circle_filled(centre, r, colour);
-        }
     }
 }
 

@@ -504,12 +504,6 @@ fn marker_shape(style: &MarkerStyle, x: f64, y: f64) -> String {
             num(y - r),
             num(style.size)
         ),
-        MarkerShape::Dot => format!(
-            r#"<circle cx="{}" cy="{}" r="{}" fill="{c}"/>"#,
-            num(x),
-            num(y),
-            num(r)
-        ),
     }
 }
 

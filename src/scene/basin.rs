@@ -114,6 +114,7 @@ impl Scene {
             marks,
             colour_scale: None,
             legend,
+            clouds: Vec::new(),
             rasters: vec![CellRaster {
                 origin: [w.qmin, w.pmin],
                 cell: basin.cell_size(),
@@ -221,6 +222,7 @@ impl Scene {
             marks: Vec::new(),
             colour_scale: None,
             legend,
+            clouds: Vec::new(),
             rasters: Vec::new(),
         }
     }

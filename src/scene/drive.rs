@@ -138,6 +138,7 @@ impl Scene {
             clouds,
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 
@@ -223,6 +224,7 @@ impl Scene {
             clouds: Vec::new(),
             colour_scale: None,
             legend,
+            rasters: Vec::new(),
         }
     }
 }

@@ -106,6 +106,8 @@ impl Scene {
             marks: Vec::new(),
             colour_scale: None,
             legend: Vec::new(),
+            clouds: Vec::new(),
+            rasters: Vec::new(),
         };
         scene.add_quantized_orbits(wells, hbar);
         scene
