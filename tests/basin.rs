@@ -236,3 +236,26 @@ fn cancel_and_bad_settings() {
     let e = basin(&sys, &sys, &regions, &w, &bad, &Cancel::never(), &|_, _| {}).unwrap_err();
     assert!(e.contains("period"), "{e}");
 }
+
+/// A drive far above the threshold (F = 1.5 against a barrier of height
+/// 1/4) throws every start out of the well within a few periods: the
+/// global and the local integrity are both 0 (no safe disc, however small,
+/// around the center; the definition's edge case).
+#[test]
+fn a_fully_eroded_well_has_no_safe_disc() {
+    let sys = System::from_source(DRIVEN, &[("F", 1.5), ("W", 1.2)]).unwrap();
+    let k = sys.formula().param_index("F").unwrap();
+    let h0 = sys.with_param(k, 0.0);
+    let w = Window::new(-1.9, 1.9, -1.2, 1.2).unwrap();
+    let regions = regions(&h0, &w);
+    let mut cfg = BasinConfig::new(2.0 * PI / 1.2, 0.088);
+    cfg.lattice = 40;
+    cfg.periods = 20;
+    let b = basin(&sys, &h0, &regions, &w, &cfg, &Cancel::never(), &|_, _| {}).unwrap();
+    for well in &b.wells {
+        assert_eq!(well.safe, 0, "well at {:?}", well.center);
+        assert_eq!(well.integrity, 0.0);
+        assert_eq!(well.safe_radius, 0.0);
+        assert_eq!(well.local_integrity, 0.0);
+    }
+}

@@ -443,7 +443,13 @@ fn measure(
             .map(dist)
             .fold(f64::INFINITY, f64::min)
     };
-    let safe_radius = nearest(&|k| stayed[k] != full);
+    // the disc is all safe up to the nearest start that is not; when the
+    // lattice point nearest the centre is itself not safe, no disc is
+    let nearest_point = nearest(&|_| true);
+    let safe_radius = match nearest(&|k| stayed[k] != full) {
+        r if r <= nearest_point => 0.0,
+        r => r,
+    };
     let reference_radius = nearest(&|k| stayed[k].is_none());
     let ratio = |a: f64, b: f64| {
         if b > 0.0 && b.is_finite() {
