@@ -10,7 +10,12 @@
 //! they occupy a thin layer (the cells along one curve). Well above it the
 //! manifolds cross, the unstable one folds back along the stable one again
 //! and again, and the same starts fill a layer of positive area near the
-//! saddle. Measuring the layer by counting the distinct cells of a fine grid
+//! saddle. The amplitude "well above" is twice the threshold: at δ = 0.25
+//! and W = 1 the tangle then carries a chaotic set that keeps returning near
+//! the saddle; at three and four times it the starts are swept to a large
+//! periodic orbit around both wells instead, which passes the saddle's box
+//! only in a few places (both seen in this test's section, 100 periods).
+//! Measuring the layer by counting the distinct cells of a fine grid
 //! that the section's points occupy is common practice (a box count).
 
 use phasewright::core::Cancel;
@@ -22,7 +27,7 @@ use std::collections::HashSet;
 use std::f64::consts::PI;
 
 const W: f64 = 1.0;
-const DELTA: f64 = 0.1;
+const DELTA: f64 = 0.25;
 /// Half side of the box around the saddle where cells are counted.
 const BOX: f64 = 0.6;
 /// Cells per side of that box.
@@ -68,7 +73,7 @@ fn occupied_cells(f: f64) -> (usize, usize) {
     let cfg = SectionConfig {
         period: 2.0 * PI / W,
         damping: DELTA,
-        periods: 40,
+        periods: 100,
         method: Method::Auto,
         steps_per_period: Some(128),
         t0: 0.0,
@@ -94,7 +99,7 @@ fn occupied_cells(f: f64) -> (usize, usize) {
 fn below_the_melnikov_threshold_the_unstable_manifold_stays_thin_and_well_above_it_fills_a_layer() {
     let fc = threshold();
     let (below, below_points) = occupied_cells(0.5 * fc);
-    let (above, above_points) = occupied_cells(4.0 * fc);
+    let (above, above_points) = occupied_cells(2.0 * fc);
     // Below: a curve through the box crosses at most a few times its side
     // in cells (its length near the saddle is about the box's diagonal).
     assert!(

@@ -576,7 +576,7 @@ pub fn erosion(
     if let Some(a) = amplitudes.iter().find(|a| !a.is_finite()) {
         return Err(format!("the amplitude {a} is not a finite number"));
     }
-    let h0 = sys.with_param(amplitude, 0.0);
+    let h0 = sys.undriven(amplitude)?;
     let starts = well_starts(&h0, regions, window, cfg.lattice);
     let largest =
         amplitudes

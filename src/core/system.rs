@@ -154,6 +154,9 @@ pub struct System {
     formula: Arc<Formula>,
     params: Vec<f64>,
     time: f64,
+    /// Set by [`System::undriven`]: the formula is written with t, but at
+    /// these parameter values H was checked not to depend on it.
+    time_free: bool,
 }
 
 impl System {
@@ -175,6 +178,7 @@ impl System {
             formula,
             params,
             time: 0.0,
+            time_free: false,
         })
     }
 
@@ -215,8 +219,42 @@ impl System {
         let mut s = self.clone();
         if let Some(v) = s.params.get_mut(index) {
             *v = value;
+            s.time_free = false;
         }
         s
+    }
+
+    /// H₀, the undriven system: parameter `index` (the drive amplitude) at
+    /// 0, checked to leave H free of t (H₀ compared at several points and
+    /// times to 1e-12 relative), and then treated as autonomous (see
+    /// [`System::depends_on_time`]). An error says that t is still there,
+    /// so the time dependence is not all in the amplitude's term.
+    pub fn undriven(&self, index: usize) -> Result<System, String> {
+        const POINTS: [(f64, f64); 3] = [(0.3, 0.7), (-1.1, 0.4), (0.9, -1.3)];
+        const TIMES: [f64; 3] = [0.37, 1.9, 5.3];
+        let name = self
+            .formula
+            .params()
+            .get(index)
+            .cloned()
+            .ok_or_else(|| format!("the formula has no parameter number {}", index + 1))?;
+        let mut s = self.with_param(index, 0.0);
+        if s.formula.uses_t() {
+            for &(q, p) in &POINTS {
+                let a = s.energy_t(q, p, 0.0);
+                for &t in &TIMES {
+                    let b = s.energy_t(q, p, t);
+                    // a point outside H's domain (NaN at both times) says nothing
+                    if a.is_finite() && b.is_finite() && (a - b).abs() > 1e-12 * (1.0 + a.abs()) {
+                        return Err(format!(
+                            "H with {name} = 0 still depends on t; the time dependence must sit in the drive term"
+                        ));
+                    }
+                }
+            }
+        }
+        s.time_free = true;
+        Ok(s)
     }
 
     /// The same system with its frozen time set to `t` (a non-finite `t` is
@@ -237,9 +275,11 @@ impl System {
         self.formula.is_separable()
     }
 
-    /// True when H depends on t explicitly (then H is not conserved).
+    /// True when H depends on t explicitly (then H is not conserved): its
+    /// formula uses t, unless [`System::undriven`] checked that it does not
+    /// matter at these parameter values.
     pub fn depends_on_time(&self) -> bool {
-        self.formula.uses_t()
+        self.formula.uses_t() && !self.time_free
     }
 
     fn slots<D: DualNum<Primitive = f64> + Copy>(&self, q: D, p: D, t: D) -> SlotBuf<D> {

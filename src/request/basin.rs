@@ -80,12 +80,7 @@ impl BasinRequest {
     /// H₀: `sys` with the amplitude at 0 (itself without an amplitude).
     pub fn undriven(&self, sys: &System) -> Result<System, String> {
         Ok(match &self.amplitude {
-            Some(name) => {
-                let k = sys.formula().param_index(name).ok_or_else(|| {
-                    format!("the formula has no parameter named '{name}' (the drive amplitude)")
-                })?;
-                sys.with_param(k, 0.0)
-            }
+            Some(name) => super::undriven_by_name(sys, name)?,
             None => sys.clone(),
         })
     }

@@ -60,13 +60,7 @@ impl MelnikovRequest {
 
     /// M(t₀) along every connection of H₀ in `window`.
     pub fn run(&self, sys: &System, window: &Window, cancel: &Cancel) -> Result<Melnikov, String> {
-        let k = sys.formula().param_index(&self.amplitude).ok_or_else(|| {
-            format!(
-                "the formula has no parameter named '{}' (the drive amplitude)",
-                self.amplitude
-            )
-        })?;
-        let h0 = sys.with_param(k, 0.0);
+        let h0 = undriven_by_name(sys, &self.amplitude)?;
         let a = analyze(&h0, window, &self.analysis, cancel);
         let connections = melnikov(
             sys,
@@ -105,10 +99,17 @@ pub fn undriven(session: &Session, sys: &System) -> Result<Option<(String, Syste
         return Ok(None);
     }
     let name = amplitude_parameter(session, sys)?;
-    let k = sys.formula().param_index(&name).ok_or_else(|| {
-        format!("the formula has no parameter named '{name}' (the drive amplitude)")
+    let h0 = undriven_by_name(sys, &name)?;
+    Ok(Some((name, h0)))
+}
+
+/// H₀: `sys` with the parameter `amplitude` at 0, checked free of t (see
+/// [`System::undriven`]); an error names a missing parameter or the t left.
+pub fn undriven_by_name(sys: &System, amplitude: &str) -> Result<System, String> {
+    let k = sys.formula().param_index(amplitude).ok_or_else(|| {
+        format!("the formula has no parameter named '{amplitude}' (the drive amplitude)")
     })?;
-    Ok(Some((name, sys.with_param(k, 0.0))))
+    sys.undriven(k)
 }
 
 /// The analysis of H₀ over `window` (for the separatrices drawn faintly
@@ -124,7 +125,7 @@ pub fn undriven_analysis(
 }
 
 /// The analysis of `sys` with parameter `amplitude` at 0 over `window`;
-/// None when the formula has no such parameter.
+/// None when H₀ is not known (no such parameter, or t left in it).
 pub fn undriven_analysis_of(
     sys: &System,
     amplitude: &str,
@@ -132,8 +133,8 @@ pub fn undriven_analysis_of(
     cfg: &AnalysisConfig,
     cancel: &Cancel,
 ) -> Option<Analysis> {
-    let k = sys.formula().param_index(amplitude)?;
-    Some(analyze(&sys.with_param(k, 0.0), window, cfg, cancel))
+    let h0 = undriven_by_name(sys, amplitude).ok()?;
+    Some(analyze(&h0, window, cfg, cancel))
 }
 
 /// The stroboscopic section of the session's driven system.

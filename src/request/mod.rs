@@ -40,7 +40,7 @@ mod drive;
 pub use basin::{BasinRequest, ErosionRequest};
 pub use drive::{
     MelnikovRequest, SectionRequest, amplitude_parameter, undriven, undriven_analysis,
-    undriven_analysis_of,
+    undriven_analysis_of, undriven_by_name,
 };
 
 use crate::core::Cancel;
@@ -290,19 +290,11 @@ impl BackboneRequest {
         cancel: &Cancel,
         progress: &dyn Fn(usize, usize),
     ) -> Result<Backbone, BackboneError> {
-        let k = self
-            .undriven
-            .as_ref()
-            .and_then(|name| sys.formula().param_index(name));
-        match k {
-            Some(k) => backbone(
-                &sys.with_param(k, 0.0),
-                self.center,
-                window,
-                &self.cfg,
-                cancel,
-                progress,
-            ),
+        match &self.undriven {
+            Some(name) => {
+                let h0 = undriven_by_name(sys, name).map_err(BackboneError::BadConfig)?;
+                backbone(&h0, self.center, window, &self.cfg, cancel, progress)
+            }
             None => backbone(sys, self.center, window, &self.cfg, cancel, progress),
         }
     }

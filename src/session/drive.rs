@@ -30,7 +30,7 @@ pub const DEFAULT_SECTION_LATTICE: usize = 10;
 pub const MAX_SECTION_LATTICE: usize = 100;
 
 /// A periodic drive with light damping, as saved.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, Default, JsonSchema)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct DriveSettings {
     /// The drive period as an expression over the parameters, e.g.
     /// `"2*pi/W"`; its value must be greater than 0.
@@ -68,6 +68,21 @@ pub(super) fn is_yes(b: &bool) -> bool {
 }
 
 /// The drive with its expressions evaluated at the session's parameter values.
+/// A drive section as a reader of the file would take one with only its
+/// period written: switched on, everything else at its default.
+impl Default for DriveSettings {
+    fn default() -> DriveSettings {
+        DriveSettings {
+            period: String::new(),
+            damping: None,
+            amplitude: None,
+            periods: None,
+            lattice: None,
+            enabled: true,
+        }
+    }
+}
+
 #[derive(Clone, Debug, PartialEq)]
 pub struct Drive {
     /// τ > 0.
