@@ -166,9 +166,7 @@ fn a_bad_drive_expression_is_refused_in_place_and_a_good_one_undoes() {
         Some("0.1")
     );
     assert_eq!(h.state().doc.session.damping(), 0.1);
-    h.get_by_label("Edit").click();
-    h.run_steps(3);
-    h.get_by_label("Undo").click();
+    h.key_press_modifiers(egui::Modifiers::COMMAND, egui::Key::Z);
     h.run_steps(3);
     assert_eq!(
         h.state()
