@@ -165,7 +165,7 @@ fn render_basin_and_bad_flags() {
     let o = run(&[
         "render",
         session.to_str().unwrap(),
-        "--view",
+        "--figure",
         "basin",
         "--set",
         "F=0.1",
