@@ -141,13 +141,9 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
                 phasewright::render::section_of(&saved, &sys, &saved.view, &[], &Cancel::never());
             assert!(data.is_ok(), "{name}: {:?}", data.err());
         }
-        let levels = phasewright::render::levels_request_of(
-            &saved,
-            &sys,
-            &saved.view,
-            &Cancel::never(),
-        )
-        .ok();
+        let levels =
+            phasewright::render::levels_request_of(&saved, &sys, &saved.view, &Cancel::never())
+                .ok();
         assert_eq!(shown.levels, levels, "{name}: levels");
         assert_eq!(
             shown.levels.is_some(),
