@@ -131,11 +131,13 @@ impl BasinConfig {
         }
     }
 
-    /// The same settings on the coarse preview lattice (at most
-    /// [`PREVIEW_LATTICE`] per side).
+    /// The same settings for a quick look: the coarse preview lattice (at
+    /// most [`PREVIEW_LATTICE`] per side) and a quarter of the periods (at
+    /// least one). A quick look keeps more starts than the full basin does.
     pub fn preview(&self) -> BasinConfig {
         BasinConfig {
             lattice: self.lattice.min(PREVIEW_LATTICE),
+            periods: (self.periods / 4).max(1),
             ..self.clone()
         }
     }
@@ -578,11 +580,10 @@ pub fn erosion(
     }
     let h0 = sys.with_param(amplitude, 0.0);
     let starts = well_starts(&h0, regions, window, cfg.lattice);
-    let largest =
-        amplitudes
-            .iter()
-            .copied()
-            .fold(0.0, |m: f64, a| if a.abs() > m.abs() { a } else { m });
+    let largest = amplitudes
+        .iter()
+        .copied()
+        .fold(0.0, |m: f64, a| if a.abs() > m.abs() { a } else { m });
     let (_, steps) = steps_per_period(&sys.with_param(amplitude, largest), window, cfg, &starts)?;
     let per: usize = starts.iter().map(Vec::len).sum();
     let total = per * amplitudes.len();
