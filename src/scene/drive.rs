@@ -169,7 +169,7 @@ impl Scene {
             });
             legend.push(line_entry(
                 format!(
-                    "{} {}: saddles {}\u{2192}{}",
+                    "{} {}: saddles {} to {}",
                     match c.kind {
                         crate::core::wells::ConnectionKind::Homoclinic => "loop",
                         crate::core::wells::ConnectionKind::Heteroclinic => "link",
