@@ -92,7 +92,10 @@ fn threshold(delta: f64, w: f64) -> f64 {
 fn the_safe_basin_tab_of_the_driven_resonator_shows_the_cores_integrity() {
     let session = example("driven-resonator.json");
     let (mut h, _d) = open(session.clone());
-    assert!(h.state().basin().is_none(), "computed before the tab opened");
+    assert!(
+        h.state().basin().is_none(),
+        "computed before the tab opened"
+    );
     h.get_by_label("Safe basin").click();
     h.run_steps(2);
     settle(&mut h);
@@ -150,7 +153,10 @@ fn dragging_a_slider_shows_a_quick_look_and_the_full_lattice_after() {
     let quick = h.state().basin().expect("quick look").basin.clone();
     assert_eq!(quick.lattice, PREVIEW_LATTICE);
     assert_eq!(quick.periods, 5, "a quarter of the 20 periods");
-    assert!(h.query_by_label_contains("a quick look while dragging").is_some());
+    assert!(
+        h.query_by_label_contains("a quick look while dragging")
+            .is_some()
+    );
     // released: the full lattice at the new amplitude
     settle(&mut h);
     let full = h.state().basin().expect("full basin").basin.clone();
@@ -166,7 +172,10 @@ fn dragging_a_slider_shows_a_quick_look_and_the_full_lattice_after() {
     assert_eq!(got, want);
     // F = 0.3 is above the threshold (about 0.188): the wells erode
     assert!(got.iter().all(|&i| i < 1.0), "{got:?}");
-    assert!(h.query_by_label_contains("a quick look while dragging").is_none());
+    assert!(
+        h.query_by_label_contains("a quick look while dragging")
+            .is_none()
+    );
 }
 
 #[test]
@@ -202,7 +211,10 @@ fn the_erosion_curve_runs_only_when_asked_and_marks_the_melnikov_threshold() {
         assert!(last.integrity[k] < first.integrity[k], "{e:?}");
     }
     assert!(h.query_by_label(EROSION_LABEL).is_some());
-    let mark = format!("Melnikov threshold F = {}", phasewright::numbers::caption(t));
+    let mark = format!(
+        "Melnikov threshold F = {}",
+        phasewright::numbers::caption(t)
+    );
     assert!(h.query_by_label_contains(&mark).is_some(), "no '{mark}'");
     // moving the amplitude moves only the guide: nothing to compute again
     h.state_mut().set_parameter("F", 0.2, false);
@@ -253,7 +265,8 @@ fn without_a_drive_the_basin_tabs_say_why() {
         h.run_steps(2);
         settle(&mut h);
         assert!(
-            h.query_by_label_contains("The session has no drive").is_some(),
+            h.query_by_label_contains("The session has no drive")
+                .is_some(),
             "{tab}: no reason given"
         );
         assert!(h.query_by_label_contains("Compute erosion curve").is_none());

@@ -407,7 +407,17 @@ fn run_wells(
                 break;
             }
             let pts: Vec<[f64; 2]> = tile.iter().map(|&k| lattice_point(window, n, k)).collect();
-            let s = strobe_runs(sys, &pts, &sc, &strobe, cancel, &|_, _| progress(1))?;
+            // the loop reports how many of the tile's starts are done (once
+            // per block of starts, from worker threads in any order): pass
+            // on each rise of the count
+            let seen = AtomicUsize::new(0);
+            let report = |done: usize, _: usize| {
+                let before = seen.fetch_max(done, Ordering::Relaxed);
+                if done > before {
+                    progress(done - before);
+                }
+            };
+            let s = strobe_runs(sys, &pts, &sc, &strobe, cancel, &report)?;
             cancelled |= s.cancelled;
             for (&k, o) in tile.iter().zip(&s.orbits) {
                 // a start whose H stopped being finite counts as having left

@@ -65,7 +65,13 @@ impl ViewsPanel {
             return;
         };
         self.figures[i].update(generation, &[], || {
-            vec![Scene::basin(&sys, &d.basin, &d.separatrices)]
+            // the measures are written under the plot, where the labels of
+            // neighbouring wells cannot run into each other
+            let mut scene = Scene::basin(&sys, &d.basin, &d.separatrices);
+            for m in &mut scene.marks {
+                m.label = None;
+            }
+            vec![scene]
         });
         let Some(view) = self.figures[i].views.first() else {
             return;
@@ -167,6 +173,7 @@ impl ViewsPanel {
                 e.amplitude,
                 caption(t)
             )),
+            None if e.cancelled => ui.small("Stopped before the Melnikov threshold was found."),
             None => ui.small(
                 "No Melnikov threshold for this drive (no damping, or no separatrix \
                  connection in view).",
