@@ -96,7 +96,9 @@ fn main() {
     let quiet = |_: usize, _: usize| {};
 
     println!("section: 100 orbits x 500 drive periods of {FORMULA}, F = 0.3, W = 1, one core");
-    println!("  (ms: median of 5 (min); energy error: the undriven run, max relative over every point)");
+    println!(
+        "  (ms: median of 5 (min); energy error: the undriven run, max relative over every point)"
+    );
     let mut rows: Vec<Row> = Vec::new();
     let cases: [(Method, Option<usize>, bool); 8] = [
         (Method::Nystrom6, None, true),
@@ -274,7 +276,15 @@ fn main() {
             );
         }
     }
-    let basin_args = ["--basin", "--grid", "200", "--periods", "60", "--steps", &steps];
+    let basin_args = [
+        "--basin",
+        "--grid",
+        "200",
+        "--periods",
+        "60",
+        "--steps",
+        &steps,
+    ];
     let own_only = peers::Peers {
         outside: None,
         outside_env: "PHASEWRIGHT_DRIVE_PEER_BASIN",

@@ -4,8 +4,8 @@
 //! `Scene`; the explorer can draw the same `Scene` with its own plot widget,
 //! so the palette and the marker shapes defined here are the project's one look.
 
-mod drive;
 mod basin;
+mod drive;
 mod levels;
 
 pub use drive::{

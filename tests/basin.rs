@@ -109,7 +109,15 @@ fn damped_undriven_basin_is_the_whole_lobe() {
     let mut cfg = BasinConfig::new(2.0 * PI / 1.2, 0.2);
     cfg.lattice = 120;
     cfg.periods = 20;
-    let b = basin(&sys, &sys, &regions, &w, &cfg, &Cancel::never(), &|_, _| {}).unwrap();
+    // progress counts starts: it ends at the number of lobe starts of both wells
+    let last = std::sync::Mutex::new((0, 0));
+    let note = |done: usize, total: usize| {
+        let mut l = last.lock().unwrap();
+        *l = (l.0.max(done), total);
+    };
+    let b = basin(&sys, &sys, &regions, &w, &cfg, &Cancel::never(), &note).unwrap();
+    let starts: usize = b.wells.iter().map(|w| w.starts).sum();
+    assert_eq!(*last.lock().unwrap(), (starts, starts));
     let k = regions.iter().position(|r| r.center[0] > 0.5).unwrap();
     let well = &b.wells[k];
     let mut lobe = 0;

@@ -84,7 +84,8 @@ fn an_orbit_stopped_at_the_bounds_is_integrated_again_when_the_view_grows() {
 }
 
 /// Whatever the panes show can be re-made from the saved file: for every
-/// example, the requests the explorer's diagram, fold, backbone and levels panes run
+/// example, the requests the explorer's diagram, fold, backbone, section,
+/// Melnikov, levels, safe-basin and erosion panes run
 /// equal the ones `render` builds from the file the explorer saved.
 #[test]
 fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file() {
@@ -130,8 +131,22 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
             phasewright::request::MelnikovRequest::from_session(&saved, &sys).ok(),
             "{name}: Melnikov function"
         );
+        assert_eq!(
+            shown.basin,
+            phasewright::request::BasinRequest::from_session(&saved, &sys).ok(),
+            "{name}: safe basin"
+        );
+        assert_eq!(
+            shown.erosion,
+            phasewright::request::ErosionRequest::from_session(&saved, &sys).ok(),
+            "{name}: erosion curve"
+        );
         if saved.drive.is_some() {
             driven += 1;
+            assert!(
+                shown.basin.is_some() && shown.erosion.is_some(),
+                "{name}: a driven example has a safe basin and an erosion curve"
+            );
             assert!(
                 shown.section.is_some() && shown.melnikov.is_some(),
                 "{name}: a driven example has a section and a Melnikov function"
@@ -141,13 +156,9 @@ fn the_explorers_pane_requests_equal_the_ones_render_builds_from_the_saved_file(
                 phasewright::render::section_of(&saved, &sys, &saved.view, &[], &Cancel::never());
             assert!(data.is_ok(), "{name}: {:?}", data.err());
         }
-        let levels = phasewright::render::levels_request_of(
-            &saved,
-            &sys,
-            &saved.view,
-            &Cancel::never(),
-        )
-        .ok();
+        let levels =
+            phasewright::render::levels_request_of(&saved, &sys, &saved.view, &Cancel::never())
+                .ok();
         assert_eq!(shown.levels, levels, "{name}: levels");
         assert_eq!(
             shown.levels.is_some(),

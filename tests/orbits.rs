@@ -266,7 +266,11 @@ fn non_separable_circles_turn_at_the_amplitude_dependent_frequency() {
             "r = {r}: I = {:?}",
             o.action
         );
-        assert!(o.relative_energy_error < 1e-13, "relative energy error {}", o.relative_energy_error);
+        assert!(
+            o.relative_energy_error < 1e-13,
+            "relative energy error {}",
+            o.relative_energy_error
+        );
     }
 }
 
@@ -417,7 +421,11 @@ fn energy_error_is_small_and_counted_work_is_reported() {
     let req = OrbitRequest::new(PI / 2.0, 0.0, 20.0 * 7.416298709205488, &view());
     let o = integrate_orbit(&sys, &req, &Cancel::never());
     assert_eq!(o.stop, StopReason::Finished);
-    assert!(o.relative_energy_error < 1e-10, "relative energy error {}", o.relative_energy_error);
+    assert!(
+        o.relative_energy_error < 1e-10,
+        "relative energy error {}",
+        o.relative_energy_error
+    );
     assert!(
         o.energy_scale > 0.5 && o.energy_scale < 10.0,
         "scale {}",

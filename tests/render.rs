@@ -860,9 +860,7 @@ fn sweep_csv_holds_the_branches_and_bifurcations_bit_for_bit() {
     // Header: the swept parameter by name, then the other parameters' values.
     assert_eq!(
         rows[0],
-        [
-            "row", "branch", "P", "q", "p", "energy", "kind", "g", "w"
-        ]
+        ["row", "branch", "P", "q", "p", "energy", "kind", "g", "w"]
     );
     let points: Vec<_> = s.branches.iter().flat_map(|b| &b.points).collect();
     assert_eq!(rows.len(), 1 + points.len() + s.bifurcations.len());
@@ -889,10 +887,7 @@ fn folds_csv_holds_the_curves_and_cusps_bit_for_bit() {
     let rows = render_csv("imperfect-strut.json", &["--view", "folds"]);
     let (session, sys) = load_example("imperfect-strut.json");
     let f = phasewright::render::folds_of(&session, &sys, &session.view, &Cancel::never()).unwrap();
-    assert_eq!(
-        rows[0],
-        ["row", "curve", "P", "w", "q", "p", "energy", "g"]
-    );
+    assert_eq!(rows[0], ["row", "curve", "P", "w", "q", "p", "energy", "g"]);
     let points: Vec<_> = f.curves.iter().flat_map(|c| &c.points).collect();
     assert_eq!(rows.len(), 1 + points.len() + f.cusps.len());
     for (row, pt) in rows[1..]

@@ -291,7 +291,8 @@ fn lanes_match_the_per_start_loop_to_the_bit() {
                     record,
                 };
                 let quiet = |_: usize, _: usize| {};
-                let lanes = strobe_runs(&sys, &starts, &c, &strobe, &Cancel::never(), &quiet).unwrap();
+                let lanes =
+                    strobe_runs(&sys, &starts, &c, &strobe, &Cancel::never(), &quiet).unwrap();
                 let alone =
                     strobe_runs_per_start(&sys, &starts, &c, &strobe, &Cancel::never(), &quiet)
                         .unwrap();
@@ -300,7 +301,10 @@ fn lanes_match_the_per_start_loop_to_the_bit() {
                 let ends = |e: SectionEnd| lanes.orbits.iter().filter(|o| o.end == e).count();
                 assert!(ends(SectionEnd::NonFinite) >= 1, "{what}: the NaN start");
                 if half < 10.0 {
-                    assert!(ends(SectionEnd::LeftBounds) > 0, "{what}: none left the box");
+                    assert!(
+                        ends(SectionEnd::LeftBounds) > 0,
+                        "{what}: none left the box"
+                    );
                     assert!(ends(SectionEnd::Completed) > 0, "{what}: none stayed");
                 } else {
                     assert!(ends(SectionEnd::NonFinite) > 1, "{what}: none blew up");
@@ -321,7 +325,12 @@ fn lane_runs_do_not_depend_on_the_thread_count() {
     )
     .unwrap();
     let starts: Vec<[f64; 2]> = (0..30 * 30)
-        .map(|k| [-2.0 + 4.0 * (k % 30) as f64 / 29.0, -1.5 + 3.0 * (k / 30) as f64 / 29.0])
+        .map(|k| {
+            [
+                -2.0 + 4.0 * (k % 30) as f64 / 29.0,
+                -1.5 + 3.0 * (k / 30) as f64 / 29.0,
+            ]
+        })
         .collect();
     let c = SectionConfig {
         period: 2.0 * PI,
@@ -350,10 +359,20 @@ fn lane_runs_do_not_depend_on_the_thread_count() {
     let key = |s: &phasewright::core::section::Section| -> Vec<(SectionEnd, usize, [u64; 2])> {
         s.orbits
             .iter()
-            .map(|o| (o.end, o.periods_done, [o.last[0].to_bits(), o.last[1].to_bits()]))
+            .map(|o| {
+                (
+                    o.end,
+                    o.periods_done,
+                    [o.last[0].to_bits(), o.last[1].to_bits()],
+                )
+            })
             .collect()
     };
     assert_eq!(key(&one), key(&many));
-    let stayed = one.orbits.iter().filter(|o| o.end == SectionEnd::Completed).count();
+    let stayed = one
+        .orbits
+        .iter()
+        .filter(|o| o.end == SectionEnd::Completed)
+        .count();
     assert!(stayed > 0 && stayed < starts.len(), "{stayed} stayed");
 }

@@ -364,7 +364,13 @@ fn positive_step() -> BoxedStrategy<Value> {
 /// A slider's step: 0 (continuous) or more.
 fn slider_step() -> BoxedStrategy<Value> {
     field(
-        prop_oneof![number(1e-6, 5.0), Just(Value::Null), Just(json!(0)), Just(json!(-0.0))].boxed(),
+        prop_oneof![
+            number(1e-6, 5.0),
+            Just(Value::Null),
+            Just(json!(0)),
+            Just(json!(-0.0))
+        ]
+        .boxed(),
         prop_oneof![number(-5.0, -1e-9), Just(json!("0.1"))].boxed(),
     )
 }

@@ -143,14 +143,8 @@ pub fn run_basin(args: &BasinArgs) -> Result<String, CliError> {
     let r = resolve_basin(&args.system, &args.drive, &args.basin)?;
     let request = BasinRequest::from_session(&r.session, &r.system)
         .map_err(|e| CliError(format!("basin: {e}")))?;
-    let data = render::basin_data(
-        &r.session,
-        &r.system,
-        &request,
-        &Cancel::never(),
-        &|_, _| {},
-    )
-    .map_err(|e| view_error(&e, "basin"))?;
+    let data = render::basin_data(&r.system, &request, &Cancel::never(), &|_, _| {})
+        .map_err(|e| view_error(&e, "basin"))?;
     if args.basin.figure.is_some() {
         return args
             .basin

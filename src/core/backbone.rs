@@ -632,8 +632,7 @@ impl<'a> WellOrbits<'a> {
             .or_else(|| {
                 // At a shallow depth E − H keeps only the digits that
                 // rounding of H near E_c leaves: ask no more of the rule.
-                let floor =
-                    SHALLOW_ULPS * f64::EPSILON * (self.well.ec.abs() + depth) / depth;
+                let floor = SHALLOW_ULPS * f64::EPSILON * (self.well.ec.abs() + depth) / depth;
                 (floor > self.tolerance)
                     .then(|| self.orbit_at_depth_within(depth, from, floor))
                     .flatten()

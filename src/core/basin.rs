@@ -131,11 +131,13 @@ impl BasinConfig {
         }
     }
 
-    /// The same settings on the coarse preview lattice (at most
-    /// [`PREVIEW_LATTICE`] per side).
+    /// The same settings for a quick look: the coarse preview lattice (at
+    /// most [`PREVIEW_LATTICE`] per side) and a quarter of the periods (at
+    /// least one). A quick look keeps more starts than the full basin does.
     pub fn preview(&self) -> BasinConfig {
         BasinConfig {
             lattice: self.lattice.min(PREVIEW_LATTICE),
+            periods: (self.periods / 4).max(1),
             ..self.clone()
         }
     }
@@ -405,7 +407,17 @@ fn run_wells(
                 break;
             }
             let pts: Vec<[f64; 2]> = tile.iter().map(|&k| lattice_point(window, n, k)).collect();
-            let s = strobe_runs(sys, &pts, &sc, &strobe, cancel, &|_, _| progress(1))?;
+            // the loop reports how many of the tile's starts are done (once
+            // per block of starts, from worker threads in any order): pass
+            // on each rise of the count
+            let seen = AtomicUsize::new(0);
+            let report = |done: usize, _: usize| {
+                let before = seen.fetch_max(done, Ordering::Relaxed);
+                if done > before {
+                    progress(done - before);
+                }
+            };
+            let s = strobe_runs(sys, &pts, &sc, &strobe, cancel, &report)?;
             cancelled |= s.cancelled;
             for (&k, o) in tile.iter().zip(&s.orbits) {
                 // a start whose H stopped being finite counts as having left
@@ -578,11 +590,10 @@ pub fn erosion(
     }
     let h0 = sys.undriven(amplitude)?;
     let starts = well_starts(&h0, regions, window, cfg.lattice);
-    let largest =
-        amplitudes
-            .iter()
-            .copied()
-            .fold(0.0, |m: f64, a| if a.abs() > m.abs() { a } else { m });
+    let largest = amplitudes
+        .iter()
+        .copied()
+        .fold(0.0, |m: f64, a| if a.abs() > m.abs() { a } else { m });
     let (_, steps) = steps_per_period(&sys.with_param(amplitude, largest), window, cfg, &starts)?;
     let per: usize = starts.iter().map(Vec::len).sum();
     let total = per * amplitudes.len();

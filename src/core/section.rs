@@ -35,10 +35,10 @@ use super::formula::LANES;
 use super::integrate::splitting::{Scheme, Splitting, SplittingLanes};
 use super::integrate::{Integrator, Method, State};
 use super::orbit::local_rate;
-use std::f64::consts::PI;
 use super::system::System;
 use super::window::Window;
 use rayon::prelude::*;
+use std::f64::consts::PI;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 /// Fewest steps per drive period by default (the drive itself resolved).

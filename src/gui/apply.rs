@@ -438,10 +438,15 @@ impl Explorer {
     /// panes follow, to `path` on a thread of its own.
     fn start_export(&mut self, view: render::View, format: render::ExportFormat, path: PathBuf) {
         let overrides = self.pane_overrides();
-        match self
-            .jobs
-            .start_export(self.doc.session.clone(), overrides, view, format, path)
-        {
+        let shown = self.shown_data(view);
+        match self.jobs.start_export(
+            self.doc.session.clone(),
+            overrides,
+            view,
+            format,
+            path,
+            shown,
+        ) {
             Ok(()) => self.chrome.status = format!("exporting the {}…", view.name()),
             Err(e) => self.chrome.message("Export failed", e),
         }

@@ -145,7 +145,8 @@ impl Jobs {
     }
 
     /// Export `view` of `session` to `path` on a thread of its own, through
-    /// the same `render::export` the command line uses.
+    /// the same `render::export` the command line uses; `shown` is what the
+    /// pane computed already for the session as it is (written as it is).
     pub(super) fn start_export(
         &mut self,
         session: Session,
@@ -153,12 +154,16 @@ impl Jobs {
         view: render::View,
         format: render::ExportFormat,
         path: PathBuf,
+        shown: Option<render::ViewData>,
     ) -> Result<(), String> {
         let (tx, rx) = std::sync::mpsc::channel();
         std::thread::Builder::new()
             .name("phasewright-export".into())
             .spawn(move || {
-                let outcome = super::export_to_file(&session, &overrides, view, format, &path);
+                let outcome = match &shown {
+                    Some(data) => super::export_data_to_file(&session, data, view, format, &path),
+                    None => super::export_to_file(&session, &overrides, view, format, &path),
+                };
                 let _ = tx.send(outcome);
             })
             .map_err(|e| format!("cannot start the export: {e}"))?;

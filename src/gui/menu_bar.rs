@@ -22,6 +22,10 @@ pub struct MenuState<'a> {
     pub has_melnikov: bool,
     /// The session has a good ħ and a well in view (levels to export).
     pub has_levels: bool,
+    /// The session has a drive for safe basins.
+    pub has_basin: bool,
+    /// … and an amplitude to vary for the erosion curve.
+    pub has_erosion: bool,
 }
 
 pub fn ui(ui: &mut egui::Ui, st: &MenuState<'_>) -> Vec<Command> {
@@ -166,7 +170,11 @@ fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
         }
     });
     let views = [
-        ("Sweep: equilibria against a parameter", View::Diagram, st.has_sweep),
+        (
+            "Sweep: equilibria against a parameter",
+            View::Diagram,
+            st.has_sweep,
+        ),
         (
             "Backbone: period against energy",
             View::Backbone(BackbonePlot::PeriodEnergy),
@@ -181,6 +189,8 @@ fn export_menu(ui: &mut egui::Ui, st: &MenuState<'_>, out: &mut Vec<Command>) {
         ("Stroboscopic section", View::Section, st.has_section),
         ("Melnikov function", View::Melnikov, st.has_melnikov),
         ("Levels", View::Levels, st.has_levels),
+        ("Safe basins", View::Basin, st.has_basin),
+        ("Erosion curve", View::Erosion, st.has_erosion),
     ];
     for (name, view, enabled) in views {
         ui.add_enabled_ui(enabled, |ui| {

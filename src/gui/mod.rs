@@ -42,8 +42,8 @@ pub use params_panel::HBAR_LABEL;
 pub use plot_panel::PLOT_LABEL;
 pub use tables_panel::{equilibrium_rows, level_rows, orbit_row, well_levels_summary, well_rows};
 pub use views_panel::{
-    BACKBONE_LABEL, DIAGRAM_LABEL, FOLDS_LABEL, FREQUENCY_LABEL, MELNIKOV_LABEL, PaneRequests,
-    PaneSettings, SECTION_LABEL,
+    BACKBONE_LABEL, BASIN_LABEL, DIAGRAM_LABEL, EROSION_LABEL, FOLDS_LABEL, FREQUENCY_LABEL,
+    MELNIKOV_LABEL, PaneRequests, PaneSettings, SECTION_LABEL, well_integrity_text,
 };
 
 use chrome::{ANNOUNCE_HOLD_SECONDS, Chrome};
@@ -252,6 +252,15 @@ impl Explorer {
         views_panel::overrides(&pane_inputs!(self, system.as_ref()))
     }
 
+    /// What a pane computed already of `view` for the session as it is
+    /// (basin and erosion only); an export writes it instead of computing
+    /// it again.
+    fn shown_data(&self, view: render::View) -> Option<render::ViewData> {
+        let system = self.system();
+        self.views
+            .shown_data(&pane_inputs!(self, system.as_ref()), view)
+    }
+
     /// The last message in the status line.
     pub fn status(&self) -> &str {
         &self.chrome.status
@@ -341,13 +350,26 @@ impl Explorer {
         self.views.melnikov()
     }
 
-    /// Open a pane: "diagram", "folds", "backbone", "section" or "melnikov" (tests).
+    /// The safe basins the basin pane shows (the quick look while dragging).
+    pub fn basin(&self) -> Option<&crate::render::BasinData> {
+        self.views.basin()
+    }
+
+    /// The erosion curve the erosion pane shows.
+    pub fn erosion(&self) -> Option<&crate::core::basin::Erosion> {
+        self.views.erosion()
+    }
+
+    /// Open a pane: "diagram", "folds", "backbone", "section", "melnikov",
+    /// "basin" or "erosion" (tests).
     pub fn show_pane(&mut self, name: &str) {
         self.views.tab = match name {
             "folds" => views_panel::Tab::Folds,
             "backbone" => views_panel::Tab::Backbone,
             "section" => views_panel::Tab::Section,
             "melnikov" => views_panel::Tab::Melnikov,
+            "basin" => views_panel::Tab::Basin,
+            "erosion" => views_panel::Tab::Erosion,
             _ => views_panel::Tab::Diagram,
         };
     }
@@ -463,6 +485,8 @@ impl Explorer {
                     has_section: exportable.section.is_some(),
                     has_melnikov: exportable.melnikov.is_some(),
                     has_levels: exportable.levels.is_some(),
+                    has_basin: exportable.basin.is_some(),
+                    has_erosion: exportable.erosion.is_some(),
                 },
             ));
         });
@@ -728,6 +752,31 @@ pub fn run(initial: Option<PathBuf>) -> Result<(), String> {
         Box::new(move |_cc| Ok(Box::new(ExplorerApp(explorer)))),
     )
     .map_err(|e| format!("the explorer window could not start: {e}"))
+}
+
+/// Write one export of data a pane has computed already (through the same
+/// `render::export_data` as [`export_to_file`]); the status line on
+/// success, the problem otherwise.
+pub fn export_data_to_file(
+    session: &Session,
+    data: &render::ViewData,
+    view: render::View,
+    format: render::ExportFormat,
+    path: &Path,
+) -> Result<String, String> {
+    let sys = session.system().map_err(|e| e.to_string())?;
+    let out = render::export_data(
+        session,
+        &sys,
+        data,
+        view,
+        format,
+        render::FigureSize::default(),
+    )
+    .map_err(|e| e.to_string())?;
+    crate::session::write_atomic(path, |w| std::io::Write::write_all(w, &out.bytes))
+        .map_err(|e| e.to_string())?;
+    Ok(format!("exported {} ({})", path.display(), out.summary))
 }
 
 /// Compute and write one export; the status line on success, the problem otherwise.

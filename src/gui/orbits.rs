@@ -53,7 +53,10 @@ pub fn integrate(
         period: orbit.period,
         action: orbit.action,
         frequency: orbit.frequency,
-        relative_energy_error: orbit.relative_energy_error.is_finite().then_some(orbit.relative_energy_error),
+        relative_energy_error: orbit
+            .relative_energy_error
+            .is_finite()
+            .then_some(orbit.relative_energy_error),
         stop: orbit.stop.message(),
         stopped_early,
         view_bound: matches!(orbit.stop, StopReason::LeftBounds { .. }),

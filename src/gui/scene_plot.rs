@@ -11,10 +11,12 @@
 
 use crate::numbers::tick as tick_label;
 use crate::scene::{
-    ColourScale, LegendEntry, MarkRole, MarkerShape, MarkerStyle, Rgb, Scene, Swatch, nice_ticks,
+    CellRaster, ColourScale, LegendEntry, MarkRole, MarkerShape, MarkerStyle, Rgb, Scene, Swatch,
+    nice_ticks,
 };
 use egui::{Color32, Painter, Pos2, Rect, Stroke, pos2, vec2};
-use egui_plot::{Arrows, Line, LineStyle, PlotPoint, PlotUi, Points, Text};
+use egui_plot::{Arrows, Line, LineStyle, PlotImage, PlotPoint, PlotUi, Points, Text};
+use std::sync::Mutex;
 
 /// Dash length (points) of dashed curves.
 const DASH_LENGTH: f32 = 7.0;
@@ -103,6 +105,58 @@ struct MarkGroup {
     points: Vec<PlotPoint>,
 }
 
+/// A cell raster drawn as one image (a pixel a cell), made into a texture
+/// on first draw and again when the look changes.
+struct ViewRaster {
+    raster: CellRaster,
+    texture: Mutex<Option<((bool, bool), egui::TextureHandle)>>,
+}
+
+impl ViewRaster {
+    /// The cells as an image in `look`: top row first, empty cells clear.
+    fn image(&self, look: &Look) -> egui::ColorImage {
+        let r = &self.raster;
+        let mut pixels = Vec::with_capacity(r.columns * r.rows);
+        for row in (0..r.rows).rev() {
+            for col in 0..r.columns {
+                let fill = r.fills.get(row * r.columns + col).copied().flatten();
+                pixels.push(fill.map_or(Color32::TRANSPARENT, |c| look.colour(c)));
+            }
+        }
+        egui::ColorImage::new([r.columns, r.rows], pixels)
+    }
+
+    fn draw(&self, pui: &mut PlotUi<'_>, look: &Look) {
+        let r = &self.raster;
+        if r.columns == 0 || r.rows == 0 {
+            return;
+        }
+        let key = (look.dark, look.greyed);
+        let id = {
+            let Ok(mut slot) = self.texture.lock() else {
+                return;
+            };
+            match slot.as_ref() {
+                Some((k, t)) if *k == key => t.id(),
+                _ => {
+                    let t = pui.ctx().load_texture(
+                        "scene-cells",
+                        self.image(look),
+                        egui::TextureOptions::NEAREST,
+                    );
+                    let id = t.id();
+                    *slot = Some((key, t));
+                    id
+                }
+            }
+        };
+        let w = r.cell[0] * r.columns as f64;
+        let h = r.cell[1] * r.rows as f64;
+        let centre = PlotPoint::new(r.origin[0] + 0.5 * w, r.origin[1] + 0.5 * h);
+        pui.image(PlotImage::new("", id, centre, vec2(w as f32, h as f32)).allow_hover(false));
+    }
+}
+
 struct ViewLabel {
     at: PlotPoint,
     text: String,
@@ -112,6 +166,7 @@ struct ViewLabel {
 /// A scene's geometry converted for egui_plot.
 #[derive(Default)]
 pub struct SceneView {
+    rasters: Vec<ViewRaster>,
     curves: Vec<ViewCurve>,
     clouds: Vec<ViewCloud>,
     marks: Vec<MarkGroup>,
@@ -191,7 +246,17 @@ impl SceneView {
                 size: c.size as f32,
             })
             .collect();
+        let rasters = scene
+            .rasters
+            .iter()
+            .filter(|r| r.fills.len() == r.columns * r.rows)
+            .map(|r| ViewRaster {
+                raster: r.clone(),
+                texture: Mutex::new(None),
+            })
+            .collect();
         SceneView {
+            rasters,
             curves,
             clouds,
             marks,
@@ -204,8 +269,11 @@ impl SceneView {
         }
     }
 
-    /// Draw into a plot: curves in order, then marks, then labels.
+    /// Draw into a plot: cell rasters, curves in order, clouds, marks, then labels.
     pub fn draw<'a>(&'a self, pui: &mut PlotUi<'a>, look: &Look) {
+        for r in &self.rasters {
+            r.draw(pui, look);
+        }
         for (i, c) in self.curves.iter().enumerate() {
             let emphasised = look.emphasised == Some(i);
             let colour = look.colour(c.colour);

@@ -135,7 +135,8 @@ pub fn orbit_row(s: &SeededOrbit, o: Option<&OrbitOutcome>) -> [String; 6] {
             num(o.period),
             num(o.action),
             num(o.frequency),
-            o.relative_energy_error.map_or("—".into(), |d| format!("{d:.2e}")),
+            o.relative_energy_error
+                .map_or("—".into(), |d| format!("{d:.2e}")),
             o.stop.clone(),
         ],
         None => [
@@ -286,12 +287,13 @@ impl TablesPanel {
                             }
                         });
                     let mut duration = s.duration;
-                    let rd = ui.add(
-                        egui::DragValue::new(&mut duration)
-                            .speed(0.5)
-                            .max_decimals(3),
-                    )
-                    .on_hover_text("at most this long: the orbit stops once it closes");
+                    let rd = ui
+                        .add(
+                            egui::DragValue::new(&mut duration)
+                                .speed(0.5)
+                                .max_decimals(3),
+                        )
+                        .on_hover_text("at most this long: the orbit stops once it closes");
                     super::params_panel::accessible_name(
                         &rd,
                         egui::Role::SpinButton,

@@ -2,8 +2,10 @@
 //! a swept parameter), the fold curve in the plane of two parameters, and the
 //! backbone of a center (period against energy, frequency against amplitude),
 //! and for a driven session the stroboscopic section (`section.rs` in the
-//! core; coarse while a slider is dragged, refined after) and the Melnikov
-//! function over one drive period.
+//! core; coarse while a slider is dragged, refined after), the Melnikov
+//! function over one drive period, the safe basins of the wells (a quick
+//! look on a coarse lattice while a slider is dragged, the full lattice
+//! after) and, on demand, their erosion curve against the drive amplitude.
 //! Their numbers come from the core (`continuation::sweep`,
 //! `folds::fold_curves`, `backbone::backbone`) run on the pane lanes of
 //! `worker.rs`; their figures are the scenes of `src/scene.rs` drawn through
@@ -12,16 +14,17 @@
 
 use crate::core::analysis::Analysis;
 use crate::core::backbone::Backbone;
+use crate::core::basin::Erosion;
 use crate::core::continuation::Sweep;
 use crate::core::equilibria::EquilibriumKind;
 use crate::core::folds::FoldCurves;
 use crate::core::melnikov::Melnikov;
 use crate::core::system::System;
 use crate::numbers::{clean, label as label_number};
-use crate::render::{SectionData, section_colours};
+use crate::render::{BasinData, SectionData, View, ViewData, section_colours};
 use crate::request::{
-    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, Overrides,
-    SectionRequest, SweepRequest, centers_of, range_of, undriven,
+    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult,
+    MelnikovRequest, Overrides, SectionRequest, SweepRequest, centers_of, range_of, undriven,
 };
 use crate::scene::{BackbonePlot, Scene};
 use crate::session::{
@@ -31,6 +34,8 @@ use egui_plot::{Plot, PlotBounds};
 use std::sync::{Arc, Mutex};
 use std::time::Duration;
 
+mod basin;
+pub use basin::well_integrity_text;
 mod drive;
 
 use super::params_panel::accessible_name;
@@ -45,6 +50,8 @@ pub const BACKBONE_LABEL: &str = "Backbone: period against energy";
 pub const FREQUENCY_LABEL: &str = "Backbone: frequency against amplitude";
 pub const SECTION_LABEL: &str = "Stroboscopic section";
 pub const MELNIKOV_LABEL: &str = "Melnikov function";
+pub const BASIN_LABEL: &str = "Safe basins over the phase plane";
+pub const EROSION_LABEL: &str = "Erosion curve: integrity against the drive amplitude";
 
 /// The session's settings of the panes, edited together.
 #[derive(Clone, Debug, PartialEq, Default)]
@@ -83,6 +90,8 @@ pub enum Tab {
     Backbone,
     Section,
     Melnikov,
+    Basin,
+    Erosion,
 }
 
 /// What the panes read from the explorer each frame.
@@ -106,6 +115,11 @@ pub struct PaneRequests {
     /// without a drive, or while its expressions are bad).
     pub section: Option<SectionRequest>,
     pub melnikov: Option<MelnikovRequest>,
+    /// The safe basins and the erosion curve of a driven session (None
+    /// without a drive, without an amplitude to vary for the curve, or
+    /// while an expression is bad).
+    pub basin: Option<BasinRequest>,
+    pub erosion: Option<ErosionRequest>,
     /// The levels behind the quantized orbits and the levels table (none
     /// without ħ, or while its expression is bad).
     pub levels: Option<LevelsRequest>,
@@ -182,6 +196,12 @@ pub fn resolve(inp: &Inputs) -> PaneRequests {
                 .ok()
                 .flatten()
         }),
+        basin: inp
+            .system
+            .and_then(|sys| BasinRequest::from_session(inp.session, sys).ok()),
+        erosion: inp
+            .system
+            .and_then(|sys| ErosionRequest::from_session(inp.session, sys).ok()),
     }
 }
 
@@ -213,6 +233,8 @@ pub struct ViewsPanel {
     figures: [Figure; LANES],
     /// The connection drawn heavier in the Melnikov pane.
     connection: Option<usize>,
+    /// The erosion job asked for with the button (it runs only on demand).
+    erosion_wanted: Option<ViewSpec>,
     /// A refused settings edit and why.
     refused: Option<String>,
 }
@@ -230,6 +252,7 @@ impl ViewsPanel {
             last_spec: Default::default(),
             figures: Default::default(),
             connection: None,
+            erosion_wanted: None,
             refused: None,
         })
     }
@@ -239,6 +262,7 @@ impl ViewsPanel {
         self.shown = Default::default();
         self.last_spec = Default::default();
         self.figures = Default::default();
+        self.erosion_wanted = None;
         self.refused = None;
         for l in &self.lanes {
             l.cancel();
@@ -330,7 +354,10 @@ impl ViewsPanel {
 
     /// The section shown in the section pane.
     pub fn section(&self) -> Option<&SectionData> {
-        match self.shown[ViewKind::Section.index()].as_ref().map(|c| c.outcome.as_ref()) {
+        match self.shown[ViewKind::Section.index()]
+            .as_ref()
+            .map(|c| c.outcome.as_ref())
+        {
             Some(ViewOutcome::Section(Ok(d))) => Some(d),
             _ => None,
         }
@@ -348,10 +375,96 @@ impl ViewsPanel {
     /// The Melnikov function shown in its pane (computed whenever the
     /// session has a drive, for the threshold on the amplitude slider).
     pub fn melnikov(&self) -> Option<&Melnikov> {
-        match self.shown[ViewKind::Melnikov.index()].as_ref().map(|c| c.outcome.as_ref()) {
+        match self.shown[ViewKind::Melnikov.index()]
+            .as_ref()
+            .map(|c| c.outcome.as_ref())
+        {
             Some(ViewOutcome::Melnikov(Ok(m))) => Some(m),
             _ => None,
         }
+    }
+
+    /// The safe basins shown in the basin pane (full or the quick look).
+    pub fn basin(&self) -> Option<&BasinData> {
+        match self.shown[ViewKind::Basin.index()]
+            .as_ref()
+            .map(|c| c.outcome.as_ref())
+        {
+            Some(ViewOutcome::Basin(Ok(d))) => Some(d),
+            _ => None,
+        }
+    }
+
+    /// The erosion curve shown in the erosion pane.
+    pub fn erosion(&self) -> Option<&Erosion> {
+        match self.shown[ViewKind::Erosion.index()]
+            .as_ref()
+            .map(|c| c.outcome.as_ref())
+        {
+            Some(ViewOutcome::Erosion(Ok(e))) => Some(e),
+            _ => None,
+        }
+    }
+
+    /// What a pane shows of `view` when it is complete and made for the
+    /// session as it is now (the full lattice, not cancelled): an export
+    /// writes it as it is instead of computing it again. Only the basin
+    /// and erosion views, whose computation is long, are offered.
+    pub fn shown_data(&self, inp: &Inputs, view: View) -> Option<ViewData> {
+        let sys = inp.system?;
+        let r = resolve(inp);
+        let (kind, spec) = match view {
+            View::Basin => (
+                ViewKind::Basin,
+                Self::spec_of(inp, sys, ViewTask::Basin(r.basin?), &[]),
+            ),
+            View::Erosion => (ViewKind::Erosion, Self::erosion_spec(inp, sys, &r.erosion?)),
+            _ => return None,
+        };
+        let c = self.shown[kind.index()].as_ref()?;
+        if c.spec != spec || c.outcome.cancelled() {
+            return None;
+        }
+        match c.outcome.as_ref() {
+            ViewOutcome::Basin(Ok(d)) => Some(ViewData::Basin(d.clone())),
+            ViewOutcome::Erosion(Ok(e)) => Some(ViewData::Erosion(e.clone())),
+            _ => None,
+        }
+    }
+
+    /// The job of `task` for what is shown now, with the parameters in
+    /// `fixed` set to the given values (so that moving them does not rerun it).
+    fn spec_of(inp: &Inputs, sys: &System, task: ViewTask, fixed: &[(&str, f64)]) -> ViewSpec {
+        let mut params = sys.params().to_vec();
+        for (name, v) in fixed {
+            if let Some(k) = sys.formula().param_index(name) {
+                params[k] = *v;
+            }
+        }
+        ViewSpec {
+            source: sys.formula().source().to_string(),
+            params,
+            window: inp.session.view,
+            task,
+        }
+    }
+
+    /// The erosion job for `req`: the amplitude it varies is fixed, so the
+    /// slider's present value only moves the guide on the curve.
+    fn erosion_spec(inp: &Inputs, sys: &System, req: &ErosionRequest) -> ViewSpec {
+        let fixed = [(req.amplitude.as_str(), req.from)];
+        Self::spec_of(inp, sys, ViewTask::Erosion(req.clone()), &fixed)
+    }
+
+    /// The basin job for what is shown now: the quick look while a slider
+    /// or the view is dragged, the full lattice otherwise.
+    fn basin_spec(inp: &Inputs, sys: &System, req: &BasinRequest) -> ViewSpec {
+        let request = if inp.dragging {
+            req.preview()
+        } else {
+            req.clone()
+        };
+        Self::spec_of(inp, sys, ViewTask::Basin(request), &[])
     }
 
     /// The section job for what is shown now: the request (coarse while a
@@ -425,22 +538,14 @@ impl ViewsPanel {
                 };
                 self.submit(ViewKind::Section, spec, sys);
             }
+            if self.tab == Tab::Basin
+                && let Some(req) = &r.basin
+            {
+                self.submit(ViewKind::Basin, Self::basin_spec(inp, sys, req), sys);
+            }
             return;
         }
-        let base = |task: ViewTask, fixed: &[(&str, f64)]| {
-            let mut params = sys.params().to_vec();
-            for (name, v) in fixed {
-                if let Some(k) = sys.formula().param_index(name) {
-                    params[k] = *v;
-                }
-            }
-            ViewSpec {
-                source: sys.formula().source().to_string(),
-                params,
-                window: inp.session.view,
-                task,
-            }
-        };
+        let base = |task: ViewTask, fixed: &[(&str, f64)]| Self::spec_of(inp, sys, task, fixed);
         let mut wanted: Vec<(ViewKind, ViewSpec)> = Vec::new();
         if let Some(sw) = &r.sweep {
             let fixed = [(sw.param.as_str(), sw.from)];
@@ -468,6 +573,15 @@ impl ViewsPanel {
         }
         if let Some(m) = &r.melnikov {
             wanted.push((ViewKind::Melnikov, base(ViewTask::Melnikov(m.clone()), &[])));
+        }
+        if self.tab == Tab::Basin
+            && let Some(req) = &r.basin
+        {
+            wanted.push((ViewKind::Basin, Self::basin_spec(inp, sys, req)));
+        }
+        // the erosion curve only when asked for (it is long)
+        if let Some(spec) = &self.erosion_wanted {
+            wanted.push((ViewKind::Erosion, spec.clone()));
         }
         for (kind, spec) in wanted {
             self.submit(kind, spec, sys);
@@ -515,6 +629,8 @@ impl ViewsPanel {
             ui.selectable_value(&mut self.tab, Tab::Backbone, "Backbone");
             ui.selectable_value(&mut self.tab, Tab::Section, "Section");
             ui.selectable_value(&mut self.tab, Tab::Melnikov, "Melnikov");
+            ui.selectable_value(&mut self.tab, Tab::Basin, "Safe basin");
+            ui.selectable_value(&mut self.tab, Tab::Erosion, "Erosion");
         });
         ui.separator();
         let r = resolve(inp);
@@ -533,6 +649,8 @@ impl ViewsPanel {
             Tab::Backbone => self.backbone_ui(ui, inp, &r, &look, &mut commands),
             Tab::Section => self.section_ui(ui, inp, &r, &look, &mut commands),
             Tab::Melnikov => self.melnikov_ui(ui, inp, &r, &look),
+            Tab::Basin => self.basin_ui(ui, inp, &r, &look),
+            Tab::Erosion => self.erosion_ui(ui, inp, &r, &look),
         }
         if let Some(msg) = &self.refused {
             ui.colored_label(ui.visuals().error_fg_color, msg);

@@ -1,7 +1,8 @@
 //! The explorer's background work, so the UI thread never waits. The portrait
 //! worker is one named thread that runs analyses and orbit integrations; each
-//! diagram pane (sweep, fold curve, backbone) and the quantized orbits over
-//! the portrait have their own [`Lane`]. Jobs carry
+//! diagram pane (sweep, fold curve, backbone, section, Melnikov function,
+//! safe basin, erosion curve) and the quantized orbits over the portrait
+//! have their own [`Lane`]. Jobs carry
 //! a generation number; a thread always runs the newest pending job, stale
 //! results are dropped by the UI, and a running job is cancelled through
 //! `core::Cancel` when a newer one arrives.
@@ -9,16 +10,16 @@
 use crate::core::Cancel;
 use crate::core::analysis::{Analysis, AnalysisConfig, analyze};
 use crate::core::backbone::{Backbone, BackboneError};
+use crate::core::basin::Erosion;
 use crate::core::continuation::{ContinuationError, Sweep, SweepProgress};
 use crate::core::folds::{FoldCurves, FoldProgress};
 use crate::core::melnikov::Melnikov;
 use crate::core::system::System;
 use crate::core::window::Window;
-use crate::render::SectionData;
+use crate::render::{BasinData, SectionData, basin_data};
 use crate::request::{
-    BackboneRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, SectionRequest,
-    SweepRequest,
-    undriven_analysis_of,
+    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult,
+    MelnikovRequest, SectionRequest, SweepRequest, undriven_analysis_of,
 };
 use crate::scene::Rgb;
 use crate::session::SeededOrbit;
@@ -317,16 +318,22 @@ pub enum ViewKind {
     Melnikov,
     /// The quantized orbits over the portrait and the levels table.
     Levels,
+    /// The safe basins of the wells under the drive.
+    Basin,
+    /// The integrity measures against the drive amplitude (on demand).
+    Erosion,
 }
 
 impl ViewKind {
-    pub const ALL: [ViewKind; 6] = [
+    pub const ALL: [ViewKind; 8] = [
         ViewKind::Diagram,
         ViewKind::Folds,
         ViewKind::Backbone,
         ViewKind::Section,
         ViewKind::Melnikov,
         ViewKind::Levels,
+        ViewKind::Basin,
+        ViewKind::Erosion,
     ];
 
     /// Position in [`ViewKind::ALL`].
@@ -338,6 +345,8 @@ impl ViewKind {
             ViewKind::Section => 3,
             ViewKind::Melnikov => 4,
             ViewKind::Levels => 5,
+            ViewKind::Basin => 6,
+            ViewKind::Erosion => 7,
         }
     }
 
@@ -349,6 +358,8 @@ impl ViewKind {
             ViewKind::Section => "phasewright-section",
             ViewKind::Melnikov => "phasewright-melnikov",
             ViewKind::Levels => "phasewright-levels",
+            ViewKind::Basin => "phasewright-basin",
+            ViewKind::Erosion => "phasewright-erosion",
         }
     }
 }
@@ -369,6 +380,9 @@ pub enum ViewTask {
     },
     Melnikov(MelnikovRequest),
     Levels(LevelsRequest),
+    /// A safe basin with H₀'s separatrices (full, or the quick look).
+    Basin(BasinRequest),
+    Erosion(ErosionRequest),
 }
 
 /// Everything a view job depends on; compared with the last job to decide whether to rerun.
@@ -391,6 +405,8 @@ pub enum ViewOutcome {
     Section(Result<SectionData, String>),
     Melnikov(Result<Melnikov, String>),
     Levels(LevelsResult),
+    Basin(Result<BasinData, String>),
+    Erosion(Result<Erosion, String>),
 }
 
 impl ViewOutcome {
@@ -402,6 +418,8 @@ impl ViewOutcome {
             ViewOutcome::Backbone(Ok(b)) => b.cancelled,
             ViewOutcome::Section(Ok(d)) => d.section.cancelled,
             ViewOutcome::Levels(l) => l.wells.iter().any(|w| w.cancelled),
+            ViewOutcome::Basin(Ok(b)) => b.basin.cancelled,
+            ViewOutcome::Erosion(Ok(e)) => e.cancelled,
             _ => false,
         }
     }
@@ -411,7 +429,10 @@ impl ViewOutcome {
         match self {
             ViewOutcome::Sweep(Err(e)) | ViewOutcome::Folds(Err(e)) => Some(e.to_string()),
             ViewOutcome::Backbone(Err(e)) => Some(e.to_string()),
-            ViewOutcome::Section(Err(e)) | ViewOutcome::Melnikov(Err(e)) => Some(e.clone()),
+            ViewOutcome::Section(Err(e))
+            | ViewOutcome::Melnikov(Err(e))
+            | ViewOutcome::Basin(Err(e))
+            | ViewOutcome::Erosion(Err(e)) => Some(e.clone()),
             _ => None,
         }
     }
@@ -656,5 +677,20 @@ fn run_view(job: &ViewJob, report: &(dyn Fn(usize, usize, String) + Sync)) -> Vi
             ViewOutcome::Melnikov(req.run(sys, window, &job.cancel))
         }
         ViewTask::Levels(req) => ViewOutcome::Levels(req.run(sys, window, &job.cancel)),
+        ViewTask::Basin(req) => ViewOutcome::Basin(
+            basin_data(sys, req, &job.cancel, &|done, total| {
+                report(done, total, format!("{done} of {total} starts"))
+            })
+            .map_err(|e| e.to_string()),
+        ),
+        ViewTask::Erosion(req) => {
+            ViewOutcome::Erosion(req.run(sys, &job.cancel, &|done, total| {
+                report(
+                    done,
+                    total,
+                    format!("{done} of {total} starts over {} amplitudes", req.values),
+                )
+            }))
+        }
     }
 }

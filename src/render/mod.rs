@@ -21,9 +21,9 @@ use crate::core::system::System;
 use crate::core::window::Window;
 use crate::numbers;
 use crate::request::{
-    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult, MelnikovRequest, Overrides,
-    SectionRequest, SweepRequest, centers_and_degenerate_in_view, centers_in_view,
-    seeded_orbit_request, undriven, undriven_analysis,
+    BackboneRequest, BasinRequest, ErosionRequest, FoldsRequest, LevelsRequest, LevelsResult,
+    MelnikovRequest, Overrides, SectionRequest, SweepRequest, centers_and_degenerate_in_view,
+    centers_in_view, seeded_orbit_request, undriven, undriven_analysis,
 };
 use crate::scene::{BackbonePlot, Rgb, Scene};
 use crate::session::Session;
@@ -271,7 +271,7 @@ pub fn view_data(
         View::Melnikov => ViewData::Melnikov(melnikov_of(session, sys, window, cancel)?),
         View::Basin => {
             let request = BasinRequest::from_session(session, sys).map_err(refused(view))?;
-            ViewData::Basin(basin_data(session, sys, &request, cancel, &|_, _| {})?)
+            ViewData::Basin(basin_data(sys, &request, cancel, &|_, _| {})?)
         }
         View::Erosion => ViewData::Erosion(
             ErosionRequest::from_session(session, sys)
@@ -282,9 +282,10 @@ pub fn view_data(
 }
 
 /// The safe basin `request` asks for, with the separatrices of H₀ (from
-/// the portrait's analysis of H₀ over the request's window).
+/// the portrait's analysis of H₀ over the request's window, with the
+/// request's analysis settings). The command line, `render` and the
+/// explorer's pane all come here.
 pub fn basin_data(
-    session: &Session,
     sys: &System,
     request: &BasinRequest,
     cancel: &Cancel,
@@ -294,7 +295,7 @@ pub fn basin_data(
         .run(sys, cancel, progress)
         .map_err(refused(View::Basin))?;
     let h0 = request.undriven(sys).map_err(refused(View::Basin))?;
-    let a = analyze(&h0, &request.window, &session.analysis_config(), cancel);
+    let a = analyze(&h0, &request.window, &request.analysis, cancel);
     let separatrices = a
         .curves
         .iter()

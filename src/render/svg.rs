@@ -5,8 +5,8 @@
 
 use crate::numbers::{coordinate as num, tick as tick_label};
 use crate::scene::{
-    Arrow, CellRaster, Cloud, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole, MarkerShape,
-    MarkerStyle, PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
+    Arrow, CellRaster, Cloud, Curve, CurveRole, FONT_FAMILY, INK, MUTED, Mark, MarkRole,
+    MarkerShape, MarkerStyle, PAPER, Rgb, Scene, Swatch, kind_name, nice_ticks,
 };
 use std::fmt::Write;
 

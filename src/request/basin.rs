@@ -69,7 +69,8 @@ impl BasinRequest {
         })
     }
 
-    /// The same request on the coarse preview lattice (while a slider is dragged).
+    /// The same request for a quick look while a slider is dragged (the
+    /// coarse lattice and fewer periods of [`BasinConfig::preview`]).
     pub fn preview(&self) -> BasinRequest {
         BasinRequest {
             cfg: self.cfg.preview(),
@@ -167,7 +168,7 @@ impl ErosionRequest {
         })
     }
 
-    /// The same curve on the coarse preview lattice.
+    /// The same curve for a quick look ([`BasinRequest::preview`]).
     pub fn preview(&self) -> ErosionRequest {
         ErosionRequest {
             basin: self.basin.preview(),

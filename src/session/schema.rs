@@ -122,9 +122,7 @@ pub fn json_schema() -> serde_json::Value {
     let mut value = root.to_value();
     // `view`, the older name of `window`, is still read: the same rectangle,
     // and never both in one file (serde refuses a field given twice).
-    if let Some(props) = value
-        .get_mut("properties")
-        .and_then(|p| p.as_object_mut())
+    if let Some(props) = value.get_mut("properties").and_then(|p| p.as_object_mut())
         && let Some(window) = props.get("window").cloned()
     {
         let mut view = window;

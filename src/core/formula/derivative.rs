@@ -761,9 +761,9 @@ pub(super) fn run_instructions<B: Bank>(ins: &[DIns], bank: &mut B) {
             DIns::PowF(a, c) => bank.map1(i, a, |x| x.powf(c)),
             DIns::TruncDiv(a, b) => bank.map2(i, a, b, |x, y| (x / y).trunc()),
             DIns::Atan2(a, b) => bank.map2(i, a, b, f64::atan2),
-            DIns::SignTimes(x, a) => bank.map2(i, x, a, |x, a| {
-                if x.is_sign_positive() { a } else { -a }
-            }),
+            DIns::SignTimes(x, a) => {
+                bank.map2(i, x, a, |x, a| if x.is_sign_positive() { a } else { -a })
+            }
             DIns::Pick { max, x, y, a, b } => bank.map4(i, [x, y, a, b], |[x, y, a, b]| {
                 if x.is_nan() || y.is_nan() {
                     f64::NAN

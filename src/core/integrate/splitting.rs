@@ -628,9 +628,11 @@ impl SplittingLanes {
             .zip(&self.p)
             .map(|(&q, &p)| sys.jet_t(q, p, t).hpp)
             .collect();
-        self.common_curvature = self.curvature.first().copied().filter(|c| {
-            self.curvature.iter().all(|x| x.to_bits() == c.to_bits())
-        });
+        self.common_curvature = self
+            .curvature
+            .first()
+            .copied()
+            .filter(|c| self.curvature.iter().all(|x| x.to_bits() == c.to_bits()));
         self.curvature.iter().map(|c| c.is_finite()).collect()
     }
 

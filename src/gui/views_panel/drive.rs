@@ -8,7 +8,7 @@ use crate::scene::threshold_sentence;
 impl ViewsPanel {
     /// Why a driven pane has nothing to show: no drive, or a drive whose
     /// expressions are bad (the message names the field).
-    fn no_drive(ui: &mut egui::Ui, inp: &Inputs) {
+    pub(super) fn no_drive(ui: &mut egui::Ui, inp: &Inputs) {
         match inp.session.drive() {
             Ok(None) => {
                 ui.label(
