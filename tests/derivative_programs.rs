@@ -127,8 +127,8 @@ proptest! {
         prop_assert!(identical + 1 >= checked, "{}: {} of {} identical", src, identical, checked);
     }
 
-    /// The lane evaluation gives, at each of many points with one common t,
-    /// exactly the one-point value (the reference: `eval`, checked against
+    /// The lane evaluation gives, at each of many points with one common t
+    /// or with a t of their own, exactly the one-point value (the reference: `eval`, checked against
     /// dual numbers above), NaN where that is NaN, for every slot.
     #[test]
     fn lane_evaluation_is_the_one_point_evaluation(
@@ -157,6 +157,17 @@ proptest! {
                 prop_assert!(
                     out[k].to_bits() == want.to_bits() || (out[k].is_nan() && want.is_nan()),
                     "∂/∂slot{} of {} at lane {}: lanes {:e} vs one point {:e}",
+                    slot, src, k, out[k], want
+                );
+            }
+            // each lane with its own t
+            let ts: Vec<f64> = (0..m).map(|k| t + 0.61 * k as f64 - 1.3).collect();
+            program.eval_lanes_at(&q, &p, &ts, &mut out, &mut regs);
+            for k in 0..m {
+                let want = program.eval(q[k], p[k], ts[k]);
+                prop_assert!(
+                    out[k].to_bits() == want.to_bits() || (out[k].is_nan() && want.is_nan()),
+                    "∂/∂slot{} of {} at lane {} (own t): lanes {:e} vs one point {:e}",
                     slot, src, k, out[k], want
                 );
             }

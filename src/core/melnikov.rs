@@ -21,7 +21,7 @@
 
 use super::Cancel;
 use super::equilibria::{Equilibrium, saddle_directions};
-use super::formula::{SLOT_P, SLOT_Q};
+use super::formula::{LANES, LaneRegisters, SLOT_P, SLOT_Q};
 use super::integrate::{Integrator, Method, State};
 use super::system::System;
 use super::wells::{Connection, ConnectionKind};
@@ -267,19 +267,49 @@ pub fn melnikov(
                 .collect();
             (dq1, dp1, g0)
         });
+        // The points in blocks of LANES, each with its own t = s + t₀: one
+        // instruction of the derivative programs over the whole block.
+        let blocks: Vec<[Vec<f64>; 3]> = orbit
+            .pts
+            .chunks(LANES)
+            .map(|c| {
+                [
+                    c.iter().map(|x| x.0).collect(),
+                    c.iter().map(|x| x.1).collect(),
+                    c.iter().map(|x| x.2).collect(),
+                ]
+            })
+            .collect();
+        let regs = std::cell::RefCell::new((
+            LaneRegisters::default(),
+            [0.0; LANES],
+            [0.0; LANES],
+            [0.0; LANES],
+        ));
         let m = |t0: f64| -> f64 {
             match &fast {
-                Some((dq1, dp1, g0)) => orbit
-                    .pts
-                    .iter()
-                    .zip(g0)
-                    .map(|(&(q, p, s, w), g)| {
-                        let t = s + t0;
-                        let h1q = dq1.eval(q, p, t) - g[0];
-                        let h1p = dp1.eval(q, p, t) - g[1];
-                        w * (g[0] * h1p - g[1] * h1q)
-                    })
-                    .sum(),
+                Some((dq1, dp1, g0)) => {
+                    let mut guard = regs.borrow_mut();
+                    let (regs, ts, fq, fp) = &mut *guard;
+                    let mut sum = 0.0;
+                    for (b, [q, p, s]) in blocks.iter().enumerate() {
+                        let n = q.len();
+                        for (t, s) in ts.iter_mut().zip(s) {
+                            *t = s + t0;
+                        }
+                        dq1.eval_lanes_at(q, p, &ts[..n], &mut fq[..n], regs);
+                        dp1.eval_lanes_at(q, p, &ts[..n], &mut fp[..n], regs);
+                        let first = b * LANES;
+                        for k in 0..n {
+                            let g = g0[first + k];
+                            let w = orbit.pts[first + k].3;
+                            let h1q = fq[k] - g[0];
+                            let h1p = fp[k] - g[1];
+                            sum += w * (g[0] * h1p - g[1] * h1q);
+                        }
+                    }
+                    sum
+                }
                 None => orbit
                     .pts
                     .iter()
@@ -451,7 +481,7 @@ fn trace(
     }
     let lam = la.0.max(lb.0);
     let h = STEP_PER_LAMBDA / lam;
-    let mut integ = Integrator::new(sys0, Method::Gauss6).map_err(|e| e.to_string())?;
+    let mut integ = Integrator::new(sys0, Method::Auto).map_err(|e| e.to_string())?;
     let mut pts = vec![(q, p, 0.0, h)];
     // Forward in time the orbit approaches a saddle along its stable
     // direction, backward along its unstable one. Which saddle it approaches

@@ -431,6 +431,9 @@ pub struct DerivativeProgram {
     /// For each instruction, whether it is the same in every lane (reads
     /// neither q nor p), for [`DerivativeProgram::eval_lanes`].
     uniform: Vec<bool>,
+    /// The same when t too differs from lane to lane (reads none of q, p,
+    /// t), for [`DerivativeProgram::eval_lanes_at`].
+    fixed: Vec<bool>,
 }
 
 impl DerivativeProgram {
@@ -489,11 +492,13 @@ impl DerivativeProgram {
                 ins: Vec::new(),
                 constant: Some(c),
                 uniform: Vec::new(),
+                fixed: Vec::new(),
             },
             Sv::R(r) => {
                 let ins = keep_needed(&b.ins[..=r as usize]);
                 DerivativeProgram {
-                    uniform: uniform_instructions(&ins),
+                    uniform: uniform_instructions(&ins, &[SLOT_Q, SLOT_P]),
+                    fixed: uniform_instructions(&ins, &[SLOT_Q, SLOT_P, SLOT_T]),
                     ins,
                     constant: None,
                 }
@@ -506,6 +511,7 @@ impl DerivativeProgram {
             ins: Vec::new(),
             constant: Some(f64::NAN),
             uniform: Vec::new(),
+            fixed: Vec::new(),
         }
     }
 
@@ -631,8 +637,48 @@ impl DerivativeProgram {
                 q,
                 p,
                 t,
+                ts: None,
                 m,
                 uniform: &self.uniform,
+            },
+        );
+        out[..m].copy_from_slice(&regs.regs[n - 1][..m]);
+    }
+
+    /// The derivative at the points (q[k], p[k], t[k]), k < m, each with its
+    /// own t (m the shortest of the four slices, at most [`LANES`]); as
+    /// [`DerivativeProgram::eval_lanes`] otherwise, and every value again
+    /// bit for bit that of [`DerivativeProgram::eval`] at its point.
+    pub fn eval_lanes_at(
+        &self,
+        q: &[f64],
+        p: &[f64],
+        t: &[f64],
+        out: &mut [f64],
+        regs: &mut LaneRegisters,
+    ) {
+        let m = q.len().min(p.len()).min(t.len()).min(out.len()).min(LANES);
+        if m == 0 {
+            return;
+        }
+        if let Some(c) = self.constant {
+            out[..m].fill(c);
+            return;
+        }
+        let n = self.ins.len();
+        if regs.regs.len() < n {
+            regs.regs.resize(n, [0.0; LANES]);
+        }
+        run_instructions(
+            &self.ins,
+            &mut Lanes {
+                r: &mut regs.regs[..n],
+                q,
+                p,
+                t: 0.0,
+                ts: Some(t),
+                m,
+                uniform: &self.fixed,
             },
         );
         out[..m].copy_from_slice(&regs.regs[n - 1][..m]);
@@ -827,6 +873,8 @@ struct Lanes<'a> {
     q: &'a [f64],
     p: &'a [f64],
     t: f64,
+    /// Each lane's own t, when they differ (then `uniform` is `fixed`).
+    ts: Option<&'a [f64]>,
     m: usize,
     uniform: &'a [bool],
 }
@@ -848,7 +896,10 @@ impl Bank for Lanes<'_> {
         match slot as usize {
             SLOT_Q => out.copy_from_slice(&self.q[..m]),
             SLOT_P => out.copy_from_slice(&self.p[..m]),
-            _ => out.fill(self.t),
+            _ => match self.ts {
+                Some(ts) => out.copy_from_slice(&ts[..m]),
+                None => out.fill(self.t),
+            },
         }
     }
     #[inline(always)]
@@ -895,14 +946,14 @@ impl Bank for Lanes<'_> {
     }
 }
 
-/// For each instruction, true when it reads neither q nor p (directly or
-/// through the registers it reads).
-fn uniform_instructions(ins: &[DIns]) -> Vec<bool> {
+/// For each instruction, true when it reads none of the `varying` slots
+/// (directly or through the registers it reads).
+fn uniform_instructions(ins: &[DIns], varying: &[usize]) -> Vec<bool> {
     let mut uniform: Vec<bool> = Vec::with_capacity(ins.len());
     for op in ins {
         let u = |r: &u32| uniform.get(*r as usize).copied().unwrap_or(false);
         let v = match op {
-            DIns::Slot(s) => !matches!(*s as usize, SLOT_Q | SLOT_P),
+            DIns::Slot(s) => !varying.contains(&(*s as usize)),
             DIns::Const(_) => true,
             DIns::Neg(a) | DIns::F1(_, a) | DIns::PowI(a, _) | DIns::PowF(a, _) => u(a),
             DIns::Add(a, b)
