@@ -231,7 +231,7 @@ impl PlotPanel {
                     .checkbox(&mut show, "Levels")
                     .on_hover_text(
                         "Draw each well's quantized orbits: the level curves at the \
-                         Bohr–Sommerfeld energies Eₙ, labelled n = 0, 1, … (saved with the session)",
+                         Bohr–Sommerfeld energies E(n), labelled n = 0, 1, … (saved with the session)",
                     )
                     .changed()
                 {

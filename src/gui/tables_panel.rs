@@ -327,7 +327,7 @@ impl TablesPanel {
 /// Each well's levels under its summary; the wells that gave none, with why.
 fn levels_tables(ui: &mut egui::Ui, l: &LevelsResult) {
     ui.small(format!(
-        "Bohr–Sommerfeld levels, I(Eₙ) = ħ(n + ½) with ħ = {}: semiclassical estimates \
+        "Bohr–Sommerfeld levels, I(E(n)) = ħ(n + ½) with ħ = {}: semiclassical estimates \
          for an idealised model, not spectroscopic values.",
         crate::numbers::caption(l.hbar)
     ));
@@ -343,7 +343,7 @@ fn levels_tables(ui: &mut egui::Ui, l: &LevelsResult) {
             .striped(true)
             .num_columns(4)
             .show(ui, |ui| {
-                for h in ["n", "Eₙ", "Eₙ − E₀", "spacing Eₙ₊₁ − Eₙ"] {
+                for h in ["n", "E(n)", "E(n) − E(0)", "spacing E(n+1) − E(n)"] {
                     ui.strong(h);
                 }
                 ui.end_row();
