@@ -134,7 +134,8 @@ pub fn analysis_table(r: &Resolved, a: &Analysis) -> String {
                 num(clean(wl.q, qn)),
                 num(clean(wl.p, pn)),
                 num(clean(wl.energy, hn)),
-                wl.escape_energy.map_or("none in view".to_string(), num),
+                wl.escape_energy
+                    .map_or("none in view".to_string(), |e| num(clean(e, hn))),
                 wl.depth.map_or("-".to_string(), num),
                 wl.escape_saddle
                     .map_or("-".to_string(), |s| format!("#{}", s + 1)),

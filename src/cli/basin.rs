@@ -3,6 +3,7 @@
 
 use super::*;
 use crate::core::basin::{Basin, Erosion, MAX_AMPLITUDES, MAX_LATTICE, MAX_PERIODS};
+use crate::numbers::clean;
 use crate::render::{ExportFormat, FigureSize, ViewData};
 use crate::request::{BasinRequest, ErosionRequest};
 use crate::session::BasinSettings;
@@ -229,6 +230,13 @@ fn basin_text(r: &Resolved, b: &Basin) -> String {
         b.method.name(),
         b.steps_per_period
     );
+    // rounding noise next to zero (an escape energy of -4e-87) is written as 0
+    let view = &r.window;
+    let h_scale = b
+        .wells
+        .iter()
+        .map(|w| w.escape_energy.abs())
+        .fold(1.0, f64::max);
     let rows: Vec<Vec<String>> = b
         .wells
         .iter()
@@ -240,9 +248,9 @@ fn basin_text(r: &Resolved, b: &Basin) -> String {
                     k + 1,
                     if w.truncated { " (cut by view)" } else { "" }
                 ),
-                num(w.center[0]),
-                num(w.center[1]),
-                num(w.escape_energy),
+                num(clean(w.center[0], view.width())),
+                num(clean(w.center[1], view.height())),
+                num(clean(w.escape_energy, h_scale)),
                 format!("{}", w.starts),
                 format!("{}", w.safe),
                 num(w.safe_area),

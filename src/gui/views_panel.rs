@@ -330,7 +330,7 @@ impl ViewsPanel {
 
     /// The sweep shown in the diagram pane.
     pub fn sweep(&self) -> Option<&Sweep> {
-        match self.shown[0].as_ref().map(|c| c.outcome.as_ref()) {
+        match self.outcome(ViewKind::Diagram) {
             Some(ViewOutcome::Sweep(Ok(s))) => Some(s),
             _ => None,
         }
@@ -338,7 +338,7 @@ impl ViewsPanel {
 
     /// The fold curves shown in the fold pane.
     pub fn folds(&self) -> Option<&FoldCurves> {
-        match self.shown[1].as_ref().map(|c| c.outcome.as_ref()) {
+        match self.outcome(ViewKind::Folds) {
             Some(ViewOutcome::Folds(Ok(f))) => Some(f),
             _ => None,
         }
@@ -346,7 +346,7 @@ impl ViewsPanel {
 
     /// The backbone shown in the backbone pane.
     pub fn backbone(&self) -> Option<&Backbone> {
-        match self.shown[2].as_ref().map(|c| c.outcome.as_ref()) {
+        match self.outcome(ViewKind::Backbone) {
             Some(ViewOutcome::Backbone(Ok(b))) => Some(b),
             _ => None,
         }
@@ -354,13 +354,17 @@ impl ViewsPanel {
 
     /// The section shown in the section pane.
     pub fn section(&self) -> Option<&SectionData> {
-        match self.shown[ViewKind::Section.index()]
-            .as_ref()
-            .map(|c| c.outcome.as_ref())
-        {
+        match self.outcome(ViewKind::Section) {
             Some(ViewOutcome::Section(Ok(d))) => Some(d),
             _ => None,
         }
+    }
+
+    /// What the pane of `kind` shows now, if anything.
+    fn outcome(&self, kind: ViewKind) -> Option<&ViewOutcome> {
+        self.shown[kind.index()]
+            .as_ref()
+            .map(|c| c.outcome.as_ref())
     }
 
     /// The newest levels (quantized orbits and table) with their generation.
@@ -375,10 +379,7 @@ impl ViewsPanel {
     /// The Melnikov function shown in its pane (computed whenever the
     /// session has a drive, for the threshold on the amplitude slider).
     pub fn melnikov(&self) -> Option<&Melnikov> {
-        match self.shown[ViewKind::Melnikov.index()]
-            .as_ref()
-            .map(|c| c.outcome.as_ref())
-        {
+        match self.outcome(ViewKind::Melnikov) {
             Some(ViewOutcome::Melnikov(Ok(m))) => Some(m),
             _ => None,
         }
@@ -386,10 +387,7 @@ impl ViewsPanel {
 
     /// The safe basins shown in the basin pane (full or the quick look).
     pub fn basin(&self) -> Option<&BasinData> {
-        match self.shown[ViewKind::Basin.index()]
-            .as_ref()
-            .map(|c| c.outcome.as_ref())
-        {
+        match self.outcome(ViewKind::Basin) {
             Some(ViewOutcome::Basin(Ok(d))) => Some(d),
             _ => None,
         }
@@ -397,10 +395,7 @@ impl ViewsPanel {
 
     /// The erosion curve shown in the erosion pane.
     pub fn erosion(&self) -> Option<&Erosion> {
-        match self.shown[ViewKind::Erosion.index()]
-            .as_ref()
-            .map(|c| c.outcome.as_ref())
-        {
+        match self.outcome(ViewKind::Erosion) {
             Some(ViewOutcome::Erosion(Ok(e))) => Some(e),
             _ => None,
         }

@@ -619,30 +619,7 @@ impl DerivativeProgram {
         regs: &mut LaneRegisters,
     ) {
         let m = q.len().min(p.len()).min(out.len()).min(LANES);
-        if m == 0 {
-            return;
-        }
-        if let Some(c) = self.constant {
-            out[..m].fill(c);
-            return;
-        }
-        let n = self.ins.len();
-        if regs.regs.len() < n {
-            regs.regs.resize(n, [0.0; LANES]);
-        }
-        run_instructions(
-            &self.ins,
-            &mut Lanes {
-                r: &mut regs.regs[..n],
-                q,
-                p,
-                t,
-                ts: None,
-                m,
-                uniform: &self.uniform,
-            },
-        );
-        out[..m].copy_from_slice(&regs.regs[n - 1][..m]);
+        self.run_lanes(q, p, t, None, &mut out[..m], regs);
     }
 
     /// The derivative at the points (q[k], p[k], t[k]), k < m, each with its
@@ -658,11 +635,26 @@ impl DerivativeProgram {
         regs: &mut LaneRegisters,
     ) {
         let m = q.len().min(p.len()).min(t.len()).min(out.len()).min(LANES);
+        self.run_lanes(q, p, 0.0, Some(t), &mut out[..m], regs);
+    }
+
+    /// One pass of the instructions over the `out.len()` lanes, at the
+    /// common time `t` or at each lane's own `ts`.
+    fn run_lanes(
+        &self,
+        q: &[f64],
+        p: &[f64],
+        t: f64,
+        ts: Option<&[f64]>,
+        out: &mut [f64],
+        regs: &mut LaneRegisters,
+    ) {
+        let m = out.len();
         if m == 0 {
             return;
         }
         if let Some(c) = self.constant {
-            out[..m].fill(c);
+            out.fill(c);
             return;
         }
         let n = self.ins.len();
@@ -675,13 +667,17 @@ impl DerivativeProgram {
                 r: &mut regs.regs[..n],
                 q,
                 p,
-                t: 0.0,
-                ts: Some(t),
+                t,
+                ts,
                 m,
-                uniform: &self.fixed,
+                uniform: if ts.is_some() {
+                    &self.fixed
+                } else {
+                    &self.uniform
+                },
             },
         );
-        out[..m].copy_from_slice(&regs.regs[n - 1][..m]);
+        out.copy_from_slice(&regs.regs[n - 1][..m]);
     }
 }
 
