@@ -7,16 +7,19 @@
 //!
 //! The parts, one file each: [`front`] (meval's tokens checked and placed),
 //! [`compile`] (postfix tokens to the tape), [`tape`] (the tape evaluator in
-//! `f64` and dual numbers), [`rows`] (the row evaluator over many points) and
-//! [`derivative`] (partial derivatives as straight-line programs).
+//! `f64` and dual numbers), [`rows`] (the row evaluator over many points),
+//! [`derivative`] (partial derivatives as straight-line programs) and
+//! [`lanes`] (those programs over blocks of points).
 
 mod compile;
 mod derivative;
 mod front;
+mod lanes;
 mod rows;
 mod tape;
 
-pub use derivative::{DerivativeProgram, LANES, LaneRegisters};
+pub use derivative::DerivativeProgram;
+pub use lanes::{LANES, LaneRegisters};
 pub use rows::{CHUNK, RowProgram};
 
 use compile::*;
