@@ -168,16 +168,19 @@ impl Scene {
                 arrows: Vec::new(),
             });
             legend.push(line_entry(
-                format!(
-                    "{} {}: saddles {} to {}",
-                    match c.kind {
-                        crate::core::wells::ConnectionKind::Homoclinic => "loop",
-                        crate::core::wells::ConnectionKind::Heteroclinic => "link",
-                    },
-                    k + 1,
-                    c.from + 1,
-                    c.to + 1
-                ),
+                match c.kind {
+                    crate::core::wells::ConnectionKind::Homoclinic => {
+                        format!("loop {}: through saddle {}", k + 1, c.from + 1)
+                    }
+                    crate::core::wells::ConnectionKind::Heteroclinic => {
+                        format!(
+                            "link {}: saddle {} to saddle {}",
+                            k + 1,
+                            c.from + 1,
+                            c.to + 1
+                        )
+                    }
+                },
                 colour,
                 MELNIKOV_WIDTH,
                 false,

@@ -129,7 +129,7 @@ impl ViewsPanel {
             self.connection = None;
         }
         ui.horizontal(|ui| {
-            ui.label("heavier:");
+            ui.label("Stress the connection:");
             let mut chosen = self.connection;
             let r = egui::ComboBox::from_id_salt("melnikov-connection")
                 .selected_text(show(chosen))
