@@ -265,4 +265,18 @@ fn saving_a_shipped_example_offers_a_new_file_in_the_documents_folder() {
             .display()
             .to_string()
     );
+    h.get_by_label("Cancel").click();
+    h.run_steps(3);
+
+    // Exports of a shipped example are offered in the documents folder too,
+    // never beside the examples.
+    h.get_by_label("Export").click();
+    h.run_steps(3);
+    h.get_by_label("Portrait").hover();
+    h.run_steps(3);
+    h.get_by_label("Figure (SVG)…").click();
+    h.run_steps(3);
+    assert_eq!(h.state().modal_name(), "path-prompt");
+    let offered = std::path::PathBuf::from(prompt_text(&h));
+    assert_eq!(offered.parent(), Some(docs.path()), "{}", offered.display());
 }

@@ -492,14 +492,7 @@ impl Explorer {
             DialogPurpose::SaveAs => self.doc.save_as_suggestion().display().to_string(),
             DialogPurpose::Export(view, format) => {
                 let name = files::export_file_name(view, format);
-                let dir = self
-                    .doc
-                    .file
-                    .as_ref()
-                    .and_then(|f| f.parent().map(Path::to_path_buf))
-                    .or_else(|| std::env::current_dir().ok())
-                    .unwrap_or_default();
-                dir.join(name).display().to_string()
+                self.doc.export_dir().join(name).display().to_string()
             }
             DialogPurpose::Open => self
                 .doc
@@ -534,19 +527,19 @@ impl Explorer {
                 suggestion.parent().map(Path::to_path_buf),
                 file_name(&suggestion),
             ),
-            _ => (
+            DialogPurpose::Export(view, format) => (
+                Some(self.doc.export_dir()),
+                files::export_file_name(view, format),
+            ),
+            DialogPurpose::Open => (
                 self.doc
                     .file
                     .as_ref()
                     .and_then(|f| f.parent().map(Path::to_path_buf)),
-                match purpose {
-                    DialogPurpose::Export(view, format) => files::export_file_name(view, format),
-                    _ => self
-                        .doc
-                        .file
-                        .as_deref()
-                        .map_or("session.json".to_string(), file_name),
-                },
+                self.doc
+                    .file
+                    .as_deref()
+                    .map_or("session.json".to_string(), file_name),
             ),
         };
         match PendingDialog::start(purpose, dir, &name) {

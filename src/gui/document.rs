@@ -6,7 +6,7 @@ use super::files::{self, DataDir};
 use super::history::{EditKind, History};
 use crate::core::window::Window;
 use crate::session::Session;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 /// Autosave to the recovery file this often while there are unsaved changes (s).
 const AUTOSAVE_SECONDS: f64 = 4.0;
@@ -93,6 +93,16 @@ impl Document {
     /// Where Save as… offers to write (never over a shipped example).
     pub(super) fn save_as_suggestion(&self) -> PathBuf {
         files::save_as_suggestion(self.file.as_deref(), self.bundled, &self.session.title)
+    }
+
+    /// The folder exports are offered in: the session file's own folder when
+    /// it is the user's, else the documents folder (nothing is written
+    /// beside the shipped examples unasked).
+    pub(super) fn export_dir(&self) -> PathBuf {
+        match self.file.as_deref().and_then(Path::parent) {
+            Some(dir) if !self.bundled => dir.to_path_buf(),
+            _ => files::documents_dir(),
+        }
     }
 
     /// Write the session to `path`; on success it is the document's file and
