@@ -3,14 +3,14 @@
 //! 40-point erosion curve of 100 × 100 starts, and beside them the
 //! project's NumPy peer `examples/peers/basin_rk4.py` (fixed-step RK4
 //! vectorised over all starts, escaped starts dropped, the same rule and
-//! the same steps per period) and, when present, the shared section peer
-//! `../shared/bench/drive_peer.py`. Energy errors of both on the undriven,
-//! undamped case at the same step.
+//! the same steps per period). Energy errors of both on the undriven,
+//! undamped case at the same step. The outside peer
+//! `../shared/bench/drive_peer.py` (every start kept, no leaving rule) runs
+//! on its own workload in `bench_drive`.
 //!
 //!   cargo run --release --example bench_basin
 //!
-//! `PHASEWRIGHT_BENCH_NO_PYTHON=1` skips the peers; `PHASEWRIGHT_DRIVE_PEER`
-//! names another path for the shared one. The peers need NumPy.
+//! `PHASEWRIGHT_BENCH_NO_PYTHON=1` skips the peer. It needs NumPy.
 
 use phasewright::core::Cancel;
 use phasewright::core::analysis::AnalysisConfig;
@@ -229,32 +229,7 @@ fn main() {
         }
         None => println!("peer basin_rk4.py not run"),
     }
-    let shared = std::env::var("PHASEWRIGHT_DRIVE_PEER")
-        .unwrap_or_else(|_| format!("{here}/../shared/bench/drive_peer.py"));
-    let shared = if Path::new(&shared).exists() {
-        shared
-    } else {
-        "/work/shared/bench/drive_peer.py".to_string()
-    };
-    let sargs: Vec<String> = ["--orbits", "10000", "--periods", "60", "--steps"]
-        .iter()
-        .map(|s| s.to_string())
-        .chain([steps.to_string()])
-        .collect();
-    match peer(&shared, &sargs) {
-        Some(p) => {
-            let ms = p.get("driven_section_ms").copied().unwrap_or(f64::NAN);
-            let rate = 10_000.0 * 60.0 / (ms / 1e3);
-            println!(
-                "shared peer drive_peer.py (10000 starts x 60 periods, {steps} steps, all kept): \
-                 {ms:.0} ms, {rate:.3e} start-periods/s, undriven energy error {:.3e}; \
-                 ratio ours (F = 0.25, lattice) / it: {:.1}x",
-                p.get("free_max_rel_energy_error")
-                    .copied()
-                    .unwrap_or(f64::NAN),
-                ours_throughput / rate
-            );
-        }
-        None => println!("shared peer drive_peer.py not run ({shared})"),
-    }
+    // the outside peer `../shared/bench/drive_peer.py` keeps every start
+    // (no leaving rule): its workload runs in bench_drive ("wide section")
+    println!("the outside peer's own workload: cargo run --release --example bench_drive");
 }

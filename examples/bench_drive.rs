@@ -218,6 +218,64 @@ fn main() {
         basin_rows.push((label, t.median, throughput, err));
     }
 
+    // the outside peer's own workload at the basin's size: its lattice, its
+    // drive, every start kept for 60 periods, all cores
+    let wide_starts = lattice(n, [-1.5, 1.5], [-0.8, 0.8]);
+    let anywhere = |_: [f64; 2]| true;
+    let unrecorded = Strobe {
+        stays: &anywhere,
+        record: false,
+    };
+    println!(
+        "wide section: {n} x {n} starts over q in [-1.5, 1.5], p in [-0.8, 0.8] x 60 drive \
+         periods, F = 0.3, no damping, every start kept, {threads} threads"
+    );
+    let mut wide_rows = Vec::new();
+    for (method, steps) in [
+        (Method::Auto, None),
+        (Method::Nystrom6, Some(16)),
+        (Method::Nystrom6, Some(12)),
+        (Method::Nystrom6, Some(10)),
+        (Method::Nystrom6, Some(8)),
+        (Method::Nystrom4, Some(8)),
+    ] {
+        let cfg = config(60, 0.0, method, steps);
+        let mut used = (Method::Auto, 0);
+        let t = time_ms(3, || {
+            let s = strobe_runs(
+                &driven,
+                &wide_starts,
+                &cfg,
+                &unrecorded,
+                &Cancel::never(),
+                &quiet,
+            )
+            .expect("the wide section runs");
+            used = (s.method, s.steps_per_period);
+        });
+        let recorded = Strobe {
+            stays: &anywhere,
+            record: true,
+        };
+        let mut err: f64 = 0.0;
+        for piece in wide_starts.chunks(10_000) {
+            let s = strobe_runs(&free, piece, &cfg, &recorded, &Cancel::never(), &quiet)
+                .expect("the undriven wide section runs");
+            err = err.max(energy_error(&free, &s.orbits));
+        }
+        let throughput = (n * n * 60) as f64 / (t.median / 1e3);
+        let label = format!(
+            "{:<9} {:>3} steps/period{}",
+            used.0.name(),
+            used.1,
+            if steps.is_none() { " (default)" } else { "" }
+        );
+        println!(
+            "  {label:<36} {t}   {throughput:.3e} starts x periods/s; undriven energy error {err:.2e}"
+        );
+        wide_rows.push((label, throughput, err));
+    }
+
     // Melnikov threshold of the driven double well (δ = 0.25)
     let mut session = Session::blank(FORMULA);
     for (name, value) in [("F", 0.3), ("W", 1.0)] {
@@ -309,6 +367,47 @@ fn main() {
             println!(
                 "  {label} ({ours_ms:.1} ms): {:6.1}x the peer's throughput, \
                  energy error {} the peer's",
+                ours / rate,
+                if *e <= err { "at or below" } else { "ABOVE" }
+            );
+        }
+    }
+
+    // the peers on the wide section: the outside one as it is written (q**3)
+    // and the own one with the cube as two products
+    let wide_own = [
+        "--orbits",
+        "40000",
+        "--periods",
+        "60",
+        "--steps",
+        &steps,
+        "--cube",
+        "products",
+    ];
+    let wide_outside = ["--orbits", "40000", "--periods", "60", "--steps", &steps];
+    for peer in peers::run_peers_of(&DRIVE_PEERS, &wide_own, &wide_outside) {
+        let (Some(ms), Some(err)) = (
+            peer.get("driven_ms").or(peer.get("driven_section_ms")),
+            peer.get("free_max_rel_energy_error"),
+        ) else {
+            println!("{}: unexpected output {}", peer.label, peer.figures);
+            continue;
+        };
+        let rate = (n * n * 60) as f64 / (ms / 1e3);
+        let cube = peer
+            .figures
+            .get("cube")
+            .and_then(|c| c.as_str())
+            .unwrap_or("power");
+        println!(
+            "{} wide section, NumPy RK4 {PEER_STEPS} steps/period, cube by {cube}: {ms:.0} ms, \
+             {rate:.3e} starts x periods/s; energy error {err:.2e}",
+            peer.label
+        );
+        for (label, ours, e) in &wide_rows {
+            println!(
+                "  {label:<36} {:6.1}x the peer's throughput, energy error {} the peer's",
                 ours / rate,
                 if *e <= err { "at or below" } else { "ABOVE" }
             );

@@ -213,3 +213,22 @@ fn affine_detection_separates_quadratic_from_other_kinetic_energies() {
         );
     }
 }
+
+#[test]
+fn a_product_scaled_twice_by_powers_of_two_is_scaled_once() {
+    // ∂(p²/2)/∂p = p and ∂(−q²/2 + q⁴/4)/∂q = q³ − q (calculus). The quotient
+    // rule on the constant divisors scales by 2, ½, ½ in a row; the builder
+    // folds such scalings, which are exact, so the program is short and
+    // its value is the closed form's to the bit.
+    let f = Formula::compile("p^2/2 - q^2/2 + q^4/4").unwrap();
+    let drift = f.derivative_program(SLOT_P, &[]);
+    // p, p + p, ½, (p + p)·½
+    assert_eq!(drift.len(), 4);
+    let kick = f.derivative_program(SLOT_Q, &[]);
+    // q, q + q, ½, ·½, −, q·q, ·q, +
+    assert_eq!(kick.len(), 8);
+    for x in [-1.7, -0.3, 0.0, 0.25, 1.0, 1.9, 123.456] {
+        assert_eq!(drift.eval(0.4, x, 0.0).to_bits(), x.to_bits());
+        assert_eq!(kick.eval(x, 0.4, 0.0), -x + x * x * x);
+    }
+}

@@ -376,13 +376,16 @@ fn slider_step() -> BoxedStrategy<Value> {
 }
 
 /// A parameter with `min < max` and `value` within them; its name comes
-/// from the caller so that names stay distinct.
+/// from the caller so that names stay distinct. A wrong name is blank to
+/// `str::trim` or not text: a name of U+FEFF alone is a name to the loader,
+/// and two parameters could both draw it, a duplicate the schema cannot see
+/// (it has no rule for one field unique across the list).
 fn parameter(n: &'static str) -> BoxedStrategy<Value> {
     let good_name = field(
         padding()
             .prop_map(move |pad| json!(format!("{n}{pad}")))
             .boxed(),
-        prop_oneof![blank_text(), wrong_type()].boxed(),
+        prop_oneof![white_space(), wrong_type()].boxed(),
     );
     (
         good_name,

@@ -52,9 +52,20 @@ pub(super) struct SDual {
 pub(super) const S0: Sv = Sv::C(0.0);
 pub(super) const S1: Sv = Sv::C(1.0);
 
+/// True for ±2ᵏ in the normal range: multiplying by it only moves the
+/// exponent, so it rounds nothing.
+fn power_of_two(c: f64) -> bool {
+    c.is_normal() && c.to_bits() & ((1u64 << 52) - 1) == 0
+}
+
 /// Emits instructions with constant folding; every rule below is the rule
 /// num-dual's `Dual64` applies, so a program agrees with a dual-number pass
-/// of the tape to rounding (and usually to the bit).
+/// of the tape to rounding (and usually to the bit). One rule is ours: a
+/// product scaled twice by powers of two, (x·2ʲ)·2ᵏ, is scaled once,
+/// x·2ʲ⁺ᵏ (dropped when that is 1), which is the same number unless x·2ʲ
+/// alone would overflow or leave the normal range (there the one scaling
+/// is the more accurate). The chains come from the quotient rule on
+/// constant divisors (p²/2 gives (p + p)·2·½·½).
 pub(super) struct DBuilder {
     ins: Vec<DIns>,
     slots: [Option<u32>; VARIABLES.len()],
@@ -110,7 +121,25 @@ impl DBuilder {
             (Sv::C(z), _) | (_, Sv::C(z)) if z == 0.0 => S0,
             (Sv::C(u), o) | (o, Sv::C(u)) if u == 1.0 => o,
             (Sv::C(m), o) | (o, Sv::C(m)) if m == -1.0 => self.neg(o),
+            (Sv::C(c), Sv::R(r)) | (Sv::R(r), Sv::C(c)) if power_of_two(c) => {
+                match self.scaled(r) {
+                    Some((x, k)) if power_of_two(c * k) => self.mul(Sv::R(x), Sv::C(c * k)),
+                    _ => self.bin(DIns::Mul, a, b),
+                }
+            }
             _ => self.bin(DIns::Mul, a, b),
+        }
+    }
+
+    /// (x, k) when register `r` is x·k with k a constant power of two.
+    fn scaled(&self, r: u32) -> Option<(u32, f64)> {
+        let DIns::Mul(a, b) = self.ins[r as usize] else {
+            return None;
+        };
+        match (self.ins[a as usize], self.ins[b as usize]) {
+            (_, DIns::Const(k)) if power_of_two(k) => Some((a, k)),
+            (DIns::Const(k), _) if power_of_two(k) => Some((b, k)),
+            _ => None,
         }
     }
 
@@ -193,6 +222,9 @@ impl DBuilder {
             _ => {
                 let pow3 = match a.v {
                     Sv::C(x) => Sv::C(x.powi(n - 3)),
+                    // x⁰ = 1 and x¹ = x exactly, as the power computes them
+                    Sv::R(_) if n == 3 => S1,
+                    Sv::R(_) if n == 4 => a.v,
                     Sv::R(r) => self.emit(DIns::PowI(r, n - 3)),
                 };
                 let aa = self.mul(pow3, a.v);

@@ -65,24 +65,48 @@ impl DerivativeProgram {
         if regs.regs.len() < n {
             regs.regs.resize(n, [0.0; LANES]);
         }
-        run_instructions(
-            &self.ins,
-            &mut Lanes {
-                r: &mut regs.regs[..n],
-                q,
-                p,
-                t,
-                ts,
-                m,
-                uniform: if ts.is_some() {
-                    &self.fixed
-                } else {
-                    &self.uniform
-                },
-            },
-        );
-        out.copy_from_slice(&regs.regs[n - 1][..m]);
+        let uniform = if ts.is_some() {
+            &self.fixed
+        } else {
+            &self.uniform
+        };
+        let mut lanes = Lanes {
+            r: &mut regs.regs[..n],
+            ins: &self.ins,
+            q,
+            p,
+            t,
+            ts,
+            m,
+            uniform,
+        };
+        run_lane_instructions(&self.ins, &mut lanes);
+        match lanes.result() {
+            Operand::One(x) => out.fill(x),
+            Operand::Each(x) => out.copy_from_slice(x),
+        }
     }
+}
+
+/// [`run_instructions`] over lanes, with the wider vector instructions of
+/// this processor when it has them. Addition, multiplication, division and
+/// the square root are correctly rounded in every width, and no operation is
+/// fused, so the numbers are the same either way.
+fn run_lane_instructions(ins: &[DIns], lanes: &mut Lanes) {
+    #[cfg(target_arch = "x86_64")]
+    if std::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2 (checked just above; the check is
+        // one load of a cached word).
+        unsafe { run_wide(ins, lanes) };
+        return;
+    }
+    run_instructions(ins, lanes);
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn run_wide(ins: &[DIns], lanes: &mut Lanes) {
+    run_instructions(ins, lanes);
 }
 
 /// Most points a derivative program evaluates in one lane pass
@@ -98,11 +122,14 @@ pub struct LaneRegisters {
 
 /// The registers of one evaluation over `m` lanes (points with their own q
 /// and p and one common t). An instruction that reads neither q nor p
-/// (`uniform`) is the same in every lane: it is computed once and copied
-/// across, with the same operation on the same operands, so each lane's
-/// value is exactly that of [`OnePoint`] at its point.
+/// (`uniform`) is the same in every lane: it is computed once, in lane 0
+/// only, and an instruction over the lanes reads such an operand as that one
+/// number. A register that is an input (q, p, or each lane's t) is not
+/// copied: its readers read the input. Each lane's value is so exactly that
+/// of [`OnePoint`] at its point (the same operation on the same operands).
 struct Lanes<'a> {
     r: &'a mut [[f64; LANES]],
+    ins: &'a [DIns],
     q: &'a [f64],
     p: &'a [f64],
     t: f64,
@@ -112,56 +139,115 @@ struct Lanes<'a> {
     uniform: &'a [bool],
 }
 
-impl Lanes<'_> {
-    /// Register `i` (mutable) and the registers before it.
+/// Where the lanes of an operand are: one number for all, or one per lane.
+enum Operand<'b> {
+    One(f64),
+    Each(&'b [f64]),
+}
+
+impl<'a> Lanes<'a> {
+    /// Register `i`'s lanes to write, and a reader of the registers before it.
     #[inline(always)]
-    fn split(&mut self, i: usize) -> (&[[f64; LANES]], &mut [f64]) {
+    fn split(&mut self, i: usize) -> (Reader<'_, 'a>, &mut [f64]) {
         let (lo, hi) = self.r.split_at_mut(i);
-        (lo, &mut hi[0][..self.m])
+        (
+            Reader {
+                lo,
+                ins: self.ins,
+                q: self.q,
+                p: self.p,
+                ts: self.ts,
+                m: self.m,
+                uniform: self.uniform,
+            },
+            &mut hi[0][..self.m],
+        )
+    }
+
+    /// The register or input holding the program's value, over the lanes.
+    fn result(&self) -> Operand<'_> {
+        let last = self.r.len() - 1;
+        Reader {
+            lo: self.r,
+            ins: self.ins,
+            q: self.q,
+            p: self.p,
+            ts: self.ts,
+            m: self.m,
+            uniform: self.uniform,
+        }
+        .operand(last as u32)
+    }
+}
+
+/// Read access to the registers already written.
+struct Reader<'b, 'a> {
+    lo: &'b [[f64; LANES]],
+    ins: &'a [DIns],
+    q: &'a [f64],
+    p: &'a [f64],
+    ts: Option<&'a [f64]>,
+    m: usize,
+    uniform: &'a [bool],
+}
+
+impl<'b> Reader<'b, '_> {
+    #[inline(always)]
+    fn operand(&self, a: u32) -> Operand<'b>
+    where
+        Self: 'b,
+    {
+        let a = a as usize;
+        if self.uniform[a] {
+            return Operand::One(self.lo[a][0]);
+        }
+        Operand::Each(match self.ins[a] {
+            DIns::Slot(s) => match s as usize {
+                SLOT_Q => &self.q[..self.m],
+                SLOT_P => &self.p[..self.m],
+                _ => &self.ts.unwrap_or(&[])[..self.m],
+            },
+            _ => &self.lo[a][..self.m],
+        })
     }
 }
 
 impl Bank for Lanes<'_> {
     #[inline(always)]
-    fn slot(&mut self, i: usize, slot: u8) {
-        let m = self.m;
-        let out = &mut self.r[i][..m];
-        match slot as usize {
-            SLOT_Q => out.copy_from_slice(&self.q[..m]),
-            SLOT_P => out.copy_from_slice(&self.p[..m]),
-            _ => match self.ts {
-                Some(ts) => out.copy_from_slice(&ts[..m]),
-                None => out.fill(self.t),
-            },
+    fn slot(&mut self, i: usize, _slot: u8) {
+        // an input's readers read it where it is (see `Reader::operand`);
+        // a common t is uniform, read from lane 0
+        if self.uniform[i] {
+            self.r[i][0] = self.t;
         }
     }
     #[inline(always)]
     fn constant(&mut self, i: usize, c: f64) {
-        let m = self.m;
-        self.r[i][..m].fill(c);
+        self.r[i][0] = c;
     }
     #[inline(always)]
     fn map1(&mut self, i: usize, a: u32, f: impl Fn(f64) -> f64) {
-        let uniform = self.uniform[i];
         let (lo, out) = self.split(i);
-        let x = &lo[a as usize][..out.len()];
-        if uniform {
-            out.fill(f(x[0]));
-        } else {
-            out.iter_mut().zip(x).for_each(|(o, &x)| *o = f(x));
+        match lo.operand(a) {
+            Operand::One(x) => out[0] = f(x),
+            Operand::Each(x) => out.iter_mut().zip(x).for_each(|(o, &x)| *o = f(x)),
         }
     }
     #[inline(always)]
     fn map2(&mut self, i: usize, a: u32, b: u32, f: impl Fn(f64, f64) -> f64) {
-        let uniform = self.uniform[i];
         let (lo, out) = self.split(i);
-        let m = out.len();
-        let (x, y) = (&lo[a as usize][..m], &lo[b as usize][..m]);
-        if uniform {
-            out.fill(f(x[0], y[0]));
-        } else {
-            for ((o, &x), &y) in out.iter_mut().zip(x).zip(y) {
-                *o = f(x, y);
+        match (lo.operand(a), lo.operand(b)) {
+            (Operand::One(x), Operand::One(y)) => out[0] = f(x, y),
+            (Operand::One(x), Operand::Each(y)) => {
+                out.iter_mut().zip(y).for_each(|(o, &y)| *o = f(x, y));
+            }
+            (Operand::Each(x), Operand::One(y)) => {
+                out.iter_mut().zip(x).for_each(|(o, &x)| *o = f(x, y));
+            }
+            (Operand::Each(x), Operand::Each(y)) => {
+                for ((o, &x), &y) in out.iter_mut().zip(x).zip(y) {
+                    *o = f(x, y);
+                }
             }
         }
     }
@@ -169,11 +255,18 @@ impl Bank for Lanes<'_> {
     fn map4(&mut self, i: usize, r: [u32; 4], f: impl Fn([f64; 4]) -> f64) {
         let uniform = self.uniform[i];
         let (lo, out) = self.split(i);
+        let ops = r.map(|j| lo.operand(j));
+        let at = |k: usize| {
+            ops.each_ref().map(|o| match o {
+                Operand::One(x) => *x,
+                Operand::Each(x) => x[k],
+            })
+        };
         if uniform {
-            out.fill(f(r.map(|j| lo[j as usize][0])));
+            out[0] = f(at(0));
         } else {
             for (k, o) in out.iter_mut().enumerate() {
-                *o = f(r.map(|j| lo[j as usize][k]));
+                *o = f(at(k));
             }
         }
     }
