@@ -72,13 +72,15 @@ impl DerivativeProgram {
         };
         let mut lanes = Lanes {
             r: &mut regs.regs[..n],
-            ins: &self.ins,
-            q,
-            p,
+            inputs: Inputs {
+                ins: &self.ins,
+                q,
+                p,
+                ts,
+                m,
+                uniform,
+            },
             t,
-            ts,
-            m,
-            uniform,
         };
         run_lane_instructions(&self.ins, &mut lanes);
         match lanes.result() {
@@ -129,10 +131,16 @@ pub struct LaneRegisters {
 /// of [`OnePoint`] at its point (the same operation on the same operands).
 struct Lanes<'a> {
     r: &'a mut [[f64; LANES]],
+    inputs: Inputs<'a>,
+    t: f64,
+}
+
+/// What an evaluation reads besides its registers.
+#[derive(Clone, Copy)]
+struct Inputs<'a> {
     ins: &'a [DIns],
     q: &'a [f64],
     p: &'a [f64],
-    t: f64,
     /// Each lane's own t, when they differ (then `uniform` is `fixed`).
     ts: Option<&'a [f64]>,
     m: usize,
@@ -149,19 +157,9 @@ impl<'a> Lanes<'a> {
     /// Register `i`'s lanes to write, and a reader of the registers before it.
     #[inline(always)]
     fn split(&mut self, i: usize) -> (Reader<'_, 'a>, &mut [f64]) {
+        let inputs = self.inputs;
         let (lo, hi) = self.r.split_at_mut(i);
-        (
-            Reader {
-                lo,
-                ins: self.ins,
-                q: self.q,
-                p: self.p,
-                ts: self.ts,
-                m: self.m,
-                uniform: self.uniform,
-            },
-            &mut hi[0][..self.m],
-        )
+        (Reader { lo, inputs }, &mut hi[0][..inputs.m])
     }
 
     /// The register or input holding the program's value, over the lanes.
@@ -169,12 +167,7 @@ impl<'a> Lanes<'a> {
         let last = self.r.len() - 1;
         Reader {
             lo: self.r,
-            ins: self.ins,
-            q: self.q,
-            p: self.p,
-            ts: self.ts,
-            m: self.m,
-            uniform: self.uniform,
+            inputs: self.inputs,
         }
         .operand(last as u32)
     }
@@ -183,12 +176,7 @@ impl<'a> Lanes<'a> {
 /// Read access to the registers already written.
 struct Reader<'b, 'a> {
     lo: &'b [[f64; LANES]],
-    ins: &'a [DIns],
-    q: &'a [f64],
-    p: &'a [f64],
-    ts: Option<&'a [f64]>,
-    m: usize,
-    uniform: &'a [bool],
+    inputs: Inputs<'a>,
 }
 
 impl<'b> Reader<'b, '_> {
@@ -197,17 +185,17 @@ impl<'b> Reader<'b, '_> {
     where
         Self: 'b,
     {
-        let a = a as usize;
-        if self.uniform[a] {
+        let (a, x) = (a as usize, &self.inputs);
+        if x.uniform[a] {
             return Operand::One(self.lo[a][0]);
         }
-        Operand::Each(match self.ins[a] {
+        Operand::Each(match x.ins[a] {
             DIns::Slot(s) => match s as usize {
-                SLOT_Q => &self.q[..self.m],
-                SLOT_P => &self.p[..self.m],
-                _ => &self.ts.unwrap_or(&[])[..self.m],
+                SLOT_Q => &x.q[..x.m],
+                SLOT_P => &x.p[..x.m],
+                _ => &x.ts.unwrap_or(&[])[..x.m],
             },
-            _ => &self.lo[a][..self.m],
+            _ => &self.lo[a][..x.m],
         })
     }
 }
@@ -217,7 +205,7 @@ impl Bank for Lanes<'_> {
     fn slot(&mut self, i: usize, _slot: u8) {
         // an input's readers read it where it is (see `Reader::operand`);
         // a common t is uniform, read from lane 0
-        if self.uniform[i] {
+        if self.inputs.uniform[i] {
             self.r[i][0] = self.t;
         }
     }
@@ -253,7 +241,7 @@ impl Bank for Lanes<'_> {
     }
     #[inline(always)]
     fn map4(&mut self, i: usize, r: [u32; 4], f: impl Fn([f64; 4]) -> f64) {
-        let uniform = self.uniform[i];
+        let uniform = self.inputs.uniform[i];
         let (lo, out) = self.split(i);
         let ops = r.map(|j| lo.operand(j));
         let at = |k: usize| {
